@@ -1,0 +1,10 @@
+/**
+ * Every migration, in order. Listed statically (not read from the folder at run time) so the
+ * same list works under tsx, vitest and a compiled build alike.
+ */
+import type { Migration } from 'kysely';
+import * as records from './0001_records.js';
+
+export const migrations: Record<string, Migration> = {
+  '0001_records': records,
+};

@@ -1,0 +1,48 @@
+/**
+ * Builds the HTTP application from its dependencies without listening, so tests drive it
+ * through `inject` or supertest and `main.ts` alone decides where it listens.
+ */
+import Fastify, { type FastifyInstance } from 'fastify';
+import type { Config } from './config.js';
+import type { DatabaseHandle } from './db/connect.js';
+import { registerErrorHandling } from './http/errors.js';
+import { healthRoutes } from './http/health-routes.js';
+import { ingestRoutes } from './http/ingest-routes.js';
+import { openapiRoutes } from './http/openapi-routes.js';
+import type { Logger } from './logger.js';
+
+export interface AppDependencies {
+  config: Config;
+  database: DatabaseHandle;
+  logger: Logger;
+  /** The clock; tests pass a fixed one. */
+  now?: () => Date;
+}
+
+export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> {
+  const now = deps.now ?? (() => new Date());
+  const app = Fastify({
+    loggerInstance: deps.logger,
+    // Uploads stream through their own size check; this limit covers the small JSON bodies.
+    bodyLimit: 1024 * 1024,
+    ajv: { customOptions: { removeAdditional: false, coerceTypes: 'array', useDefaults: true } },
+    return503OnClosing: true,
+  });
+  registerErrorHandling(app);
+
+  await app.register(healthRoutes({ db: deps.database.readDb }));
+  await app.register(openapiRoutes());
+  await app.register(
+    ingestRoutes({
+      db: deps.database.db,
+      logger: deps.logger,
+      now,
+      limits: {
+        maxBytes: deps.config.maxUploadBytes,
+        maxRows: deps.config.maxUploadRows,
+        progressEveryRows: deps.config.ingestProgressEveryRows,
+      },
+    }),
+  );
+  return app;
+}

@@ -1,0 +1,127 @@
+/**
+ * Every setting of the service, its type and its default, read once at start-up from the
+ * environment. A bad value stops the service with a message that names the variable and
+ * says what would be accepted, rather than surfacing later as an odd failure.
+ */
+import path from 'node:path';
+
+export type DatabaseSettings =
+  | { dialect: 'sqlite'; file: string }
+  | { dialect: 'postgres'; connectionString: string; schema: string };
+
+export type LogLevel = 'fatal' | 'error' | 'warn' | 'info' | 'debug' | 'trace' | 'silent';
+
+export interface Config {
+  host: string;
+  port: number;
+  database: DatabaseSettings;
+  logLevel: LogLevel;
+  /** Largest accepted request body, in bytes. */
+  maxUploadBytes: number;
+  /** Largest number of data rows accepted in one upload. */
+  maxUploadRows: number;
+  /** Rows between two progress log lines during a long upload. */
+  ingestProgressEveryRows: number;
+  /** Cron expression of the weekly refresh. */
+  refreshCron: string;
+  /** IANA time zone in which the refresh cron expression is read. */
+  refreshTimeZone: string;
+  /** Whether the schedule runs in this process at all (off for one-shot tools). */
+  scheduleEnabled: boolean;
+  /** Milliseconds to wait for in-flight requests at shutdown before closing anyway. */
+  shutdownGraceMs: number;
+}
+
+export class ConfigError extends Error {
+  override name = 'ConfigError';
+}
+
+const LOG_LEVELS: readonly LogLevel[] = ['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent'];
+
+export const DEFAULT_SQLITE_FILE = path.join('data', 'segrank.sqlite');
+
+type Environment = Record<string, string | undefined>;
+
+/** Reads the whole configuration from `env`; throws ConfigError naming the first bad variable. */
+export function loadConfig(env: Environment = process.env): Config {
+  return {
+    host: readString(env, 'HOST', '127.0.0.1'),
+    port: readInteger(env, 'PORT', 3000, { min: 0, max: 65_535 }),
+    database: parseDatabaseUrl(env['DATABASE_URL'], env['DATABASE_SCHEMA']),
+    logLevel: readChoice(env, 'LOG_LEVEL', LOG_LEVELS, 'info'),
+    maxUploadBytes: readInteger(env, 'MAX_UPLOAD_BYTES', 256 * 1024 * 1024, { min: 1024, max: 4 * 1024 ** 3 }),
+    maxUploadRows: readInteger(env, 'MAX_UPLOAD_ROWS', 2_000_000, { min: 1, max: 100_000_000 }),
+    ingestProgressEveryRows: readInteger(env, 'INGEST_PROGRESS_EVERY_ROWS', 100_000, { min: 1, max: 100_000_000 }),
+    refreshCron: readString(env, 'REFRESH_CRON', '0 6 * * 1'),
+    refreshTimeZone: readTimeZone(env, 'REFRESH_TIME_ZONE', 'UTC'),
+    scheduleEnabled: readBoolean(env, 'SCHEDULE_ENABLED', true),
+    shutdownGraceMs: readInteger(env, 'SHUTDOWN_GRACE_MS', 10_000, { min: 0, max: 600_000 }),
+  };
+}
+
+/**
+ * A `postgres://` or `postgresql://` URL selects PostgreSQL; anything else is an SQLite file
+ * path (`:memory:` included). Unset means the embedded default file under `./data/`.
+ */
+export function parseDatabaseUrl(url: string | undefined, schema: string | undefined): DatabaseSettings {
+  const value = url?.trim();
+  if (value === undefined || value === '') return { dialect: 'sqlite', file: DEFAULT_SQLITE_FILE };
+  if (/^postgres(ql)?:\/\//i.test(value)) {
+    try {
+      new URL(value);
+    } catch {
+      throw new ConfigError(`DATABASE_URL is not a valid PostgreSQL URL: expected postgres://user@host:port/database`);
+    }
+    const schemaName = schema?.trim() || 'public';
+    if (!/^[a-z_][a-z0-9_]{0,62}$/.test(schemaName)) {
+      throw new ConfigError(`DATABASE_SCHEMA must be a lower-case SQL identifier (letters, digits, _), got "${schemaName}"`);
+    }
+    return { dialect: 'postgres', connectionString: value, schema: schemaName };
+  }
+  if (/^[a-z][a-z0-9+.-]*:\/\//i.test(value)) {
+    throw new ConfigError(`DATABASE_URL scheme is not supported: use postgres://… or an SQLite file path`);
+  }
+  return { dialect: 'sqlite', file: value.replace(/^sqlite:/i, '') };
+}
+
+function readString(env: Environment, name: string, fallback: string): string {
+  const value = env[name]?.trim();
+  return value === undefined || value === '' ? fallback : value;
+}
+
+function readInteger(env: Environment, name: string, fallback: number, range: { min: number; max: number }): number {
+  const raw = env[name]?.trim();
+  if (raw === undefined || raw === '') return fallback;
+  if (!/^\d+$/.test(raw)) throw new ConfigError(`${name} must be a whole number from ${range.min} to ${range.max}, got "${raw}"`);
+  const value = Number(raw);
+  if (value < range.min || value > range.max) {
+    throw new ConfigError(`${name} must be from ${range.min} to ${range.max}, got ${value}`);
+  }
+  return value;
+}
+
+function readBoolean(env: Environment, name: string, fallback: boolean): boolean {
+  const raw = env[name]?.trim().toLowerCase();
+  if (raw === undefined || raw === '') return fallback;
+  if (['1', 'true', 'yes', 'on'].includes(raw)) return true;
+  if (['0', 'false', 'no', 'off'].includes(raw)) return false;
+  throw new ConfigError(`${name} must be true or false, got "${raw}"`);
+}
+
+function readChoice<T extends string>(env: Environment, name: string, choices: readonly T[], fallback: T): T {
+  const raw = env[name]?.trim().toLowerCase();
+  if (raw === undefined || raw === '') return fallback;
+  const match = choices.find((choice) => choice === raw);
+  if (match === undefined) throw new ConfigError(`${name} must be one of ${choices.join(', ')}, got "${raw}"`);
+  return match;
+}
+
+function readTimeZone(env: Environment, name: string, fallback: string): string {
+  const value = readString(env, name, fallback);
+  try {
+    new Intl.DateTimeFormat('en', { timeZone: value });
+  } catch {
+    throw new ConfigError(`${name} must be an IANA time zone such as Europe/Berlin or UTC, got "${value}"`);
+  }
+  return value;
+}

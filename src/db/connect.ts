@@ -1,0 +1,107 @@
+/**
+ * Opens the database named by the configuration. The rest of the code sees only
+ * `Kysely<Database>`; which engine sits behind it is decided here and nowhere else.
+ */
+import fs from 'node:fs';
+import path from 'node:path';
+import SqliteDatabase from 'better-sqlite3';
+import { Kysely, PostgresDialect, SqliteDialect, sql, type LogEvent } from 'kysely';
+import pg from 'pg';
+import type { Logger } from '../logger.js';
+import type { DatabaseSettings } from '../config.js';
+import type { Database } from './tables.js';
+
+export type Dialect = DatabaseSettings['dialect'];
+
+export interface DatabaseHandle {
+  dialect: Dialect;
+  /** Reads and writes. On SQLite this is the single writer connection. */
+  db: Kysely<Database>;
+  /**
+   * Reads that must not wait behind a long upload: on SQLite a second, read-only connection
+   * (WAL lets it read while a write transaction is open); on PostgreSQL the same pool.
+   */
+  readDb: Kysely<Database>;
+  close(): Promise<void>;
+}
+
+// pg returns 64-bit integers and numerics as strings to avoid precision loss; our counts and
+// cent sums stay far below 2^53, so numbers are both exact and convenient here.
+const PG_INT8_OID = 20;
+const PG_NUMERIC_OID = 1700;
+const pgTypes = {
+  getTypeParser(oid: number, format?: 'text' | 'binary') {
+    if (oid === PG_INT8_OID || oid === PG_NUMERIC_OID) return (value: string) => Number(value);
+    return pg.types.getTypeParser(oid, format);
+  },
+};
+
+export async function openDatabase(settings: DatabaseSettings, logger?: Logger): Promise<DatabaseHandle> {
+  const log = logger ? queryLogger(logger) : undefined;
+  if (settings.dialect === 'postgres') return openPostgres(settings.connectionString, settings.schema, log);
+  return openSqlite(settings.file, log);
+}
+
+function openSqlite(file: string, log: ((event: LogEvent) => void) | undefined): DatabaseHandle {
+  const inMemory = file === ':memory:';
+  if (!inMemory) fs.mkdirSync(path.dirname(path.resolve(file)), { recursive: true });
+  const writer = new SqliteDatabase(file);
+  writer.pragma('journal_mode = WAL');
+  // NORMAL in WAL mode keeps the database consistent after a crash; only the last commits
+  // before a power loss may be lost, never half of one.
+  writer.pragma('synchronous = NORMAL');
+  writer.pragma('foreign_keys = ON');
+  writer.pragma('busy_timeout = 5000');
+  const db = new Kysely<Database>({ dialect: new SqliteDialect({ database: writer }), ...(log ? { log } : {}) });
+  if (inMemory) {
+    return { dialect: 'sqlite', db, readDb: db, close: () => db.destroy() };
+  }
+  const reader = new SqliteDatabase(file, { readonly: true });
+  reader.pragma('busy_timeout = 5000');
+  const readDb = new Kysely<Database>({ dialect: new SqliteDialect({ database: reader }), ...(log ? { log } : {}) });
+  return {
+    dialect: 'sqlite',
+    db,
+    readDb,
+    async close() {
+      await readDb.destroy();
+      await db.destroy();
+    },
+  };
+}
+
+async function openPostgres(connectionString: string, schema: string, log: ((event: LogEvent) => void) | undefined): Promise<DatabaseHandle> {
+  if (schema !== 'public') {
+    // The schema must exist before the pool's search_path can point into it.
+    const setup = new pg.Client({ connectionString });
+    await setup.connect();
+    try {
+      await setup.query(`create schema if not exists "${schema}"`);
+    } finally {
+      await setup.end();
+    }
+  }
+  const pool = new pg.Pool({
+    connectionString,
+    max: 10,
+    types: pgTypes,
+    ...(schema !== 'public' ? { options: `-c search_path=${schema}` } : {}),
+  });
+  const db = new Kysely<Database>({ dialect: new PostgresDialect({ pool }), ...(log ? { log } : {}) });
+  return { dialect: 'postgres', db, readDb: db, close: () => db.destroy() };
+}
+
+function queryLogger(logger: Logger): (event: LogEvent) => void {
+  return (event) => {
+    if (event.level === 'error') {
+      logger.warn({ durationMs: event.queryDurationMillis, err: event.error }, 'query failed');
+    } else if (logger.level === 'trace') {
+      logger.trace({ durationMs: event.queryDurationMillis, sql: event.query.sql }, 'query');
+    }
+  };
+}
+
+/** A cheap round trip, used by the health check. */
+export async function pingDatabase(db: Kysely<Database>): Promise<void> {
+  await sql`select 1`.execute(db);
+}

@@ -1,0 +1,26 @@
+import { Migrator, type Kysely, type MigrationProvider } from 'kysely';
+import { migrations } from '../../migrations/index.js';
+import type { DatabaseSettings } from '../config.js';
+import type { Database } from './tables.js';
+
+const provider: MigrationProvider = { getMigrations: async () => migrations };
+
+export class MigrationError extends Error {
+  override name = 'MigrationError';
+}
+
+/** Brings the schema to the newest migration; returns the names applied by this call. */
+export async function migrateToLatest(db: Kysely<Database>, settings: DatabaseSettings): Promise<string[]> {
+  const migrator = new Migrator({
+    db,
+    provider,
+    // Qualify the bookkeeping tables so several schemas on one PostgreSQL server stay apart.
+    ...(settings.dialect === 'postgres' ? { migrationTableSchema: settings.schema } : {}),
+  });
+  const { error, results } = await migrator.migrateToLatest();
+  if (error) {
+    const failed = results?.find((result) => result.status === 'Error')?.migrationName ?? 'unknown';
+    throw new MigrationError(`migration ${failed} failed: ${error instanceof Error ? error.message : String(error)}`);
+  }
+  return (results ?? []).filter((result) => result.status === 'Success').map((result) => result.migrationName);
+}

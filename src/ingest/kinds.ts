@@ -1,0 +1,187 @@
+/**
+ * The three kinds of upload. Each knows its key, its field checks, the checks that need stored
+ * data, and how to write a batch: insert what is new, update what changed, count what did not.
+ */
+import type { Transaction } from 'kysely';
+import type { Database, IngestKind } from '../db/tables.js';
+import { ageInYears } from './fields.js';
+import * as repository from './repository.js';
+import { checkContactFields, checkCustomerFields, checkSaleFields, type ContactRow, type CustomerRow, type RowCheck, type RowError, type SaleRow } from './rows.js';
+
+export interface PendingRow<Row> {
+  row: Row;
+  line: number;
+  rowNumber: number;
+}
+
+export interface BatchOutcome {
+  inserted: number;
+  updated: number;
+  unchanged: number;
+  rejected: Array<{ line: number; rowNumber: number; error: RowError }>;
+}
+
+export interface BatchContext {
+  trx: Transaction<Database>;
+  /** False once an all-or-nothing upload has a bad row: later batches are still checked, never written. */
+  write: boolean;
+  ingestId: string;
+  now: string;
+  campaignId: string | null;
+}
+
+export interface UploadKind<Row> {
+  kind: IngestKind;
+  keyColumn: string;
+  check(fields: Map<string, unknown>, today: string): RowCheck<Row>;
+  key(row: Row): string;
+  applyBatch(context: BatchContext, rows: Array<PendingRow<Row>>): Promise<BatchOutcome>;
+}
+
+function emptyOutcome(): BatchOutcome {
+  return { inserted: 0, updated: 0, unchanged: 0, rejected: [] };
+}
+
+export const customersKind: UploadKind<CustomerRow> = {
+  kind: 'customers',
+  keyColumn: 'customer_id',
+  check: checkCustomerFields,
+  key: (row) => row.customer_id,
+  async applyBatch({ trx, write, ingestId, now }, pending) {
+    const outcome = emptyOutcome();
+    const stored = await repository.findCustomers(trx, pending.map((item) => item.row.customer_id));
+    const inserts: Database['customers'][] = [];
+    const attributeInserts: Array<{ customer_id: string; name: string; value: string }> = [];
+    const birthDateChanged: string[] = [];
+    for (const { row } of pending) {
+      const existing = stored.get(row.customer_id);
+      const record = {
+        customer_id: row.customer_id,
+        birth_date: row.birth_date,
+        region: row.region,
+        channel: row.channel,
+        customer_type: row.customer_type,
+        created_at: now,
+        updated_at: now,
+        last_ingest_id: ingestId,
+      };
+      if (!existing) {
+        outcome.inserted += 1;
+        inserts.push(record);
+        for (const [name, value] of row.attributes) if (value !== null) attributeInserts.push({ customer_id: row.customer_id, name, value });
+        continue;
+      }
+      const attributesChanged = [...row.attributes].some(([name, value]) => (existing.attributes.get(name) ?? null) !== value);
+      const fieldsChanged =
+        existing.birth_date !== row.birth_date || existing.region !== row.region || existing.channel !== row.channel || existing.customer_type !== row.customer_type;
+      if (!fieldsChanged && !attributesChanged) {
+        outcome.unchanged += 1;
+        continue;
+      }
+      outcome.updated += 1;
+      if (!write) continue;
+      if (fieldsChanged) await repository.updateCustomer(trx, record);
+      if (attributesChanged) await repository.setCustomerAttributes(trx, row.customer_id, row.attributes);
+      if (existing.birth_date !== row.birth_date) birthDateChanged.push(row.customer_id);
+    }
+    if (write) {
+      await repository.insertCustomers(trx, inserts);
+      await repository.insertCustomerAttributes(trx, attributeInserts);
+      await repository.refreshContactAges(trx, birthDateChanged);
+    }
+    return outcome;
+  },
+};
+
+export const salesKind: UploadKind<SaleRow> = {
+  kind: 'sales',
+  keyColumn: 'sale_id',
+  check: checkSaleFields,
+  key: (row) => row.sale_id,
+  async applyBatch({ trx, write, ingestId }, pending) {
+    const outcome = emptyOutcome();
+    const birthDates = await repository.findBirthDates(trx, unique(pending.map((item) => item.row.customer_id)));
+    const stored = await repository.findSales(trx, pending.map((item) => item.row.sale_id));
+    const inserts: Database['sales'][] = [];
+    for (const { row, line, rowNumber } of pending) {
+      const problem = checkAgainstCustomer(row.customer_id, row.sold_at, 'sold_at', birthDates);
+      if (problem) {
+        outcome.rejected.push({ line, rowNumber, error: problem });
+        continue;
+      }
+      const record = { ...row, last_ingest_id: ingestId };
+      const existing = stored.get(row.sale_id);
+      if (!existing) {
+        outcome.inserted += 1;
+        inserts.push(record);
+      } else if (existing.customer_id === row.customer_id && existing.sold_at === row.sold_at && Number(existing.amount_cents) === row.amount_cents) {
+        outcome.unchanged += 1;
+      } else {
+        outcome.updated += 1;
+        if (write) await repository.updateSale(trx, record);
+      }
+    }
+    if (write) await repository.insertSales(trx, inserts);
+    return outcome;
+  },
+};
+
+export const contactsKind: UploadKind<ContactRow> = {
+  kind: 'contacts',
+  keyColumn: 'customer_id',
+  check: checkContactFields,
+  key: (row) => row.customer_id,
+  async applyBatch({ trx, write, ingestId, campaignId }, pending) {
+    if (campaignId === null) throw new Error('a contacts upload needs its campaign id');
+    const outcome = emptyOutcome();
+    const customerIds = pending.map((item) => item.row.customer_id);
+    const birthDates = await repository.findBirthDates(trx, customerIds);
+    const stored = await repository.findContacts(trx, campaignId, customerIds);
+    const inserts: Database['campaign_contacts'][] = [];
+    for (const { row, line, rowNumber } of pending) {
+      const problem = checkAgainstCustomer(row.customer_id, row.contacted_at, 'contacted_at', birthDates);
+      if (problem) {
+        outcome.rejected.push({ line, rowNumber, error: problem });
+        continue;
+      }
+      const birthDate = birthDates.get(row.customer_id) ?? null;
+      const record = {
+        campaign_id: campaignId,
+        ...row,
+        age_at_contact: birthDate === null ? null : ageInYears(birthDate, row.contacted_at),
+        last_ingest_id: ingestId,
+      };
+      const existing = stored.get(row.customer_id);
+      if (!existing) {
+        outcome.inserted += 1;
+        inserts.push(record);
+      } else if (
+        existing.contacted_at === row.contacted_at &&
+        Number(existing.converted) === row.converted &&
+        Number(existing.revenue_cents) === row.revenue_cents
+      ) {
+        outcome.unchanged += 1;
+      } else {
+        outcome.updated += 1;
+        if (write) await repository.updateContact(trx, record);
+      }
+    }
+    if (write) await repository.insertContacts(trx, inserts);
+    return outcome;
+  },
+};
+
+function checkAgainstCustomer(customerId: string, eventDate: string, dateColumn: string, birthDates: Map<string, string | null>): RowError | null {
+  if (!birthDates.has(customerId)) {
+    return { column: 'customer_id', value: customerId, reason: `customer_id ${customerId} is not a known customer; upload the customer first` };
+  }
+  const birthDate = birthDates.get(customerId);
+  if (birthDate && eventDate < birthDate) {
+    return { column: dateColumn, value: eventDate, reason: `${dateColumn} ${eventDate} is before the customer's birth date ${birthDate}` };
+  }
+  return null;
+}
+
+function unique(values: string[]): string[] {
+  return [...new Set(values)];
+}

@@ -1,0 +1,316 @@
+/**
+ * Turns an upload body into a stream of records, one at a time, so that a 200 MB upload is
+ * never held whole in memory. Three formats: CSV with a header row, a JSON array of objects,
+ * and NDJSON (one object per line). Each record carries its 1-based row number and the line
+ * of the upload on which it starts, so every later error can point at it.
+ */
+import { Readable } from 'node:stream';
+import { parse as parseCsv } from 'csv-parse';
+import { normalizeColumnName } from './columns.js';
+
+export type UploadFormat = 'csv' | 'json' | 'ndjson';
+
+export interface ParsedRecord {
+  /** 1-based position among the data rows (the CSV header is not a row). */
+  row: number;
+  /** 1-based line of the upload on which the record starts. */
+  line: number;
+  /** Field values keyed by normalized column name; values are raw (strings from CSV, JSON scalars otherwise). */
+  fields: Map<string, unknown>;
+  /** A problem that makes the whole record unusable (ragged row, not an object…), if any. */
+  defect?: { column: string | null; value: string | null; reason: string };
+}
+
+/** The body cannot be read as the declared format at all; no row-level recovery is possible. */
+export class MalformedBodyError extends Error {
+  override name = 'MalformedBodyError';
+  constructor(
+    message: string,
+    readonly line: number | null,
+  ) {
+    super(message);
+  }
+}
+
+export interface ParseLimits {
+  /** Longest CSV field, JSON row or NDJSON line accepted, in characters. */
+  maxRecordChars: number;
+  /** Most columns a header may name. */
+  maxColumns: number;
+}
+
+export const DEFAULT_PARSE_LIMITS: ParseLimits = { maxRecordChars: 1_000_000, maxColumns: 200 };
+
+export function formatFromContentType(contentType: string | undefined): UploadFormat | null {
+  const mediaType = contentType?.split(';')[0]?.trim().toLowerCase();
+  switch (mediaType) {
+    case 'text/csv':
+      return 'csv';
+    case 'application/json':
+      return 'json';
+    case 'application/x-ndjson':
+    case 'application/ndjson':
+    case 'application/jsonl':
+      return 'ndjson';
+    default:
+      return null;
+  }
+}
+
+export function parseRecords(body: Readable, format: UploadFormat, limits: ParseLimits = DEFAULT_PARSE_LIMITS): AsyncGenerator<ParsedRecord> {
+  switch (format) {
+    case 'csv':
+      return parseCsvRecords(body, limits);
+    case 'json':
+      return parseJsonArrayRecords(body, limits);
+    case 'ndjson':
+      return parseNdjsonRecords(body, limits);
+  }
+}
+
+async function* parseCsvRecords(body: Readable, limits: ParseLimits): AsyncGenerator<ParsedRecord> {
+  const text = Readable.from(decodeUtf8(body, 'CSV'));
+  const parser = text.pipe(
+    parseCsv({
+      bom: true,
+      skip_empty_lines: true,
+      relax_column_count: true,
+      info: true,
+      raw: true,
+      max_record_size: limits.maxRecordChars,
+    }),
+  );
+  // A failure of the source stream does not travel through pipe(); hand it to the parser.
+  text.once('error', (error) => parser.destroy(error));
+  let header: string[] | null = null;
+  let row = 0;
+  try {
+    for await (const item of parser as AsyncIterable<{ record: string[]; info: { lines: number }; raw: string }>) {
+      const newlinesInside = countNewlines(item.raw.replace(/\r?\n$|\r$/, ''));
+      const line = item.info.lines - newlinesInside;
+      if (header === null) {
+        header = readHeader(item.record, line, limits);
+        continue;
+      }
+      row += 1;
+      const fields = new Map<string, unknown>();
+      header.forEach((name, index) => {
+        const value = item.record[index];
+        if (value !== undefined) fields.set(name, value);
+      });
+      const record: ParsedRecord = { row, line, fields };
+      if (item.record.length !== header.length) {
+        record.defect = {
+          column: null,
+          value: null,
+          reason: `row has ${item.record.length} fields but the header names ${header.length} columns`,
+        };
+      }
+      yield record;
+    }
+  } catch (error) {
+    throw toMalformed(error, 'CSV');
+  }
+  if (header === null) throw new MalformedBodyError('the upload is empty: a CSV upload needs a header row', 1);
+}
+
+function readHeader(names: string[], line: number, limits: ParseLimits): string[] {
+  if (names.length > limits.maxColumns) {
+    throw new MalformedBodyError(`the header names ${names.length} columns; at most ${limits.maxColumns} are accepted`, line);
+  }
+  const normalized = names.map(normalizeColumnName);
+  const seen = new Set<string>();
+  normalized.forEach((name, index) => {
+    if (name === '') throw new MalformedBodyError(`header column ${index + 1} has no name`, line);
+    if (seen.has(name)) throw new MalformedBodyError(`the header names column "${name}" twice`, line);
+    seen.add(name);
+  });
+  return normalized;
+}
+
+async function* parseNdjsonRecords(body: Readable, limits: ParseLimits): AsyncGenerator<ParsedRecord> {
+  let row = 0;
+  for await (const { text, line } of splitLines(body, limits)) {
+    if (text.trim() === '') continue;
+    row += 1;
+    yield objectRecord(parseJsonText(text, line), row, line);
+  }
+}
+
+async function* parseJsonArrayRecords(body: Readable, limits: ParseLimits): AsyncGenerator<ParsedRecord> {
+  let row = 0;
+  for await (const { text, line } of splitJsonArray(body, limits)) {
+    row += 1;
+    yield objectRecord(parseJsonText(text, line), row, line);
+  }
+}
+
+function parseJsonText(text: string, line: number): unknown {
+  try {
+    // JSON.parse keeps "__proto__" and "constructor" as plain own keys; they are later
+    // treated as ordinary (unknown) column names and never touch any prototype.
+    return JSON.parse(text);
+  } catch (error) {
+    throw new MalformedBodyError(`invalid JSON: ${error instanceof Error ? error.message : String(error)}`, line);
+  }
+}
+
+function objectRecord(value: unknown, row: number, line: number): ParsedRecord {
+  const fields = new Map<string, unknown>();
+  if (value === null || typeof value !== 'object' || Array.isArray(value)) {
+    return { row, line, fields, defect: { column: null, value: null, reason: 'each row must be a JSON object of column names to values' } };
+  }
+  const seen = new Set<string>();
+  for (const [key, fieldValue] of Object.entries(value)) {
+    const name = normalizeColumnName(key);
+    if (seen.has(name)) {
+      return { row, line, fields, defect: { column: name, value: null, reason: `column "${name}" appears twice in this row` } };
+    }
+    seen.add(name);
+    fields.set(name, fieldValue);
+  }
+  return { row, line, fields };
+}
+
+async function* splitLines(body: Readable, limits: ParseLimits): AsyncGenerator<{ text: string; line: number }> {
+  const decoder = new TextDecoder('utf-8', { fatal: true, ignoreBOM: false });
+  let pending = '';
+  let line = 1;
+  try {
+    for await (const chunk of body as AsyncIterable<Buffer>) {
+      pending += decoder.decode(chunk, { stream: true });
+      let newline = pending.indexOf('\n');
+      while (newline !== -1) {
+        yield { text: pending.slice(0, newline).replace(/\r$/, ''), line };
+        line += 1;
+        pending = pending.slice(newline + 1);
+        newline = pending.indexOf('\n');
+      }
+      if (pending.length > limits.maxRecordChars) {
+        throw new MalformedBodyError(`line is longer than ${limits.maxRecordChars} characters`, line);
+      }
+    }
+    pending += decoder.decode();
+  } catch (error) {
+    throw toMalformed(error, 'NDJSON', line);
+  }
+  if (pending !== '') yield { text: pending.replace(/\r$/, ''), line };
+}
+
+/**
+ * Splits a top-level JSON array into the text of its elements by tracking string and nesting
+ * state, so each element can be handed to JSON.parse on its own. Rows must be flat objects;
+ * nesting deeper than that is refused as soon as it is seen rather than after buffering it.
+ */
+async function* splitJsonArray(body: Readable, limits: ParseLimits): AsyncGenerator<{ text: string; line: number }> {
+  const maxDepth = 3; // array → row object → one level inside a value, which row validation then rejects
+  const decoder = new TextDecoder('utf-8', { fatal: true, ignoreBOM: false });
+  let depth = 0;
+  let inString = false;
+  let escaped = false;
+  let sawArray = false;
+  let finished = false;
+  let element = '';
+  let elementStart = -1;
+  let elementLine = 1;
+  let line = 1;
+  const fail = (message: string): never => {
+    throw new MalformedBodyError(message, line);
+  };
+  try {
+    for await (const chunk of body as AsyncIterable<Buffer>) {
+      const text = decoder.decode(chunk, { stream: true });
+      for (let index = 0; index < text.length; index++) {
+        const char = text[index] as string;
+        if (char === '\n') line += 1;
+        if (inString) {
+          if (escaped) escaped = false;
+          else if (char === '\\') escaped = true;
+          else if (char === '"') inString = false;
+          continue;
+        }
+        if (char === ' ' || char === '\t' || char === '\n' || char === '\r') continue;
+        if (finished) fail('unexpected content after the closing ] of the array');
+        if (!sawArray) {
+          if (char !== '[') fail('a JSON upload must be an array of row objects, starting with [');
+          sawArray = true;
+          depth = 1;
+          continue;
+        }
+        if (depth === 1) {
+          if (char === ',') {
+            if (elementStart === -1 && element === '') fail('unexpected comma in the array');
+            continue;
+          }
+          if (char === ']') {
+            depth = 0;
+            finished = true;
+            continue;
+          }
+          if (char !== '{') fail('each element of the array must be a row object in braces');
+          elementStart = index;
+          elementLine = line;
+          element = '';
+        }
+        if (char === '"') inString = true;
+        else if (char === '{' || char === '[') {
+          depth += 1;
+          if (depth > maxDepth) fail('rows must be flat objects; nesting this deep is not accepted');
+        } else if (char === '}' || char === ']') {
+          depth -= 1;
+        }
+        if (depth === 1 && elementStart !== -1) {
+          const completed = element + text.slice(elementStart, index + 1);
+          element = '';
+          elementStart = -1;
+          yield { text: completed, line: elementLine };
+        }
+      }
+      if (elementStart !== -1) {
+        element += text.slice(elementStart);
+        elementStart = 0;
+        if (element.length > limits.maxRecordChars) fail(`a row is longer than ${limits.maxRecordChars} characters`);
+      }
+    }
+    decoder.decode();
+  } catch (error) {
+    throw toMalformed(error, 'JSON', line);
+  }
+  if (!sawArray) throw new MalformedBodyError('the upload is empty: expected a JSON array of row objects', 1);
+  if (!finished) throw new MalformedBodyError('the JSON array is not closed (missing ])', line);
+}
+
+/** Decodes strictly: text that is not UTF-8 (UTF-16, binary) is refused rather than turned into replacement characters. */
+async function* decodeUtf8(body: Readable, format: string): AsyncGenerator<string> {
+  const decoder = new TextDecoder('utf-8', { fatal: true, ignoreBOM: false });
+  try {
+    for await (const chunk of body as AsyncIterable<Buffer>) {
+      const text = decoder.decode(chunk, { stream: true });
+      if (text.includes('\u0000')) throw new MalformedBodyError(`the ${format} body contains NUL bytes; is it binary or UTF-16?`, null);
+      if (text !== '') yield text;
+    }
+    const rest = decoder.decode();
+    if (rest !== '') yield rest;
+  } catch (error) {
+    throw toMalformed(error, format);
+  }
+}
+
+function countNewlines(text: string): number {
+  let count = 0;
+  for (let index = text.indexOf('\n'); index !== -1; index = text.indexOf('\n', index + 1)) count += 1;
+  return count;
+}
+
+function toMalformed(error: unknown, format: string, line: number | null = null): Error {
+  if (error instanceof MalformedBodyError) return error;
+  if (error instanceof TypeError && /decode|encoded/i.test(error.message)) {
+    return new MalformedBodyError(`the ${format} body is not valid UTF-8 text`, line);
+  }
+  const details = error as { code?: unknown; lines?: unknown; message?: unknown };
+  if (typeof details.code === 'string' && details.code.startsWith('CSV_')) {
+    const csvLine = typeof details.lines === 'number' ? details.lines : line;
+    return new MalformedBodyError(`invalid CSV: ${String(details.message)}`, csvLine);
+  }
+  return error instanceof Error ? error : new Error(String(error));
+}

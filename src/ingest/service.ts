@@ -1,0 +1,265 @@
+/**
+ * One upload from body to receipt: parse as a stream, check each row, write in batches inside
+ * one transaction, and record the receipt. Either the whole upload lands (with its rejected
+ * rows listed, in skip mode) or nothing of it does.
+ */
+import { createHash, randomUUID } from 'node:crypto';
+import { Transform, type Readable, type TransformCallback } from 'node:stream';
+import type { Kysely } from 'kysely';
+import type { Logger } from '../logger.js';
+import type { Database, IngestKind, IngestsTable, OnError, RejectedRowsTable } from '../db/tables.js';
+import { contactsKind, customersKind, salesKind, type PendingRow, type UploadKind } from './kinds.js';
+import { DEFAULT_PARSE_LIMITS, parseRecords, type ParsedRecord, type UploadFormat } from './parse.js';
+import * as repository from './repository.js';
+import type { RowError } from './rows.js';
+
+export interface IngestLimits {
+  maxBytes: number;
+  maxRows: number;
+  progressEveryRows: number;
+}
+
+export interface IngestDependencies {
+  db: Kysely<Database>;
+  logger: Logger;
+  limits: IngestLimits;
+  now: () => Date;
+}
+
+export interface UploadRequest {
+  kind: IngestKind;
+  campaignId: string | null;
+  body: Readable;
+  format: UploadFormat;
+  contentType: string;
+  onError: OnError;
+  idempotencyKey: string | null;
+}
+
+export interface Receipt {
+  ingest_id: string;
+  kind: IngestKind;
+  campaign_id: string | null;
+  on_error: OnError;
+  content_type: string;
+  rows: number;
+  inserted: number;
+  updated: number;
+  unchanged: number;
+  rejected: number;
+  sha256: string;
+  idempotency_key: string | null;
+  received_at: string;
+  duration_ms: number;
+}
+
+export interface RowProblem extends RowError {
+  row: number;
+  line: number;
+}
+
+/** The upload held bad rows and was all-or-nothing: nothing was written. */
+export class RowsRejectedError extends Error {
+  override name = 'RowsRejectedError';
+  constructor(
+    readonly problems: RowProblem[],
+    readonly rejectedCount: number,
+    readonly rowCount: number,
+  ) {
+    super(`${rejectedCount} of ${rowCount} rows are invalid; nothing was written`);
+  }
+}
+
+export class UploadTooLargeError extends Error {
+  override name = 'UploadTooLargeError';
+  constructor(readonly limitBytes: number) {
+    super(`the upload is larger than ${limitBytes} bytes`);
+  }
+}
+
+export class TooManyRowsError extends Error {
+  override name = 'TooManyRowsError';
+  constructor(readonly limitRows: number) {
+    super(`the upload has more than ${limitRows} rows`);
+  }
+}
+
+export class EmptyUploadError extends Error {
+  override name = 'EmptyUploadError';
+}
+
+export class IdempotencyConflictError extends Error {
+  override name = 'IdempotencyConflictError';
+}
+
+/** Most row problems listed in a rejection response; the count covers all of them. */
+export const MAX_LISTED_PROBLEMS = 100;
+const BATCH_ROWS = 2_000;
+
+const KINDS: Record<IngestKind, UploadKind<unknown>> = {
+  customers: customersKind as UploadKind<unknown>,
+  sales: salesKind as UploadKind<unknown>,
+  contacts: contactsKind as UploadKind<unknown>,
+};
+
+export async function ingestUpload(deps: IngestDependencies, request: UploadRequest): Promise<{ receipt: Receipt; replayed: boolean }> {
+  const started = performance.now();
+  const meter = new BodyMeter(deps.limits.maxBytes);
+  const body = request.body.pipe(meter);
+  request.body.once('error', (error) => body.destroy(error));
+
+  if (request.idempotencyKey !== null) {
+    const earlier = await repository.findIngestByIdempotencyKey(deps.db, request.idempotencyKey);
+    if (earlier) {
+      await drain(body);
+      if (earlier.sha256 !== meter.sha256()) {
+        throw new IdempotencyConflictError('this Idempotency-Key was used for an upload with a different body');
+      }
+      return { receipt: toReceipt(earlier), replayed: true };
+    }
+  }
+
+  const kind = KINDS[request.kind];
+  const ingestId = randomUUID();
+  const receivedAt = deps.now().toISOString();
+  const today = receivedAt.slice(0, 10);
+  const log = deps.logger.child({ ingestId, kind: request.kind, campaignId: request.campaignId });
+  log.info({ format: request.format, onError: request.onError }, 'upload started');
+
+  const receipt = await deps.db.transaction().execute(async (trx) => {
+    if (request.campaignId !== null) await repository.ensureCampaign(trx, request.campaignId, receivedAt);
+    const seenKeys = new Map<string, number>();
+    const problems: RowProblem[] = [];
+    const rejectedRows: RejectedRowsTable[] = [];
+    const totals = { rows: 0, inserted: 0, updated: 0, unchanged: 0, rejected: 0 };
+    let write = true;
+    let nextProgress = deps.limits.progressEveryRows;
+
+    const reject = (rowNumber: number, line: number, errors: RowError[]) => {
+      totals.rejected += 1;
+      for (const error of errors) {
+        if (request.onError === 'reject') {
+          write = false;
+          if (problems.length < MAX_LISTED_PROBLEMS) problems.push({ row: rowNumber, line, ...error });
+        } else {
+          rejectedRows.push({ ingest_id: ingestId, ordinal: rejectedRows.length + 1, line, column_name: error.column, value: error.value, reason: error.reason });
+        }
+      }
+    };
+
+    let batch: Array<PendingRow<unknown>> = [];
+    const flush = async () => {
+      if (batch.length === 0) return;
+      const outcome = await kind.applyBatch({ trx, write, ingestId, now: receivedAt, campaignId: request.campaignId }, batch);
+      totals.inserted += outcome.inserted;
+      totals.updated += outcome.updated;
+      totals.unchanged += outcome.unchanged;
+      for (const { rowNumber, line, error } of outcome.rejected) reject(rowNumber, line, [error]);
+      batch = [];
+    };
+
+    for await (const record of parseRecords(body, request.format, DEFAULT_PARSE_LIMITS)) {
+      totals.rows = record.row;
+      if (record.row > deps.limits.maxRows) throw new TooManyRowsError(deps.limits.maxRows);
+      const checked = checkRecord(kind, record, today);
+      if (!checked.ok) {
+        reject(record.row, record.line, checked.errors);
+      } else {
+        const key = kind.key(checked.row);
+        const firstLine = seenKeys.get(key);
+        if (firstLine !== undefined) {
+          reject(record.row, record.line, [{ column: kind.keyColumn, value: key, reason: `${kind.keyColumn} ${key} appears twice in this upload (first on line ${firstLine})` }]);
+        } else {
+          seenKeys.set(key, record.line);
+          batch.push({ row: checked.row, line: record.line, rowNumber: record.row });
+          if (batch.length >= BATCH_ROWS) await flush();
+        }
+      }
+      if (record.row >= nextProgress) {
+        const seconds = (performance.now() - started) / 1000;
+        log.info({ rows: record.row, rowsPerSecond: Math.round(record.row / seconds), megabytes: Math.round(meter.bytes / 1e5) / 10 }, 'upload progress');
+        nextProgress += deps.limits.progressEveryRows;
+      }
+    }
+    await flush();
+    if (totals.rows === 0) throw new EmptyUploadError('the upload holds no data rows');
+    if (request.onError === 'reject' && totals.rejected > 0) {
+      throw new RowsRejectedError(problems, totals.rejected, totals.rows);
+    }
+
+    const stored: IngestsTable = {
+      ingest_id: ingestId,
+      kind: request.kind,
+      campaign_id: request.campaignId,
+      on_error: request.onError,
+      content_type: request.contentType,
+      rows_received: totals.rows,
+      inserted: totals.inserted,
+      updated: totals.updated,
+      unchanged: totals.unchanged,
+      rejected: totals.rejected,
+      sha256: meter.sha256(),
+      idempotency_key: request.idempotencyKey,
+      received_at: receivedAt,
+      duration_ms: Math.round(performance.now() - started),
+    };
+    await repository.insertIngest(trx, stored);
+    await repository.insertRejectedRows(trx, rejectedRows);
+    return toReceipt(stored);
+  });
+
+  const seconds = receipt.duration_ms / 1000;
+  log.info({ ...receipt, rowsPerSecond: seconds > 0 ? Math.round(receipt.rows / seconds) : null }, 'upload stored');
+  return { receipt, replayed: false };
+}
+
+function checkRecord(kind: UploadKind<unknown>, record: ParsedRecord, today: string) {
+  if (record.defect) return { ok: false as const, errors: [record.defect] };
+  return kind.check(record.fields, today);
+}
+
+export function toReceipt(row: IngestsTable): Receipt {
+  return {
+    ingest_id: row.ingest_id,
+    kind: row.kind,
+    campaign_id: row.campaign_id,
+    on_error: row.on_error,
+    content_type: row.content_type,
+    rows: Number(row.rows_received),
+    inserted: Number(row.inserted),
+    updated: Number(row.updated),
+    unchanged: Number(row.unchanged),
+    rejected: Number(row.rejected),
+    sha256: row.sha256,
+    idempotency_key: row.idempotency_key,
+    received_at: row.received_at,
+    duration_ms: Number(row.duration_ms),
+  };
+}
+
+/** Counts and hashes the body as it streams past, and stops it at the size limit. */
+class BodyMeter extends Transform {
+  bytes = 0;
+  private readonly hash = createHash('sha256');
+  constructor(private readonly limitBytes: number) {
+    super();
+  }
+  override _transform(chunk: Buffer, _encoding: BufferEncoding, callback: TransformCallback): void {
+    this.bytes += chunk.length;
+    if (this.bytes > this.limitBytes) {
+      callback(new UploadTooLargeError(this.limitBytes));
+      return;
+    }
+    this.hash.update(chunk);
+    callback(null, chunk);
+  }
+  sha256(): string {
+    return this.hash.copy().digest('hex');
+  }
+}
+
+async function drain(stream: Readable): Promise<void> {
+  for await (const _chunk of stream) {
+    // reading is the point: the meter hashes what passes
+  }
+}
