@@ -11,6 +11,17 @@ import { ingestRoutes } from './http/ingest-routes.js';
 import { openapiRoutes } from './http/openapi-routes.js';
 import type { Logger } from './logger.js';
 
+export interface RegisteredRoute {
+  method: string;
+  url: string;
+}
+
+declare module 'fastify' {
+  interface FastifyInstance {
+    registeredRoutes: RegisteredRoute[];
+  }
+}
+
 export interface AppDependencies {
   config: Config;
   database: DatabaseHandle;
@@ -29,6 +40,12 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
     return503OnClosing: true,
   });
   registerErrorHandling(app);
+  // The route list lets the contract test compare what is served with openapi.yaml.
+  const routes: RegisteredRoute[] = [];
+  app.decorate('registeredRoutes', routes);
+  app.addHook('onRoute', (route) => {
+    for (const method of [route.method].flat()) if (method !== 'HEAD') routes.push({ method, url: route.url });
+  });
 
   await app.register(healthRoutes({ db: deps.database.readDb }));
   await app.register(openapiRoutes());

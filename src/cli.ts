@@ -1,0 +1,39 @@
+/**
+ * The `segrank` command line: `segrank demo`, and the operator commands added beside it.
+ * Each command reads the same configuration (DATABASE_URL …) as the service.
+ */
+import { ConfigError, loadConfig, type Config } from './config.js';
+
+type Command = (args: string[], config: Config) => Promise<number>;
+
+const commands: Record<string, { summary: string; run: Command }> = {
+  demo: {
+    summary: 'create the database, load the invented demo data, start the service and print URLs to try',
+    run: async (args, config) => (await import('../seed/demo.js')).runDemo(args, config),
+  },
+};
+
+function usage(): string {
+  const lines = Object.entries(commands).map(([name, { summary }]) => `  segrank ${name.padEnd(10)} ${summary}`);
+  return ['usage:', ...lines].join('\n');
+}
+
+async function main(argv: string[]): Promise<number> {
+  const [name, ...args] = argv;
+  const command = name === undefined ? undefined : commands[name];
+  if (command === undefined) {
+    console.error(usage());
+    return name === undefined || name === 'help' || name === '--help' ? 0 : 64;
+  }
+  try {
+    return await command.run(args, loadConfig());
+  } catch (error) {
+    if (error instanceof ConfigError) {
+      console.error(`segrank: configuration error: ${error.message}`);
+      return 78;
+    }
+    throw error;
+  }
+}
+
+process.exitCode = await main(process.argv.slice(2));
