@@ -7,6 +7,7 @@ import type { DemoData } from './generate.js';
 
 export interface LoadedReceipt {
   what: string;
+  ingest_id: string;
   rows: number;
   inserted: number;
   updated: number;
@@ -25,7 +26,7 @@ export async function loadDemoData(app: FastifyInstance, data: DemoData, headers
     const response = await app.inject({ method: 'POST', url: upload.url, headers: { 'content-type': 'text/csv', ...headers }, payload: upload.body });
     if (response.statusCode >= 300) throw new Error(`loading ${upload.what} failed with ${response.statusCode}: ${response.body}`);
     const receipt = response.json() as Omit<LoadedReceipt, 'what'>;
-    receipts.push({ what: upload.what, rows: receipt.rows, inserted: receipt.inserted, updated: receipt.updated, unchanged: receipt.unchanged, rejected: receipt.rejected });
+    receipts.push({ what: upload.what, ingest_id: receipt.ingest_id, rows: receipt.rows, inserted: receipt.inserted, updated: receipt.updated, unchanged: receipt.unchanged, rejected: receipt.rejected });
   }
   return receipts;
 }

@@ -5,6 +5,7 @@
 import Fastify, { type FastifyInstance } from 'fastify';
 import type { Config } from './config.js';
 import type { DatabaseHandle } from './db/connect.js';
+import { registerAuth } from './http/auth.js';
 import { registerErrorHandling } from './http/errors.js';
 import { healthRoutes } from './http/health-routes.js';
 import { ingestRoutes } from './http/ingest-routes.js';
@@ -47,6 +48,7 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
     for (const method of [route.method].flat()) if (method !== 'HEAD') routes.push({ method, url: route.url });
   });
 
+  registerAuth(app, { db: deps.database.readDb, mode: deps.config.authMode });
   await app.register(healthRoutes({ db: deps.database.readDb }));
   await app.register(openapiRoutes());
   await app.register(

@@ -7,6 +7,10 @@ import { ConfigError, loadConfig, type Config } from './config.js';
 type Command = (args: string[], config: Config) => Promise<number>;
 
 const commands: Record<string, { summary: string; run: Command }> = {
+  keys: {
+    summary: 'create, list or revoke API keys (keys create --role read|ingest|admin --name NAME)',
+    run: async (args, config) => (await import('./auth/commands.js')).keysCommand(args, config),
+  },
   demo: {
     summary: 'create the database, load the invented demo data, start the service and print URLs to try',
     run: async (args, config) => (await import('../seed/demo.js')).runDemo(args, config),

@@ -30,6 +30,11 @@ export interface Config {
   scheduleEnabled: boolean;
   /** Milliseconds to wait for in-flight requests at shutdown before closing anyway. */
   shutdownGraceMs: number;
+  /**
+   * `keys`: every non-public route needs an API key. `open`: no keys, for a demo on this
+   * machine only — refused unless the service listens on a loopback address.
+   */
+  authMode: 'keys' | 'open';
 }
 
 export class ConfigError extends Error {
@@ -44,8 +49,9 @@ type Environment = Record<string, string | undefined>;
 
 /** Reads the whole configuration from `env`; throws ConfigError naming the first bad variable. */
 export function loadConfig(env: Environment = process.env): Config {
+  const host = readString(env, 'HOST', '127.0.0.1');
   return {
-    host: readString(env, 'HOST', '127.0.0.1'),
+    host,
     port: readInteger(env, 'PORT', 3000, { min: 0, max: 65_535 }),
     database: parseDatabaseUrl(env['DATABASE_URL'], env['DATABASE_SCHEMA']),
     logLevel: readChoice(env, 'LOG_LEVEL', LOG_LEVELS, 'info'),
@@ -56,7 +62,20 @@ export function loadConfig(env: Environment = process.env): Config {
     refreshTimeZone: readTimeZone(env, 'REFRESH_TIME_ZONE', 'UTC'),
     scheduleEnabled: readBoolean(env, 'SCHEDULE_ENABLED', true),
     shutdownGraceMs: readInteger(env, 'SHUTDOWN_GRACE_MS', 10_000, { min: 0, max: 600_000 }),
+    authMode: readAuthMode(env, host),
   };
+}
+
+export function isLoopbackHost(host: string): boolean {
+  return host === 'localhost' || host === '::1' || /^127\.\d{1,3}\.\d{1,3}\.\d{1,3}$/.test(host);
+}
+
+function readAuthMode(env: Environment, host: string): 'keys' | 'open' {
+  const mode = readChoice(env, 'AUTH_MODE', ['keys', 'open'] as const, 'keys');
+  if (mode === 'open' && !isLoopbackHost(host)) {
+    throw new ConfigError(`AUTH_MODE=open is only allowed when HOST is a loopback address (127.0.0.1, ::1, localhost), got HOST=${host}`);
+  }
+  return mode;
 }
 
 /**

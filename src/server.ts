@@ -4,6 +4,7 @@
  * period) and closes the database.
  */
 import { buildApp } from './app.js';
+import { countActiveKeys, createKey } from './auth/keys.js';
 import type { Config } from './config.js';
 import { openDatabase } from './db/connect.js';
 import { migrateToLatest } from './db/migrate.js';
@@ -14,6 +15,11 @@ export async function startService(config: Config) {
   const database = await openDatabase(config.database, logger);
   const applied = await migrateToLatest(database.db, config.database);
   if (applied.length > 0) logger.info({ applied }, 'migrations applied');
+  if (config.authMode === 'keys' && (await countActiveKeys(database.db)) === 0) {
+    const issued = await createKey(database.db, 'admin', 'first admin key');
+    // Shown once, on the terminal only (not in the JSON log), so the operator can create the others.
+    process.stdout.write(`\nNo API key existed, so one admin key was created. It is shown only now; keep it safe:\n${issued.key}\n\n`);
+  }
   const app = await buildApp({ config, database, logger });
   app.addHook('onClose', async () => {
     await database.close();

@@ -21,7 +21,7 @@ export const TEST_TODAY = new Date('2026-06-15T12:00:00Z');
 
 export async function createTestApp(dialect: Dialect, overrides: Partial<Config> = {}, now: () => Date = () => TEST_TODAY): Promise<TestApp> {
   const database = await createTestDatabase(dialect);
-  const config: Config = { ...loadConfig({}), database: database.settings, scheduleEnabled: false, ...overrides };
+  const config: Config = { ...loadConfig({}), database: database.settings, scheduleEnabled: false, authMode: 'open', ...overrides };
   const app = await buildApp({ config, database: database.handle, logger: pino({ level: process.env['TEST_LOG_LEVEL'] ?? 'silent' }), now });
   const contractViolations: string[] = [];
   app.addHook('onSend', async (request, reply, payload) => {
