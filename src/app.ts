@@ -7,6 +7,7 @@ import type { Config } from './config.js';
 import type { DatabaseHandle } from './db/connect.js';
 import { registerAuth } from './http/auth.js';
 import { registerErrorHandling } from './http/errors.js';
+import { registerLimits } from './http/limits.js';
 import { healthRoutes } from './http/health-routes.js';
 import { ingestRoutes } from './http/ingest-routes.js';
 import { openapiRoutes } from './http/openapi-routes.js';
@@ -39,6 +40,7 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
     bodyLimit: 1024 * 1024,
     ajv: { customOptions: { removeAdditional: false, coerceTypes: 'array', useDefaults: true } },
     return503OnClosing: true,
+    requestTimeout: deps.config.requestTimeoutMs,
   });
   registerErrorHandling(app);
   // The route list lets the contract test compare what is served with openapi.yaml.
@@ -49,6 +51,7 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
   });
 
   registerAuth(app, { db: deps.database.readDb, mode: deps.config.authMode });
+  await registerLimits(app, deps.config);
   await app.register(healthRoutes({ db: deps.database.readDb }));
   await app.register(openapiRoutes());
   await app.register(

@@ -35,6 +35,16 @@ export interface Config {
    * machine only — refused unless the service listens on a loopback address.
    */
   authMode: 'keys' | 'open';
+  /** Requests per minute per API key (or per address without one); 0 turns the limit off. */
+  rateLimitPerMinute: number;
+  /** Longest time one request may take, in milliseconds (an upload of 200 MB included). */
+  requestTimeoutMs: number;
+  /** Event-loop delay above which new requests get 503 with Retry-After; 0 turns the check off. */
+  maxEventLoopDelayMs: number;
+  /** Heap use above which new requests get 503 with Retry-After, in MiB; 0 turns the check off. */
+  maxHeapUsedMiB: number;
+  /** Origins allowed to call the API from a browser; empty means CORS stays off. */
+  corsOrigins: string[];
 }
 
 export class ConfigError extends Error {
@@ -63,7 +73,28 @@ export function loadConfig(env: Environment = process.env): Config {
     scheduleEnabled: readBoolean(env, 'SCHEDULE_ENABLED', true),
     shutdownGraceMs: readInteger(env, 'SHUTDOWN_GRACE_MS', 10_000, { min: 0, max: 600_000 }),
     authMode: readAuthMode(env, host),
+    rateLimitPerMinute: readInteger(env, 'RATE_LIMIT_PER_MINUTE', 6000, { min: 0, max: 10_000_000 }),
+    requestTimeoutMs: readInteger(env, 'REQUEST_TIMEOUT_MS', 600_000, { min: 1000, max: 3_600_000 }),
+    maxEventLoopDelayMs: readInteger(env, 'MAX_EVENT_LOOP_DELAY_MS', 2000, { min: 0, max: 600_000 }),
+    maxHeapUsedMiB: readInteger(env, 'MAX_HEAP_USED_MIB', 0, { min: 0, max: 1_000_000 }),
+    corsOrigins: readOrigins(env, 'CORS_ORIGINS'),
   };
+}
+
+function readOrigins(env: Environment, name: string): string[] {
+  const raw = env[name]?.trim();
+  if (raw === undefined || raw === '') return [];
+  return raw.split(',').map((origin) => {
+    const value = origin.trim();
+    let parsed: URL;
+    try {
+      parsed = new URL(value);
+    } catch {
+      throw new ConfigError(`${name} must be a comma-separated list of origins such as https://dashboards.example, got "${value}"`);
+    }
+    if (parsed.origin !== value.replace(/\/$/, '')) throw new ConfigError(`${name}: "${value}" is not a bare origin (scheme://host[:port])`);
+    return parsed.origin;
+  });
 }
 
 export function isLoopbackHost(host: string): boolean {

@@ -1,0 +1,50 @@
+/**
+ * Protective limits, each from a well-kept fastify plugin: security headers, CORS (off unless
+ * origins are configured), a per-key rate limit, and 503 with Retry-After when the process is
+ * under memory or event-loop pressure. Errors leave as problem details like every other.
+ */
+import cors from '@fastify/cors';
+import helmet from '@fastify/helmet';
+import rateLimit from '@fastify/rate-limit';
+import underPressure from '@fastify/under-pressure';
+import type { FastifyInstance } from 'fastify';
+import v8 from 'node:v8';
+import type { Config } from '../config.js';
+import { sendProblem } from './errors.js';
+import { Problem } from './problems.js';
+
+const RETRY_AFTER_SECONDS = 10;
+
+export async function registerLimits(app: FastifyInstance, config: Config): Promise<void> {
+  await app.register(helmet, {
+    // The service answers JSON, CSV and one self-contained HTML page: nothing is loaded from elsewhere.
+    contentSecurityPolicy: { directives: { defaultSrc: ["'self'"], imgSrc: ["'self'", 'data:'], styleSrc: ["'self'", "'unsafe-inline'"], scriptSrc: ["'self'"] } },
+  });
+  if (config.corsOrigins.length > 0) {
+    await app.register(cors, { origin: config.corsOrigins, methods: ['GET', 'POST', 'DELETE'], allowedHeaders: ['authorization', 'content-type', 'idempotency-key', 'if-none-match'] });
+  }
+  if (config.rateLimitPerMinute > 0) {
+    await app.register(rateLimit, {
+      max: config.rateLimitPerMinute,
+      timeWindow: 60_000,
+      keyGenerator: (request) => (request.apiKey ? `key:${request.apiKey.keyId}` : `ip:${request.ip}`),
+      errorResponseBuilder: (_request, context) => {
+        const problem = new Problem('rate-limited', `more than ${context.max} requests in ${context.after}; try again later`, {}, { 'retry-after': String(Math.ceil(context.ttl / 1000)) });
+        return Object.assign(problem, { statusCode: 429 });
+      },
+    });
+  }
+  const heapLimitBytes = config.maxHeapUsedMiB > 0 ? config.maxHeapUsedMiB * 1024 * 1024 : 0.9 * v8.getHeapStatistics().heap_size_limit;
+  await app.register(underPressure, {
+    maxEventLoopDelay: config.maxEventLoopDelayMs,
+    maxHeapUsedBytes: heapLimitBytes,
+    retryAfter: RETRY_AFTER_SECONDS,
+    pressureHandler: (request, reply, type, value) => {
+      sendProblem(
+        reply.header('retry-after', String(RETRY_AFTER_SECONDS)),
+        request,
+        new Problem('unavailable', `the service is under load (${type}${value === undefined ? '' : ` ${Math.round(value)}`}); try again in ${RETRY_AFTER_SECONDS} s`),
+      );
+    },
+  });
+}

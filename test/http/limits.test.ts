@@ -1,0 +1,51 @@
+import { afterEach, describe, expect, it } from 'vitest';
+import { createTestApp, type TestApp } from '../support/app.js';
+
+describe('protective limits', () => {
+  let testApp: TestApp | undefined;
+  afterEach(async () => {
+    await testApp?.close();
+    testApp = undefined;
+  });
+
+  it('sends security headers on every answer', async () => {
+    testApp = await createTestApp('sqlite');
+    const response = await testApp.app.inject({ method: 'GET', url: '/healthz' });
+    expect(response.headers['x-content-type-options']).toBe('nosniff');
+    expect(response.headers['x-frame-options']).toBe('SAMEORIGIN');
+    expect(response.headers['content-security-policy']).toContain("default-src 'self'");
+  });
+
+  it('keeps CORS off unless origins are configured', async () => {
+    testApp = await createTestApp('sqlite');
+    const closed = await testApp.app.inject({ method: 'GET', url: '/healthz', headers: { origin: 'https://dashboards.example' } });
+    expect(closed.headers['access-control-allow-origin']).toBeUndefined();
+    await testApp.close();
+    testApp = await createTestApp('sqlite', { corsOrigins: ['https://dashboards.example'] });
+    const open = await testApp.app.inject({ method: 'GET', url: '/healthz', headers: { origin: 'https://dashboards.example' } });
+    expect(open.headers['access-control-allow-origin']).toBe('https://dashboards.example');
+    const stranger = await testApp.app.inject({ method: 'GET', url: '/healthz', headers: { origin: 'https://elsewhere.example' } });
+    expect(stranger.headers['access-control-allow-origin']).toBeUndefined();
+  });
+
+  it('answers 429 with Retry-After past the rate limit', async () => {
+    testApp = await createTestApp('sqlite', { rateLimitPerMinute: 3 });
+    const statuses: number[] = [];
+    for (let attempt = 0; attempt < 4; attempt++) statuses.push((await testApp.app.inject({ method: 'GET', url: '/v1/ingests/none' })).statusCode);
+    expect(statuses).toEqual([404, 404, 404, 429]);
+    const limited = await testApp.app.inject({ method: 'GET', url: '/v1/ingests/none' });
+    expect(limited.headers['content-type']).toMatch(/application\/problem\+json/);
+    expect(Number(limited.headers['retry-after'])).toBeGreaterThan(0);
+    expect(limited.json().type).toBe('/problems/rate-limited');
+  });
+
+  it('answers 503 with Retry-After when memory use is past its limit', async () => {
+    testApp = await createTestApp('sqlite', { maxHeapUsedMiB: 1 });
+    // under-pressure samples once a second; wait for a sample that sees the heap.
+    await new Promise((resolve) => setTimeout(resolve, 1200));
+    const response = await testApp.app.inject({ method: 'GET', url: '/v1/ingests/none' });
+    expect(response.statusCode).toBe(503);
+    expect(response.headers['retry-after']).toBe('10');
+    expect(response.json().type).toBe('/problems/unavailable');
+  });
+});
