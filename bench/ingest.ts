@@ -8,7 +8,7 @@ import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { writeBenchFiles } from './data.js';
-import { postFile, startServiceProcess } from './service.js';
+import { postFile, startServiceProcess } from '../test/support/service-process.js';
 
 const customers = Number(process.argv[2] ?? 1_000_000);
 const contacts = Number(process.argv[3] ?? 1_000_000);
