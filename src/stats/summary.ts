@@ -25,7 +25,14 @@ export interface Summary {
 /** Variance denominator: `n − 1` (sample, unbiased) or `n` (population). */
 export type VarianceBasis = 'sample' | 'population';
 
-/** Checks a summary passed in from outside (a report, a SQL row); throws StatsInputError. */
+/**
+ * Checks a summary passed in from outside (a report, a SQL row): n a non-negative integer,
+ * finite mean, finite non-negative SSD. Common practice.
+ * @throws StatsInputError naming the field (e.g. `a.n`) that is wrong
+ * @example
+ * validateSummary('segment', { n: 3, mean: 2, sumSquaredDeviations: 2 }); // passes
+ * validateSummary('segment', { n: -1, mean: 2, sumSquaredDeviations: 2 }); // throws: segment.n must be …
+ */
 export function validateSummary(name: string, summary: Summary): void {
   if (summary === null || typeof summary !== 'object') {
     throw new StatsInputError(name, `${name} must be a summary object { n, mean, sumSquaredDeviations }`);
@@ -41,7 +48,12 @@ export function validateSummary(name: string, summary: Summary): void {
   }
 }
 
-/** Reads the `basis` option (default `'sample'`); throws StatsInputError for anything else. */
+/**
+ * Reads the `basis` option of the variance-type statistics (default `'sample'`).
+ * @throws StatsInputError for anything other than `'sample'`, `'population'` or undefined
+ * @example
+ * readVarianceBasis(undefined); // 'sample'
+ */
 export function readVarianceBasis(basis: VarianceBasis | undefined): VarianceBasis {
   if (basis === undefined) return 'sample';
   if (basis !== 'sample' && basis !== 'population') {

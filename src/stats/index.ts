@@ -1,0 +1,92 @@
+/**
+ * Public surface of the statistics core: pure functions, numbers in, numbers out.
+ * Each export is listed by name so that the API is visible here in one place.
+ */
+export { StatsInputError } from './errors.js';
+export { computed, notComputable } from './result.js';
+export type { EstimateWithInterval, Interval, Outcome } from './result.js';
+
+export {
+  chiSquarePdf,
+  hypergeometricCdf,
+  hypergeometricPmf,
+  noncentralTProbability,
+  standardNormalCdf,
+  standardNormalPdf,
+  standardNormalQuantile,
+  standardNormalTwoSidedPValue,
+  studentTCdf,
+  studentTPdf,
+  studentTQuantile,
+  studentTTwoSidedPValue,
+  twoSidedCriticalZ,
+} from './distributions.js';
+
+export {
+  emptySummary,
+  mergeSummaries,
+  subtractSummary,
+  summarize,
+  summaryFromShiftedSums,
+  summaryMean,
+  summaryVariance,
+  validateSummary,
+} from './summary.js';
+export type { Summary, VarianceBasis } from './summary.js';
+
+export {
+  cohensH,
+  fisherExactTest,
+  katzRatioInterval,
+  newcombeDifferenceInterval,
+  twoProportionZTest,
+  wilsonInterval,
+} from './proportions.js';
+export type { FisherExactTestResult, TwoProportionZTestResult } from './proportions.js';
+
+export { hedgesG, studentTTest, tInterval, welchTTest } from './means.js';
+export type { MeanInterval, TwoSampleTTestResult } from './means.js';
+
+export {
+  coefficientOfVariation,
+  frequencyTable,
+  histogram,
+  mean,
+  median,
+  modes,
+  quantile,
+  quartiles,
+  skewness,
+  standardDeviation,
+  variance,
+} from './descriptive.js';
+export type {
+  BasisOptions,
+  BinRule,
+  FrequencyRow,
+  Histogram,
+  HistogramBin,
+  HistogramOptions,
+  Quartiles,
+} from './descriptive.js';
+
+export { covariance, pairedMoments, pearsonCorrelation, pearsonCorrelationFromMoments } from './association.js';
+export type { CorrelationResult, PairedMoments } from './association.js';
+
+export { adjustPValues } from './multiplicity.js';
+export type { AdjustmentMethod } from './multiplicity.js';
+
+export {
+  minimumDetectableRateDifference,
+  twoProportionPower,
+  twoProportionSampleSize,
+  twoSampleTPower,
+  twoSampleTSampleSize,
+} from './power.js';
+export type {
+  MinimumDetectableRateDifferenceInput,
+  TwoProportionPowerInput,
+  TwoProportionSampleSizeInput,
+  TwoSampleTPowerInput,
+  TwoSampleTSampleSizeInput,
+} from './power.js';
