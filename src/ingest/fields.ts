@@ -15,7 +15,8 @@ export function isBlank(raw: unknown): boolean {
 
 export function showValue(raw: unknown): string | null {
   if (raw === undefined) return null;
-  const text = typeof raw === 'string' ? raw : JSON.stringify(raw) ?? String(raw);
+  // String() for numbers: JSON.stringify shows an overflowing 1e309 (Infinity) as "null".
+  const text = typeof raw === 'string' ? raw : typeof raw === 'number' ? String(raw) : (JSON.stringify(raw) ?? String(raw));
   return text.length > 200 ? `${text.slice(0, 200)}…` : text;
 }
 
@@ -88,24 +89,25 @@ export const MAX_AMOUNT_CENTS = 100_000_000_000_000; // one trillion in major un
 
 /** A money amount ≥ 0 with at most two decimals, returned in integer cents. */
 export function readMoneyCents(raw: unknown): FieldResult<number> {
-  let cents: number;
   if (typeof raw === 'number') {
     if (!Number.isFinite(raw)) return bad('must be a finite number');
     if (raw < 0) return bad('must not be negative');
-    cents = Math.round(raw * 100);
-    if (Math.abs(raw * 100 - cents) > 1e-6 * Math.max(1, Math.abs(cents))) return bad('must have at most two decimals');
-  } else if (typeof raw === 'string') {
-    const text = raw.trim();
-    if (/^-/.test(text) && !/^-0*(\.0*)?$/.test(text)) return bad('must not be negative');
-    const match = /^[-+]?(\d+)(?:\.(\d{1,2}))?$/.exec(text);
-    if (!match) {
-      if (/^[-+]?\d+\.\d{3,}$/.test(text)) return bad('must have at most two decimals');
-      return bad('must be a plain number such as 12.50 (no currency signs or thousands separators)');
-    }
-    cents = Number(match[1]) * 100 + Number((match[2] ?? '').padEnd(2, '0'));
-  } else {
-    return bad('must be a number');
+    // The shortest decimal that reads back as this number is what the sender wrote (12.5 for
+    // 12.50), so its digits decide the decimals exactly; a tolerance on raw * 100 would let
+    // 12345.675 through as 1234568 cents. Exponent forms appear only below 1e-6 and from 1e21.
+    const text = String(raw);
+    if (text.includes('e')) return raw >= 1 ? bad('is too large') : bad('must have at most two decimals');
+    return readMoneyCents(text);
   }
+  if (typeof raw !== 'string') return bad('must be a number');
+  const text = raw.trim();
+  if (/^-/.test(text) && !/^-0*(\.0*)?$/.test(text)) return bad('must not be negative');
+  const match = /^[-+]?(\d+)(?:\.(\d{1,2}))?$/.exec(text);
+  if (!match) {
+    if (/^[-+]?\d+\.\d{3,}$/.test(text)) return bad('must have at most two decimals');
+    return bad('must be a plain number such as 12.50 (no currency signs or thousands separators)');
+  }
+  const cents = Number(match[1]) * 100 + Number((match[2] ?? '').padEnd(2, '0'));
   if (cents > MAX_AMOUNT_CENTS) return bad('is too large');
   return ok(cents === 0 ? 0 : cents); // folds -0 into 0
 }

@@ -50,11 +50,26 @@ export const customersKind: UploadKind<CustomerRow> = {
   async applyBatch({ trx, write, ingestId, now }, pending) {
     const outcome = emptyOutcome();
     const stored = await repository.findCustomers(trx, pending.map((item) => item.row.customer_id));
+    const birthDateMoves = pending.filter(({ row }) => {
+      const existing = stored.get(row.customer_id);
+      return existing !== undefined && row.birth_date !== null && row.birth_date !== existing.birth_date;
+    });
+    const earliestEvents = await repository.findEarliestEventDates(trx, birthDateMoves.map((item) => item.row.customer_id));
     const inserts: Database['customers'][] = [];
     const attributeInserts: Array<{ customer_id: string; name: string; value: string }> = [];
     const birthDateChanged: string[] = [];
-    for (const { row } of pending) {
+    for (const { row, line, rowNumber } of pending) {
       const existing = stored.get(row.customer_id);
+      // Sales and contacts may not precede the birth date; a new birth date may not overtake them either.
+      const earliestEvent = earliestEvents.get(row.customer_id);
+      if (row.birth_date !== null && earliestEvent !== undefined && earliestEvent < row.birth_date) {
+        outcome.rejected.push({
+          line,
+          rowNumber,
+          error: { column: 'birth_date', value: row.birth_date, reason: `birth_date ${row.birth_date} is after this customer's earliest stored sale or contact (${earliestEvent})` },
+        });
+        continue;
+      }
       const record = {
         customer_id: row.customer_id,
         birth_date: row.birth_date,
@@ -80,7 +95,8 @@ export const customersKind: UploadKind<CustomerRow> = {
       }
       outcome.updated += 1;
       if (!write) continue;
-      if (fieldsChanged) await repository.updateCustomer(trx, record);
+      // Also on an attribute-only change, so that last_ingest_id names the upload that changed the customer.
+      await repository.updateCustomer(trx, record);
       if (attributesChanged) await repository.setCustomerAttributes(trx, row.customer_id, row.attributes);
       if (existing.birth_date !== row.birth_date) birthDateChanged.push(row.customer_id);
     }

@@ -5,7 +5,7 @@
  * of the upload on which it starts, so every later error can point at it.
  */
 import { Readable } from 'node:stream';
-import { parse as parseCsv } from 'csv-parse';
+import { CsvError, parse as parseCsv } from 'csv-parse';
 import { normalizeColumnName } from './columns.js';
 
 export type UploadFormat = 'csv' | 'json' | 'ndjson';
@@ -75,7 +75,6 @@ async function* parseCsvRecords(body: Readable, limits: ParseLimits): AsyncGener
       bom: true,
       skip_empty_lines: true,
       relax_column_count: true,
-      info: true,
       raw: true,
       max_record_size: limits.maxRecordChars,
     }),
@@ -84,10 +83,16 @@ async function* parseCsvRecords(body: Readable, limits: ParseLimits): AsyncGener
   text.once('error', (error) => parser.destroy(error));
   let header: string[] | null = null;
   let row = 0;
+  // Lines are counted here from each record's raw text: csv-parse's own counter counts a CRLF
+  // inside a quoted field as two lines, and a record's raw text begins with the empty lines
+  // skipped before it. Raw text keeps a lone \r for a CRLF record end, so \r\n, \r and \n each
+  // count as one line break.
+  let nextLine = 1;
   try {
-    for await (const item of parser as AsyncIterable<{ record: string[]; info: { lines: number }; raw: string }>) {
-      const newlinesInside = countNewlines(item.raw.replace(/\r?\n$|\r$/, ''));
-      const line = item.info.lines - newlinesInside;
+    for await (const item of parser as AsyncIterable<{ record: string[]; raw: string }>) {
+      const skippedEmptyLines = countLineBreaks(LEADING_LINE_BREAKS.exec(item.raw)?.[0] ?? '');
+      const line = nextLine + skippedEmptyLines;
+      nextLine += countLineBreaks(item.raw);
       if (header === null) {
         header = readHeader(item.record, line, limits);
         continue;
@@ -210,6 +215,8 @@ async function* splitJsonArray(body: Readable, limits: ParseLimits): AsyncGenera
   let escaped = false;
   let sawArray = false;
   let finished = false;
+  // Between rows the array allows exactly one comma: none before the first row or before ].
+  let expecting: 'first row or ]' | 'row' | 'comma or ]' = 'first row or ]';
   let element = '';
   let elementStart = -1;
   let elementLine = 1;
@@ -239,15 +246,18 @@ async function* splitJsonArray(body: Readable, limits: ParseLimits): AsyncGenera
         }
         if (depth === 1) {
           if (char === ',') {
-            if (elementStart === -1 && element === '') fail('unexpected comma in the array');
+            if (expecting !== 'comma or ]') fail('unexpected comma in the array');
+            expecting = 'row';
             continue;
           }
           if (char === ']') {
+            if (expecting === 'row') fail('unexpected comma before the closing ] of the array');
             depth = 0;
             finished = true;
             continue;
           }
           if (char !== '{') fail('each element of the array must be a row object in braces');
+          if (expecting === 'comma or ]') fail('rows of the array must be separated by commas');
           elementStart = index;
           elementLine = line;
           element = '';
@@ -263,6 +273,7 @@ async function* splitJsonArray(body: Readable, limits: ParseLimits): AsyncGenera
           const completed = element + text.slice(elementStart, index + 1);
           element = '';
           elementStart = -1;
+          expecting = 'comma or ]';
           yield { text: completed, line: elementLine };
         }
       }
@@ -296,10 +307,10 @@ async function* decodeUtf8(body: Readable, format: string): AsyncGenerator<strin
   }
 }
 
-function countNewlines(text: string): number {
-  let count = 0;
-  for (let index = text.indexOf('\n'); index !== -1; index = text.indexOf('\n', index + 1)) count += 1;
-  return count;
+const LEADING_LINE_BREAKS = /^(?:\r\n|\r|\n)+/;
+
+function countLineBreaks(text: string): number {
+  return text.match(/\r\n|\r|\n/g)?.length ?? 0;
 }
 
 function toMalformed(error: unknown, format: string, line: number | null = null): Error {
@@ -307,10 +318,10 @@ function toMalformed(error: unknown, format: string, line: number | null = null)
   if (error instanceof TypeError && /decode|encoded/i.test(error.message)) {
     return new MalformedBodyError(`the ${format} body is not valid UTF-8 text`, line);
   }
-  const details = error as { code?: unknown; lines?: unknown; message?: unknown };
-  if (typeof details.code === 'string' && details.code.startsWith('CSV_')) {
-    const csvLine = typeof details.lines === 'number' ? details.lines : line;
-    return new MalformedBodyError(`invalid CSV: ${String(details.message)}`, csvLine);
+  // Not every csv-parse error code starts with CSV_ (INVALID_OPENING_QUOTE does not), so the class decides.
+  if (error instanceof CsvError) {
+    const csvLine = 'lines' in error && typeof error.lines === 'number' ? error.lines : line;
+    return new MalformedBodyError(`invalid CSV: ${error.message}`, csvLine);
   }
   return error instanceof Error ? error : new Error(String(error));
 }

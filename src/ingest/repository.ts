@@ -101,6 +101,38 @@ export async function refreshContactAges(db: Executor, customerIds: readonly str
   }
 }
 
+/**
+ * The earliest sale or contact date stored for each of `customerIds` that has any: a birth
+ * date may not move past it. SQL MIN over ISO date text (which sorts as dates), grouped by
+ * customer, on sales and on contacts; the smaller of the two wins. Throws only what the
+ * database driver throws.
+ *
+ * @example a customer with a sale on 2020-05-01 and a contact on 2019-03-02 maps to '2019-03-02';
+ * a customer with neither is absent from the map.
+ */
+export async function findEarliestEventDates(db: Executor, customerIds: readonly string[]): Promise<Map<string, string>> {
+  const found = new Map<string, string>();
+  for (const part of chunk(customerIds, 1000)) {
+    const sales = await db
+      .selectFrom('sales')
+      .select((eb) => ['customer_id', eb.fn.min('sold_at').as('earliest')])
+      .where('customer_id', 'in', part)
+      .groupBy('customer_id')
+      .execute();
+    const contacts = await db
+      .selectFrom('campaign_contacts')
+      .select((eb) => ['customer_id', eb.fn.min('contacted_at').as('earliest')])
+      .where('customer_id', 'in', part)
+      .groupBy('customer_id')
+      .execute();
+    for (const { customer_id: customerId, earliest } of [...sales, ...contacts]) {
+      const known = found.get(customerId);
+      if (known === undefined || earliest < known) found.set(customerId, earliest);
+    }
+  }
+  return found;
+}
+
 export async function findSales(db: Executor, ids: readonly string[]): Promise<Map<string, SalesTable>> {
   const found = new Map<string, SalesTable>();
   for (const part of chunk(ids, 1000)) {

@@ -107,6 +107,11 @@ export async function ingestUpload(deps: IngestDependencies, request: UploadRequ
   const meter = new BodyMeter(deps.limits.maxBytes);
   const body = request.body.pipe(meter);
   request.body.once('error', (error) => body.destroy(error));
+  // The body flows into the meter at once but is read only once the transaction is open. An
+  // 'error' event nobody hears would end the process, so the meter is heard from the start; the
+  // failure stays on the errored meter, and its reader meets it there. (pipeline() would also
+  // destroy the request, and the client would get a reset connection instead of a 413.)
+  body.on('error', () => {});
 
   if (request.idempotencyKey !== null) {
     const earlier = await repository.findIngestByIdempotencyKey(deps.db, request.idempotencyKey);
@@ -114,6 +119,13 @@ export async function ingestUpload(deps: IngestDependencies, request: UploadRequ
       await drain(body);
       if (earlier.sha256 !== meter.sha256()) {
         throw new IdempotencyConflictError('this Idempotency-Key was used for an upload with a different body');
+      }
+      // The same bytes sent elsewhere (another kind, campaign, format or on_error) are another
+      // request; replaying the first receipt would report an upload that never happened.
+      if (earlier.kind !== request.kind || earlier.campaign_id !== request.campaignId || earlier.content_type !== request.contentType || earlier.on_error !== request.onError) {
+        throw new IdempotencyConflictError(
+          `this Idempotency-Key was used for a ${earlier.kind} upload${earlier.campaign_id === null ? '' : ` to campaign ${earlier.campaign_id}`} as ${earlier.content_type} with on_error=${earlier.on_error}`,
+        );
       }
       return { receipt: toReceipt(earlier), replayed: true };
     }
