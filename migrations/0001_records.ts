@@ -75,12 +75,15 @@ export async function up(db: Kysely<unknown>): Promise<void> {
     .createTable('rejected_rows')
     .addColumn('ingest_id', 'text', (c) => c.notNull().references('ingests.ingest_id').onDelete('cascade'))
     .addColumn('ordinal', 'integer', (c) => c.notNull())
+    .addColumn('row_number', 'integer', (c) => c.notNull())
     .addColumn('line', 'integer', (c) => c.notNull())
+    .addColumn('customer_id', 'text')
     .addColumn('column_name', 'text')
     .addColumn('value', 'text')
     .addColumn('reason', 'text', (c) => c.notNull())
     .addPrimaryKeyConstraint('rejected_rows_pk', ['ingest_id', 'ordinal'])
     .execute();
+  await db.schema.createIndex('rejected_rows_by_customer').on('rejected_rows').column('customer_id').execute();
 }
 
 export async function down(db: Kysely<unknown>): Promise<void> {

@@ -75,10 +75,23 @@ export interface IngestsTable {
 export interface RejectedRowsTable {
   ingest_id: string;
   ordinal: number;
+  /** 1-based data row of the upload (the CSV header is not a row). */
+  row_number: number;
   line: number;
+  /** The customer the row names, when it names one: erasure removes these rows too. */
+  customer_id: string | null;
   column_name: string | null;
   value: string | null;
   reason: string;
+}
+
+export interface ApiKeysTable {
+  key_id: string;
+  name: string;
+  role: string;
+  secret_sha256: string;
+  created_at: string;
+  revoked_at: string | null;
 }
 
 export interface Database {
@@ -89,6 +102,7 @@ export interface Database {
   campaign_contacts: CampaignContactsTable;
   ingests: IngestsTable;
   rejected_rows: RejectedRowsTable;
+  api_keys: ApiKeysTable;
 }
 
 export type Customer = Selectable<CustomersTable>;
@@ -98,3 +112,57 @@ export type Sale = Selectable<SalesTable>;
 export type CampaignContact = Selectable<CampaignContactsTable>;
 export type Ingest = Selectable<IngestsTable>;
 export type RejectedRow = Selectable<RejectedRowsTable>;
+
+export type RefreshMode = 'weekly' | 'manual';
+export type SnapshotTrigger = 'manual' | 'schedule' | 'command';
+
+/** A saved report definition; `definition` is the normalized definition as JSON text. */
+export interface ReportsTable {
+  report_id: string;
+  name: string;
+  definition: string;
+  refresh: RefreshMode;
+  created_at: string;
+}
+
+/** One computed snapshot of a report. Never updated once written; `body` is the whole snapshot as JSON text. */
+export interface ReportSnapshotsTable {
+  snapshot_id: string;
+  report_id: string;
+  /** 1, 2, 3 … per report, in the order the snapshots were taken. */
+  sequence: number;
+  created_at: string;
+  fingerprint: string;
+  population_rows: number;
+  segment_count: number;
+  duration_ms: number;
+  trigger: SnapshotTrigger;
+  body: string;
+}
+
+/** Bookkeeping of a scheduled job: its last completed run and the lock that keeps runs from overlapping. */
+export interface ScheduledJobsTable {
+  job_name: string;
+  last_run_at: string | null;
+  lock_holder: string | null;
+  lock_expires_at: string | null;
+}
+
+// Declaration merging adds the report tables to the one Database interface above.
+export interface ApiKeysTable {
+  key_id: string;
+  name: string;
+  role: string;
+  secret_sha256: string;
+  created_at: string;
+  revoked_at: string | null;
+}
+
+export interface Database {
+  reports: ReportsTable;
+  report_snapshots: ReportSnapshotsTable;
+  scheduled_jobs: ScheduledJobsTable;
+}
+
+export type Report = Selectable<ReportsTable>;
+export type ReportSnapshot = Selectable<ReportSnapshotsTable>;

@@ -109,7 +109,7 @@ export function ingestRoutes(deps: IngestDependencies) {
           total: Number(stored.rejected),
           limit,
           offset,
-          rows: rows.map((row) => ({ line: Number(row.line), column: row.column_name, value: row.value, reason: row.reason })),
+          rows: rows.map((row) => ({ row: Number(row.row_number), line: Number(row.line), column: row.column_name, value: row.value, reason: row.reason })),
         };
       },
     );

@@ -33,8 +33,9 @@ export const rejectedRowsPageSchema = {
       type: 'array',
       items: {
         type: 'object',
-        required: ['line', 'column', 'value', 'reason'],
+        required: ['row', 'line', 'column', 'value', 'reason'],
         properties: {
+          row: { type: 'integer' },
           line: { type: 'integer' },
           column: { type: ['string', 'null'] },
           value: { type: ['string', 'null'] },

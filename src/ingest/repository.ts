@@ -209,6 +209,7 @@ export async function eraseCustomer(db: Executor, customerId: string): Promise<b
   await db.deleteFrom('campaign_contacts').where('customer_id', '=', customerId).execute();
   await db.deleteFrom('sales').where('customer_id', '=', customerId).execute();
   await db.deleteFrom('customer_attributes').where('customer_id', '=', customerId).execute();
+  await db.deleteFrom('rejected_rows').where('customer_id', '=', customerId).execute();
   const result = await db.deleteFrom('customers').where('customer_id', '=', customerId).executeTakeFirst();
   return Number(result.numDeletedRows) > 0;
 }

@@ -138,7 +138,9 @@ export async function ingestUpload(deps: IngestDependencies, request: UploadRequ
   const log = deps.logger.child({ ingestId, kind: request.kind, campaignId: request.campaignId });
   log.info({ format: request.format, onError: request.onError }, 'upload started');
 
-  const receipt = await deps.db.transaction().execute(async (trx) => {
+  const receipt = await deps.db
+    .transaction()
+    .execute(async (trx) => {
     if (request.campaignId !== null) await repository.ensureCampaign(trx, request.campaignId, receivedAt);
     const seenKeys = new Map<string, number>();
     const problems: RowProblem[] = [];
@@ -147,14 +149,24 @@ export async function ingestUpload(deps: IngestDependencies, request: UploadRequ
     let write = true;
     let nextProgress = deps.limits.progressEveryRows;
 
-    const reject = (rowNumber: number, line: number, errors: RowError[]) => {
+    // The customer a rejected row was about is kept with it, so erasing the customer erases it too.
+    const reject = (rowNumber: number, line: number, errors: RowError[], customerId: string | null) => {
       totals.rejected += 1;
       for (const error of errors) {
         if (request.onError === 'reject') {
           write = false;
           if (problems.length < MAX_LISTED_PROBLEMS) problems.push({ row: rowNumber, line, ...error });
         } else {
-          rejectedRows.push({ ingest_id: ingestId, ordinal: rejectedRows.length + 1, line, column_name: error.column, value: error.value, reason: error.reason });
+          rejectedRows.push({
+            ingest_id: ingestId,
+            ordinal: rejectedRows.length + 1,
+            row_number: rowNumber,
+            line,
+            customer_id: customerId,
+            column_name: error.column,
+            value: error.value,
+            reason: error.reason,
+          });
         }
       }
     };
@@ -166,7 +178,9 @@ export async function ingestUpload(deps: IngestDependencies, request: UploadRequ
       totals.inserted += outcome.inserted;
       totals.updated += outcome.updated;
       totals.unchanged += outcome.unchanged;
-      for (const { rowNumber, line, error } of outcome.rejected) reject(rowNumber, line, [error]);
+      for (const { rowNumber, line, error } of outcome.rejected) {
+        reject(rowNumber, line, [error], customerOf(batch.find((item) => item.rowNumber === rowNumber)?.row));
+      }
       batch = [];
     };
 
@@ -175,12 +189,12 @@ export async function ingestUpload(deps: IngestDependencies, request: UploadRequ
       if (record.row > deps.limits.maxRows) throw new TooManyRowsError(deps.limits.maxRows);
       const checked = checkRecord(kind, record, today);
       if (!checked.ok) {
-        reject(record.row, record.line, checked.errors);
+        reject(record.row, record.line, checked.errors, customerOf(Object.fromEntries(record.fields)));
       } else {
         const key = kind.key(checked.row);
         const firstLine = seenKeys.get(key);
         if (firstLine !== undefined) {
-          reject(record.row, record.line, [{ column: kind.keyColumn, value: key, reason: `${kind.keyColumn} ${key} appears twice in this upload (first on line ${firstLine})` }]);
+          reject(record.row, record.line, [{ column: kind.keyColumn, value: key, reason: `${kind.keyColumn} ${key} appears twice in this upload (first on line ${firstLine})` }], customerOf(checked.row));
         } else {
           seenKeys.set(key, record.line);
           batch.push({ row: checked.row, line: record.line, rowNumber: record.row });
@@ -218,11 +232,28 @@ export async function ingestUpload(deps: IngestDependencies, request: UploadRequ
     await repository.insertIngest(trx, stored);
     await repository.insertRejectedRows(trx, rejectedRows);
     return toReceipt(stored);
-  });
+  })
+    .catch((error: unknown) => {
+      // Two uploads with the same new Idempotency-Key at once: the second to commit loses.
+      if (request.idempotencyKey !== null && isUniqueViolation(error)) {
+        throw new IdempotencyConflictError('another upload with this Idempotency-Key was stored first; repeat the request to get its receipt');
+      }
+      throw error;
+    });
 
   const seconds = receipt.duration_ms / 1000;
   log.info({ ...receipt, rowsPerSecond: seconds > 0 ? Math.round(receipt.rows / seconds) : null }, 'upload stored');
   return { receipt, replayed: false };
+}
+
+function isUniqueViolation(error: unknown): boolean {
+  const code = (error as { code?: unknown } | null)?.code;
+  return code === '23505' || code === 'SQLITE_CONSTRAINT_UNIQUE';
+}
+
+function customerOf(row: unknown): string | null {
+  const value = (row as { customer_id?: unknown } | undefined)?.customer_id;
+  return typeof value === 'string' && value.trim() !== '' ? value.trim().slice(0, 200) : null;
 }
 
 function checkRecord(kind: UploadKind<unknown>, record: ParsedRecord, today: string) {

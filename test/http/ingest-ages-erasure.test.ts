@@ -144,6 +144,18 @@ describe.each(TEST_DIALECTS)('erasure on %s', (dialect) => {
     }
   });
 
+  it('removes the rejected rows kept about the customer, and only those', async () => {
+    const testApp = await startApp(dialect);
+    await seedTwoCustomersWithEverything(testApp);
+    const skipped = receiptOf(
+      await upload(testApp.app, '/v1/sales', CSV, csvText('sale_id,customer_id,sold_at,amount', 'S8,C1,2026-01-05,-1', 'S9,C2,2026-01-05,-2'), { query: 'on_error=skip' }),
+    );
+    expect(skipped.rejected).toBe(2);
+    expect((await testApp.app.inject({ method: 'DELETE', url: '/v1/customers/C1' })).statusCode).toBe(204);
+    const kept = await testApp.database.handle.db.selectFrom('rejected_rows').select(['customer_id', 'value']).execute();
+    expect(kept).toEqual([{ customer_id: 'C2', value: '-2' }]);
+  });
+
   it('leaves every row of other customers in place', async () => {
     const testApp = await startApp(dialect);
     await seedTwoCustomersWithEverything(testApp);

@@ -136,9 +136,9 @@ describe.each(TEST_DIALECTS)('on_error=skip on %s', (dialect) => {
       limit: 1000,
       offset: 0,
       rows: [
-        { line: 3, column: 'birth_date', value: '2023-02-30', reason: 'birth_date is not a calendar date: February 2023 has 28 days' },
-        { line: 3, column: 'customer_type', value: 'person', reason: 'customer_type must be one of individual, company' },
-        { line: 5, column: 'customer_id', value: 'C1', reason: 'customer_id C1 appears twice in this upload (first on line 2)' },
+        { row: 2, line: 3, column: 'birth_date', value: '2023-02-30', reason: 'birth_date is not a calendar date: February 2023 has 28 days' },
+        { row: 2, line: 3, column: 'customer_type', value: 'person', reason: 'customer_type must be one of individual, company' },
+        { row: 4, line: 5, column: 'customer_id', value: 'C1', reason: 'customer_id C1 appears twice in this upload (first on line 2)' },
       ],
     });
   });
@@ -155,8 +155,8 @@ describe.each(TEST_DIALECTS)('on_error=skip on %s', (dialect) => {
     expect(receipt).toMatchObject({ rows: 3, inserted: 1, rejected: 2 });
     const rejected = await testApp.app.inject({ method: 'GET', url: `/v1/ingests/${receipt.ingest_id}/rejected` });
     expect(rejected.json<{ rows: unknown[] }>().rows).toEqual([
-      { line: 2, column: 'customer_id', value: 'C9', reason: 'customer_id C9 is not a known customer; upload the customer first' },
-      { line: 3, column: 'contacted_at', value: '1999-12-31', reason: "contacted_at 1999-12-31 is before the customer's birth date 2000-02-29" },
+      { row: 2, line: 2, column: 'customer_id', value: 'C9', reason: 'customer_id C9 is not a known customer; upload the customer first' },
+      { row: 3, line: 3, column: 'contacted_at', value: '1999-12-31', reason: "contacted_at 1999-12-31 is before the customer's birth date 2000-02-29" },
     ]);
     const contacts = await testApp.database.handle.db.selectFrom('campaign_contacts').select('customer_id').execute();
     expect(contacts).toEqual([{ customer_id: 'C1' }]);
