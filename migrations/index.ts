@@ -4,7 +4,9 @@
  */
 import type { Migration } from 'kysely';
 import * as records from './0001_records.js';
+import * as apiKeys from './0003_api_keys.js';
 
 export const migrations: Record<string, Migration> = {
   '0001_records': records,
+  '0003_api_keys': apiKeys,
 };

@@ -1,0 +1,304 @@
+/**
+ * The benchmark suite (`npm run bench`). For each size it generates invented data
+ * deterministically, runs every step several times against the real service (a child
+ * process), prints medians, rows/s and peak memory, and writes bench/RESULTS.md.
+ *
+ * Steps: 1. upload of the customers CSV and the contacts CSVs over HTTP; 2. a report refresh
+ * over the stored rows (all one-way and two-way segments of age band, region and channel);
+ * 3. the BI pull of the segments CSV under load (autocannon, loopback, bounded); 4. the floors:
+ * a bare better-sqlite3 prepared INSERT loop over the same contacts files in one transaction,
+ * and one bare GROUP BY over the same stored rows, with each step's ratio to its floor.
+ *
+ *   npm run bench                       both sizes on SQLite
+ *   npm run bench -- --sizes 100000     one size
+ *   DATABASE_URL=postgres://… npm run bench   the same steps on PostgreSQL (no floors there)
+ *
+ * Options: --sizes a,b (contact rows; customers are a quarter), --runs N (default 3),
+ * --pull-seconds N (default 10), --no-results (do not write RESULTS.md).
+ */
+import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import { parseArgs } from 'node:util';
+import autocannon from 'autocannon';
+import SqliteDatabase from 'better-sqlite3';
+import { writeBenchFiles, type BenchFiles } from './data.js';
+import { postFile, startServiceProcess, type RunningService } from '../test/support/service-process.js';
+
+const { values: options } = parseArgs({
+  options: {
+    sizes: { type: 'string', default: '100000,1000000' },
+    runs: { type: 'string', default: '3' },
+    'pull-seconds': { type: 'string', default: '10' },
+    'no-results': { type: 'boolean', default: false },
+  },
+});
+const sizes = options.sizes.split(',').map(Number);
+const runs = Math.max(1, Number(options.runs));
+const pullSeconds = Math.max(1, Number(options['pull-seconds']));
+const postgresUrl = /^postgres(ql)?:\/\//.test(process.env['DATABASE_URL'] ?? '') ? (process.env['DATABASE_URL'] as string) : null;
+const dialect = postgresUrl ? 'postgres' : 'sqlite';
+const CAMPAIGNS = 4;
+
+function median(values: number[]): number {
+  const sorted = [...values].sort((a, b) => a - b);
+  const middle = Math.floor(sorted.length / 2);
+  return sorted.length % 2 === 1 ? (sorted[middle] as number) : ((sorted[middle - 1] as number) + (sorted[middle] as number)) / 2;
+}
+
+const seconds = (value: number) => `${value.toFixed(3)} s`;
+const perSecond = (rows: number, time: number) => `${Math.round(rows / time).toLocaleString('en-US')} rows/s`;
+
+interface Workspace {
+  env: Record<string, string>;
+  sqliteFile: string | null;
+  cleanup(): Promise<void>;
+}
+
+function newWorkspace(tag: string): Workspace {
+  if (postgresUrl) {
+    const schema = `bench_${tag}_${process.pid}_${Date.now() % 100000}`;
+    return {
+      env: { DATABASE_URL: postgresUrl, DATABASE_SCHEMA: schema },
+      sqliteFile: null,
+      cleanup: () => dropSchema(schema),
+    };
+  }
+  const directory = fs.mkdtempSync(path.join(os.tmpdir(), 'segrank-bench-'));
+  return { env: { DATABASE_URL: path.join(directory, 'bench.sqlite') }, sqliteFile: path.join(directory, 'bench.sqlite'), cleanup: async () => fs.rmSync(directory, { recursive: true, force: true }) };
+}
+
+async function dropSchema(schema: string): Promise<void> {
+  const pg = (await import('pg')).default;
+  const client = new pg.Client({ connectionString: postgresUrl as string });
+  await client.connect();
+  await client.query(`drop schema if exists "${schema}" cascade`);
+  await client.end();
+}
+
+/** Resets the child's peak-RSS counter (Linux: writing 5 to clear_refs), so a step's own peak can be read. */
+function resetPeak(service: RunningService): void {
+  try {
+    fs.writeFileSync(`/proc/${service.child.pid}/clear_refs`, '5');
+  } catch {
+    // not permitted: the peak then covers the whole process life, an upper bound
+  }
+}
+
+function currentRssMiB(service: RunningService): number {
+  const status = fs.readFileSync(`/proc/${service.child.pid}/status`, 'utf8');
+  return Number(/VmRSS:\s+(\d+) kB/.exec(status)?.[1] ?? Number.NaN) / 1024;
+}
+
+async function uploadAll(service: RunningService, files: BenchFiles): Promise<{ customers: number; contacts: number }> {
+  const customers = await postFile(`${service.url}/v1/customers`, files.customersCsv);
+  if (customers.status !== 201) throw new Error(`customers upload: ${customers.status} ${customers.body}`);
+  let contacts = 0;
+  for (const campaign of files.contactsCsvs) {
+    const upload = await postFile(`${service.url}/v1/campaigns/${campaign.campaignId}/contacts`, campaign.file);
+    if (upload.status !== 201) throw new Error(`contacts upload: ${upload.status} ${upload.body}`);
+    contacts += upload.seconds;
+  }
+  return { customers: customers.seconds, contacts };
+}
+
+async function json(response: Response): Promise<Record<string, unknown>> {
+  const body = (await response.json()) as Record<string, unknown>;
+  if (!response.ok) throw new Error(`${response.status}: ${JSON.stringify(body)}`);
+  return body;
+}
+
+function bareInsertSeconds(files: BenchFiles): number {
+  // The floor for step 1: the same contact rows, read from the same files, inserted by one
+  // prepared statement in one transaction into a table of the same shape, no checks at all.
+  const directory = fs.mkdtempSync(path.join(os.tmpdir(), 'segrank-floor-'));
+  const database = new SqliteDatabase(path.join(directory, 'floor.sqlite'));
+  database.pragma('journal_mode = WAL');
+  database.pragma('synchronous = NORMAL');
+  database.exec(`create table campaign_contacts (campaign_id text not null, customer_id text not null, contacted_at text not null,
+    converted integer not null, revenue_cents bigint not null, age_at_contact integer, last_ingest_id text, primary key (campaign_id, customer_id))`);
+  const insert = database.prepare('insert into campaign_contacts values (?, ?, ?, ?, ?, ?, ?)');
+  const started = performance.now();
+  database.transaction(() => {
+    for (const campaign of files.contactsCsvs) {
+      const lines = fs.readFileSync(campaign.file, 'utf8').split('\n');
+      for (let index = 1; index < lines.length; index++) {
+        const line = lines[index] as string;
+        if (line === '') continue;
+        const [customerId, contactedAt, converted, revenue] = line.split(',');
+        insert.run(campaign.campaignId, customerId, contactedAt, Number(converted), Math.round(Number(revenue) * 100), 40, 'floor');
+      }
+    }
+  })();
+  const elapsed = (performance.now() - started) / 1000;
+  database.close();
+  fs.rmSync(directory, { recursive: true, force: true });
+  return elapsed;
+}
+
+function bareGroupBySeconds(sqliteFile: string): number {
+  // The floor for step 2: one GROUP BY over the finest cells of the stored rows, nothing else.
+  const database = new SqliteDatabase(sqliteFile, { readonly: true });
+  const statement = database.prepare(`select cc.age_at_contact, c.region, c.channel, count(*) as n, sum(cc.converted) as x, sum(cc.revenue_cents) as v
+    from campaign_contacts cc join customers c on c.customer_id = cc.customer_id group by cc.age_at_contact, c.region, c.channel`);
+  const started = performance.now();
+  statement.all();
+  const elapsed = (performance.now() - started) / 1000;
+  database.close();
+  return elapsed;
+}
+
+async function pullUnderLoad(url: string): Promise<{ requestsPerSecond: number; p50: number; p99: number; errors: number; non2xx: number }> {
+  const result = await autocannon({ url, connections: 50, duration: pullSeconds, headers: { accept: 'text/csv' } });
+  return {
+    requestsPerSecond: result.requests.average,
+    p50: result.latency.p50,
+    p99: result.latency.p99,
+    errors: result.errors + result.timeouts,
+    non2xx: result.non2xx,
+  };
+}
+
+interface SizeResult {
+  contacts: number;
+  customers: number;
+  upload: { seconds: number; customersSeconds: number; contactsSeconds: number; peakMiB: number };
+  refresh: { seconds: number; serverMs: number; peakGrowthMiB: number };
+  pull: Awaited<ReturnType<typeof pullUnderLoad>>;
+  floors: { insertSeconds: number; groupBySeconds: number } | null;
+}
+
+async function benchSize(contacts: number): Promise<SizeResult> {
+  const customers = Math.round(contacts / 4);
+  const files = writeBenchFiles(path.resolve('bench/out'), { customers, campaigns: CAMPAIGNS, contactsPerCampaign: Math.round(contacts / CAMPAIGNS), seed: 11 });
+  console.log(`\n## ${contacts.toLocaleString('en-US')} contacts, ${customers.toLocaleString('en-US')} customers (${dialect})`);
+
+  const uploadTimes: number[] = [];
+  const customerTimes: number[] = [];
+  const contactTimes: number[] = [];
+  const uploadPeaks: number[] = [];
+  let kept: { workspace: Workspace; service: RunningService } | null = null;
+  for (let run = 1; run <= runs; run++) {
+    const workspace = newWorkspace(String(contacts));
+    const service = await startServiceProcess({ ...workspace.env, LOG_LEVEL: 'warn' });
+    const started = performance.now();
+    const times = await uploadAll(service, files);
+    const total = (performance.now() - started) / 1000;
+    uploadTimes.push(total);
+    customerTimes.push(times.customers);
+    contactTimes.push(times.contacts);
+    uploadPeaks.push(service.peakRssMiB());
+    console.log(`upload run ${run}: ${seconds(total)} (customers ${seconds(times.customers)}, contacts ${seconds(times.contacts)}), peak RSS ${service.peakRssMiB().toFixed(0)} MiB`);
+    if (run === runs) kept = { workspace, service };
+    else {
+      await service.stop();
+      await workspace.cleanup();
+    }
+  }
+  const { workspace, service } = kept as { workspace: Workspace; service: RunningService };
+  try {
+    const report = await json(
+      await fetch(`${service.url}/v1/reports`, {
+        method: 'POST',
+        headers: { 'content-type': 'application/json' },
+        body: JSON.stringify({ name: 'bench', source: { campaign_ids: files.contactsCsvs.map((campaign) => campaign.campaignId) }, dimensions: ['age_band', 'region', 'channel'] }),
+      }),
+    );
+    const reportId = report['report_id'] as string;
+    const refreshTimes: number[] = [];
+    const serverTimes: number[] = [];
+    const growth: number[] = [];
+    for (let run = 1; run <= Math.max(runs, 5); run++) {
+      const before = currentRssMiB(service);
+      resetPeak(service);
+      const started = performance.now();
+      const snapshot = await json(await fetch(`${service.url}/v1/reports/${reportId}/refresh`, { method: 'POST' }));
+      refreshTimes.push((performance.now() - started) / 1000);
+      serverTimes.push(Number(snapshot['duration_ms']));
+      growth.push(service.peakRssMiB() - before);
+    }
+    console.log(`refresh: median ${seconds(median(refreshTimes))} end to end, ${median(serverTimes).toFixed(0)} ms in the service, peak memory growth ${median(growth).toFixed(0)} MiB`);
+
+    const pull = await pullUnderLoad(`${service.url}/v1/reports/${reportId}/segments?format=csv`);
+    console.log(`BI pull (50 connections, ${pullSeconds} s): ${Math.round(pull.requestsPerSecond)} requests/s, p50 ${pull.p50} ms, p99 ${pull.p99} ms, errors ${pull.errors}, non-2xx ${pull.non2xx}`);
+
+    let floors: SizeResult['floors'] = null;
+    if (workspace.sqliteFile) {
+      await service.stop();
+      const insertTimes: number[] = [];
+      const groupTimes: number[] = [];
+      for (let run = 1; run <= runs; run++) {
+        insertTimes.push(bareInsertSeconds(files));
+        groupTimes.push(bareGroupBySeconds(workspace.sqliteFile));
+      }
+      floors = { insertSeconds: median(insertTimes), groupBySeconds: median(groupTimes) };
+      console.log(`floor, bare INSERT of the contacts: ${seconds(floors.insertSeconds)}; contacts upload is ${(median(contactTimes) / floors.insertSeconds).toFixed(2)}× that`);
+      console.log(`floor, bare GROUP BY: ${seconds(floors.groupBySeconds)}; refresh is ${(median(refreshTimes) / floors.groupBySeconds).toFixed(2)}× that`);
+    }
+    return {
+      contacts: files.contacts,
+      customers,
+      upload: { seconds: median(uploadTimes), customersSeconds: median(customerTimes), contactsSeconds: median(contactTimes), peakMiB: median(uploadPeaks) },
+      refresh: { seconds: median(refreshTimes), serverMs: median(serverTimes), peakGrowthMiB: median(growth) },
+      pull,
+      floors,
+    };
+  } finally {
+    await service.stop();
+    await workspace.cleanup();
+  }
+}
+
+function machineDescription(): string {
+  const cpus = os.cpus();
+  return `${cpus.length} × ${cpus[0]?.model ?? 'unknown CPU'}, ${(os.totalmem() / 1024 ** 3).toFixed(0)} GiB, ${os.type()} ${os.release()}, Node ${process.version}`;
+}
+
+function resultsMarkdown(results: SizeResult[]): string {
+  const lines = [
+    `### ${dialect === 'sqlite' ? 'SQLite' : 'PostgreSQL'} — ${new Date().toISOString().slice(0, 10)}`,
+    '',
+    `Machine: ${machineDescription()}. Medians of ${runs} runs (refresh: ${Math.max(runs, 5)} runs). Command: \`${dialect === 'postgres' ? 'DATABASE_URL=postgres://… ' : ''}npm run bench -- --sizes ${sizes.join(',')} --runs ${runs}\`.`,
+    '',
+    '| contacts | customers | upload total | contacts upload | rows/s (contacts) | upload peak RSS | refresh | refresh in service | refresh peak growth | pull req/s | pull p50 | pull p99 | pull errors | bare INSERT | upload ÷ floor | bare GROUP BY | refresh ÷ floor |',
+    '| ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |',
+  ];
+  for (const result of results) {
+    const floors = result.floors;
+    lines.push(
+      [
+        result.contacts.toLocaleString('en-US'),
+        result.customers.toLocaleString('en-US'),
+        seconds(result.upload.seconds),
+        seconds(result.upload.contactsSeconds),
+        perSecond(result.contacts, result.upload.contactsSeconds),
+        `${result.upload.peakMiB.toFixed(0)} MiB`,
+        seconds(result.refresh.seconds),
+        `${result.refresh.serverMs.toFixed(0)} ms`,
+        `${result.refresh.peakGrowthMiB.toFixed(0)} MiB`,
+        Math.round(result.pull.requestsPerSecond).toString(),
+        `${result.pull.p50} ms`,
+        `${result.pull.p99} ms`,
+        String(result.pull.errors + result.pull.non2xx),
+        floors ? seconds(floors.insertSeconds) : '—',
+        floors ? `${(result.upload.contactsSeconds / floors.insertSeconds).toFixed(2)}×` : '—',
+        floors ? seconds(floors.groupBySeconds) : '—',
+        floors ? `${(result.refresh.seconds / floors.groupBySeconds).toFixed(2)}×` : '—',
+      ].join(' | ').replace(/^/, '| ').replace(/$/, ' |'),
+    );
+  }
+  return lines.join('\n') + '\n';
+}
+
+const results: SizeResult[] = [];
+for (const size of sizes) results.push(await benchSize(size));
+const section = resultsMarkdown(results);
+console.log(`\n${section}`);
+if (!options['no-results']) {
+  const file = path.resolve('bench/RESULTS.md');
+  const marker = `<!-- ${dialect} -->`;
+  const existing = fs.existsSync(file) ? fs.readFileSync(file, 'utf8') : '# Benchmark results\n\nWritten by `npm run bench`; each section is replaced by the next run on that database.\n\n<!-- sqlite -->\n<!-- /sqlite -->\n\n<!-- postgres -->\n<!-- /postgres -->\n';
+  const pattern = new RegExp(`${marker}[\\s\\S]*?<!-- /${dialect} -->`);
+  fs.writeFileSync(file, existing.replace(pattern, `${marker}\n${section}<!-- /${dialect} -->`));
+  console.log(`figures written to ${path.relative(process.cwd(), file)}`);
+}
