@@ -51,8 +51,8 @@ describe.each(TEST_DIALECTS)('CSV uploads on %s', (dialect) => {
     expect(receipt).toMatchObject({ rows: 3, inserted: 1, rejected: 2 });
     const rejected = await testApp.app.inject({ method: 'GET', url: `/v1/ingests/${receipt.ingest_id}/rejected` });
     expect(rejected.json<{ rows: unknown[] }>().rows).toEqual([
-      { line: 2, column: 'region', value: 'North\nvale', reason: 'region must not contain control characters' },
-      { line: 5, column: 'customer_type', value: 'nobody', reason: 'customer_type must be one of individual, company' },
+      { row: 1, line: 2, column: 'region', value: 'North\nvale', reason: 'region must not contain control characters' },
+      { row: 3, line: 5, column: 'customer_type', value: 'nobody', reason: 'customer_type must be one of individual, company' },
     ]);
   });
 
