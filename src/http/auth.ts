@@ -42,6 +42,20 @@ declare module 'fastify' {
   }
 }
 
+/** The key from `Bearer <key>`, or from Basic credentials whose password is the key (any user name). */
+export function presentedKey(header: string | undefined): string | null {
+  if (header === undefined) return null;
+  const [scheme, ...rest] = header.trim().split(/\s+/);
+  const credentials = rest.join(' ');
+  if (scheme?.toLowerCase() === 'bearer') return credentials || null;
+  if (scheme?.toLowerCase() === 'basic') {
+    const decoded = Buffer.from(credentials, 'base64').toString('utf8');
+    const separator = decoded.indexOf(':');
+    return separator === -1 ? null : decoded.slice(separator + 1) || null;
+  }
+  return null;
+}
+
 export function registerAuth(app: FastifyInstance, options: { db: Kysely<Database>; mode: 'keys' | 'open' }): void {
   app.decorateRequest('apiKey', null);
   if (options.mode === 'open') return;
@@ -50,14 +64,20 @@ export function registerAuth(app: FastifyInstance, options: { db: Kysely<Databas
     if (routeUrl === undefined) return; // no such route: the 404 handler answers
     const access = accessFor(request.method === 'HEAD' ? 'GET' : request.method, routeUrl);
     if (access === 'public') return;
-    const header = request.headers.authorization;
-    const presented = header?.startsWith('Bearer ') ? header.slice('Bearer '.length).trim() : null;
+    const presented = presentedKey(request.headers.authorization);
+    // Browsers cannot send a bearer token when following a link; for the web page they are
+    // asked for Basic credentials instead, with the key as the password.
+    const challenge = routeUrl.startsWith('/reports/') ? 'Basic realm="segrank", charset="UTF-8"' : 'Bearer';
     if (!presented) {
-      return sendProblem(reply.header('www-authenticate', 'Bearer'), request, new Problem('unauthorized', 'send an API key as "Authorization: Bearer <key>"'));
+      return sendProblem(reply.header('www-authenticate', challenge), request, new Problem('unauthorized', 'send an API key as "Authorization: Bearer <key>"'));
     }
     const verified = await verifyKey(options.db, presented);
     if (!verified) {
-      return sendProblem(reply.header('www-authenticate', 'Bearer error="invalid_token"'), request, new Problem('unauthorized', 'the API key is not valid or has been revoked'));
+      return sendProblem(
+        reply.header('www-authenticate', challenge === 'Bearer' ? 'Bearer error="invalid_token"' : challenge),
+        request,
+        new Problem('unauthorized', 'the API key is not valid or has been revoked'),
+      );
     }
     if (verified.role !== 'admin' && !access.includes(verified.role)) {
       return sendProblem(reply, request, new Problem('forbidden', `this route needs a key with role ${access.join(' or ')}; this key has role ${verified.role}`));

@@ -4,7 +4,7 @@ import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { buildApp } from '../../src/app.js';
 import { createKey, revokeKey, verifyKey } from '../../src/auth/keys.js';
 import { ConfigError, loadConfig } from '../../src/config.js';
-import { ROUTE_ACCESS } from '../../src/http/auth.js';
+import { ROUTE_ACCESS, presentedKey } from '../../src/http/auth.js';
 import { REDACTED_PATHS } from '../../src/logger.js';
 import { createTestApp, type TestApp } from '../support/app.js';
 import { TEST_DIALECTS, createTestDatabase, type TestDatabase } from '../support/database.js';
@@ -70,6 +70,13 @@ describe.each(TEST_DIALECTS)('API keys and roles on %s', (dialect) => {
     expect((await upload(`Bearer ${ingest.key}`)).statusCode).toBe(401);
   });
 
+  it('accepts the key as the password of Basic credentials, which a browser can send', async () => {
+    const ingest = await createKey(testApp.database.handle.db, 'ingest', 'uploads');
+    const basic = `Basic ${Buffer.from(`anyone:${ingest.key}`).toString('base64')}`;
+    expect((await upload(basic)).statusCode).toBe(201);
+    expect((await upload(`Basic ${Buffer.from('anyone:wrong').toString('base64')}`)).statusCode).toBe(401);
+  });
+
   it('keeps public routes open', async () => {
     expect((await testApp.app.inject({ method: 'GET', url: '/healthz' })).statusCode).toBe(200);
     expect((await testApp.app.inject({ method: 'GET', url: '/openapi.yaml' })).statusCode).toBe(200);
@@ -114,6 +121,16 @@ describe('the access table', () => {
     expect(lines.length).toBeGreaterThan(0);
     expect(lines.join('')).not.toContain(secret);
     expect(lines.join('')).toContain('[redacted]');
+  });
+});
+
+describe('presentedKey', () => {
+  it('reads bearer tokens and Basic passwords, and nothing else', () => {
+    expect(presentedKey('Bearer sgr_x')).toBe('sgr_x');
+    expect(presentedKey(`Basic ${Buffer.from('user:sgr_y').toString('base64')}`)).toBe('sgr_y');
+    expect(presentedKey(`Basic ${Buffer.from('no-colon').toString('base64')}`)).toBeNull();
+    expect(presentedKey('Digest abc')).toBeNull();
+    expect(presentedKey(undefined)).toBeNull();
   });
 });
 
