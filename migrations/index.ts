@@ -4,9 +4,11 @@
  */
 import type { Migration } from 'kysely';
 import * as records from './0001_records.js';
+import * as reports from './0002_reports.js';
 import * as apiKeys from './0003_api_keys.js';
 
 export const migrations: Record<string, Migration> = {
   '0001_records': records,
+  '0002_reports': reports,
   '0003_api_keys': apiKeys,
 };

@@ -15,6 +15,10 @@ const commands: Record<string, { summary: string; run: Command }> = {
     summary: 'create the database, load the invented demo data, start the service and print URLs to try',
     run: async (args, config) => (await import('../seed/demo.js')).runDemo(args, config),
   },
+  refresh: {
+    summary: 'refresh every weekly report now (for an external scheduler); --all for every report, or name report ids',
+    run: async (args, config) => (await import('./schedule/command.js')).runRefreshCommand(args, config),
+  },
 };
 
 function usage(): string {

@@ -149,15 +149,6 @@ export interface ScheduledJobsTable {
 }
 
 // Declaration merging adds the report tables to the one Database interface above.
-export interface ApiKeysTable {
-  key_id: string;
-  name: string;
-  role: string;
-  secret_sha256: string;
-  created_at: string;
-  revoked_at: string | null;
-}
-
 export interface Database {
   reports: ReportsTable;
   report_snapshots: ReportSnapshotsTable;

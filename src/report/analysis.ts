@@ -1,0 +1,186 @@
+/**
+ * The statistics of one segment against the rest of the population, from sufficient
+ * statistics only. Every figure comes from the statistics core; this module decides which
+ * method applies (z-test or Fisher's exact test) and what "the rest" is.
+ */
+import {
+  cohensH,
+  fisherExactTest,
+  hedgesG,
+  katzRatioInterval,
+  minimumDetectableRateDifference,
+  newcombeDifferenceInterval,
+  notComputable,
+  computed,
+  standardNormalQuantile,
+  tInterval,
+  twoProportionZTest,
+  welchTTest,
+  wilsonInterval,
+  type EstimateWithInterval,
+  type MeanInterval,
+  type Outcome,
+  type Summary,
+  type TwoSampleTTestResult,
+} from '../stats/index.js';
+import type { GroupStats } from '../segments/rollup.js';
+import type { ValueBasis } from './definition.js';
+
+/** Planning power of the minimum detectable difference: 80 %, the convention of Cohen (1988). */
+export const PLANNING_POWER = 0.8;
+
+/**
+ * Fisher's exact test replaces the z-test when an expected cell count of the 2×2 table is
+ * below 5 (common practice: the rule of thumb for the normal approximation).
+ */
+export const MIN_EXPECTED_CELL_COUNT = 5;
+
+export interface RateTest {
+  kind: 'z' | 'fisher';
+  pValue: number;
+  /** the z statistic (z-test only) */
+  z: number | null;
+}
+
+export interface SegmentStatistics {
+  tested: boolean;
+  /** why the segment was not tested, when it was not */
+  untestedReason: 'segment_too_small' | 'rest_too_small' | null;
+  rate: Outcome<EstimateWithInterval>;
+  restRate: number | null;
+  difference: Outcome<EstimateWithInterval>;
+  lift: Outcome<EstimateWithInterval>;
+  rateTest: Outcome<RateTest>;
+  cohensH: number | null;
+  segmentValue: Summary;
+  restValue: Summary;
+  valueMean: Outcome<MeanInterval>;
+  valueComparison: Outcome<TwoSampleTTestResult>;
+  hedgesG: Outcome<number>;
+  /** minimum detectable rate difference upwards and downwards at 80 % power */
+  rateMdd: { increase: Outcome<number>; decrease: Outcome<number> };
+  /** minimum detectable difference of the value mean (either direction) at 80 % power */
+  valueMdd: Outcome<number>;
+}
+
+const notTested = (what: string) => notComputable(`${what} is not computed: the segment was not tested.`);
+
+/** The value summary the report's value basis uses. */
+export function valueSummary(stats: GroupStats, basis: ValueBasis): Summary {
+  return basis === 'per_unit' ? stats.unitValue : stats.convertedValue;
+}
+
+/**
+ * Chooses and runs the test of two rates: the pooled two-proportion z-test, or Fisher's
+ * exact test when any expected count of the 2×2 table (converted / not converted × segment /
+ * rest) is below 5.
+ * @throws StatsInputError for invalid counts (from the statistics core)
+ * @example
+ * rateTest(3, 10, 40, 400); // Fisher: the expected conversions in the segment are 10·43/410 ≈ 1.05
+ */
+export function rateTest(x1: number, n1: number, x2: number, n2: number): Outcome<RateTest> {
+  const total = n1 + n2;
+  const successes = x1 + x2;
+  if (n1 === 0 || n2 === 0) return notComputable('The rate test is undefined: one of the two groups is empty.');
+  const expected = [n1 * successes, n1 * (total - successes), n2 * successes, n2 * (total - successes)].map((product) => product / total);
+  if (Math.min(...expected) < MIN_EXPECTED_CELL_COUNT) {
+    const fisher = fisherExactTest(x1, n1, x2, n2);
+    return fisher.ok ? computed({ kind: 'fisher', pValue: fisher.value.pValue, z: null }) : fisher;
+  }
+  const z = twoProportionZTest(x1, n1, x2, n2);
+  return z.ok ? computed({ kind: 'z', pValue: z.value.pValue, z: z.value.z }) : z;
+}
+
+/**
+ * Minimum detectable difference of two means at the given power, by the normal
+ * approximation d = (z(1 − α/2) + z(power))·√(s₁²/n₁ + s₂²/n₂) with the observed standard
+ * deviations (unpooled, as Welch's test). Source: Cohen, J. (1988), Statistical Power
+ * Analysis for the Behavioral Sciences, 2nd ed., ch. 2 (the normal approximation to the power
+ * of the t-test, from memory). Undefined (with a reason) when a group has fewer than 2 values
+ * or both have no spread.
+ * @throws StatsInputError when alpha or power is outside (0, 1) (from the statistics core)
+ * @example
+ * minimumDetectableMeanDifference({ n: 100, mean: 10, sumSquaredDeviations: 99 * 4 }, { n: 100, mean: 9, sumSquaredDeviations: 99 * 4 }, 0.05, 0.8);
+ * // { ok: true, value: 0.7923… } (2.8016 · √(4/100 + 4/100))
+ */
+export function minimumDetectableMeanDifference(a: Summary, b: Summary, alpha: number, power: number): Outcome<number> {
+  const criticalSum = standardNormalQuantile(1 - alpha / 2) + standardNormalQuantile(power);
+  if (a.n < 2 || b.n < 2) return notComputable('The minimum detectable difference of the means is undefined: each group needs at least 2 values.');
+  const varianceOfDifference = a.sumSquaredDeviations / (a.n - 1) / a.n + b.sumSquaredDeviations / (b.n - 1) / b.n;
+  if (varianceOfDifference === 0) return notComputable('The minimum detectable difference of the means is undefined: neither group varies.');
+  return computed(criticalSum * Math.sqrt(varianceOfDifference));
+}
+
+/**
+ * Every statistic of one segment against the rest. Segments (or rests) smaller than `minN`
+ * are not tested: their own rate and mean with intervals are given, comparisons are not.
+ * The minimum detectable differences are computed for untested segments too, so a report can
+ * say what such a group could have shown.
+ * @throws StatsInputError when the counts are inconsistent (from the statistics core)
+ * @example
+ * analyzeSegment(segmentStats, restStats, { confidence: 0.95, minN: 30, valueBasis: 'per_unit' });
+ */
+export function analyzeSegment(
+  segment: GroupStats,
+  rest: GroupStats,
+  settings: { confidence: number; minN: number; valueBasis: ValueBasis },
+): SegmentStatistics {
+  const { confidence, minN, valueBasis } = settings;
+  const alpha = 1 - confidence;
+  const untestedReason = segment.n < minN ? 'segment_too_small' : rest.n < minN ? 'rest_too_small' : null;
+  const tested = untestedReason === null;
+  const segmentValue = valueSummary(segment, valueBasis);
+  const restValue = valueSummary(rest, valueBasis);
+  const restRate = rest.n > 0 ? rest.conversions / rest.n : null;
+
+  const bothPresent = segment.n > 0 && rest.n > 0;
+  const rateMdd = {
+    increase: bothPresent
+      ? minimumDetectableRateDifference({ n1: segment.n, n2: rest.n, baselineRate: restRate as number, alpha, power: PLANNING_POWER, direction: 'increase' })
+      : notComputable('The minimum detectable difference is undefined: the segment or the rest is empty.'),
+    decrease: bothPresent
+      ? minimumDetectableRateDifference({ n1: segment.n, n2: rest.n, baselineRate: restRate as number, alpha, power: PLANNING_POWER, direction: 'decrease' })
+      : notComputable('The minimum detectable difference is undefined: the segment or the rest is empty.'),
+  };
+
+  const rate = wilsonInterval(segment.conversions, segment.n, confidence);
+  const valueMean = tInterval(segmentValue, confidence);
+  const valueMdd = minimumDetectableMeanDifference(segmentValue, restValue, alpha, PLANNING_POWER);
+  if (!tested) {
+    return {
+      tested,
+      untestedReason,
+      rate,
+      restRate,
+      difference: notTested('The difference of rates'),
+      lift: notTested('The lift'),
+      rateTest: notTested('The rate test'),
+      cohensH: null,
+      segmentValue,
+      restValue,
+      valueMean,
+      valueComparison: notTested('The value comparison'),
+      hedgesG: notTested("Hedges' g"),
+      rateMdd,
+      valueMdd,
+    };
+  }
+  const segmentRate = segment.conversions / segment.n;
+  return {
+    tested,
+    untestedReason,
+    rate,
+    restRate,
+    difference: newcombeDifferenceInterval(segment.conversions, segment.n, rest.conversions, rest.n, confidence),
+    lift: katzRatioInterval(segment.conversions, segment.n, rest.conversions, rest.n, confidence),
+    rateTest: rateTest(segment.conversions, segment.n, rest.conversions, rest.n),
+    cohensH: cohensH(segmentRate, restRate as number),
+    segmentValue,
+    restValue,
+    valueMean,
+    valueComparison: welchTTest(segmentValue, restValue, confidence),
+    hedgesG: hedgesG(segmentValue, restValue),
+    rateMdd,
+    valueMdd,
+  };
+}

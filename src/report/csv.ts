@@ -1,0 +1,61 @@
+/**
+ * The ranked table as CSV (RFC 4180) for BI tools and spreadsheets: the columns of
+ * `SEGMENT_ROW_FIELDS` in order, CRLF line ends, numbers written plainly (`.` decimal, no
+ * thousands separators, no exponent), null as an empty cell, and text that a spreadsheet
+ * would run as a formula neutralised with a leading single quote.
+ */
+import { SEGMENT_ROW_FIELDS, type SegmentRow } from './rows.js';
+
+// Cells starting with these characters are read as formulas by common spreadsheet programs
+// (OWASP "CSV injection" guidance — common practice).
+const FORMULA_START = /^[=+\-@\t\r]/;
+
+/**
+ * A number in plain decimal notation: `String(x)` unless that would use an exponent, in which
+ * case the digits are written out (1.5e-7 → 0.00000015). The value reads back identically.
+ * @throws Error for a non-finite number (a snapshot never holds one)
+ * @example
+ * plainNumber(-0.0123); // '-0.0123'
+ * plainNumber(3.2e-15); // '0.0000000000000032'
+ */
+export function plainNumber(value: number): string {
+  if (!Number.isFinite(value)) throw new Error(`cannot write ${value} as a CSV number`);
+  const text = String(value);
+  const match = /^(-?)(\d)(?:\.(\d+))?e([+-]\d+)$/.exec(text);
+  if (!match) return text;
+  const [, sign, lead, fraction = '', exponentText] = match as unknown as [string, string, string, string | undefined, string];
+  const exponent = Number(exponentText);
+  const digits = `${lead}${fraction}`;
+  if (exponent < 0) return `${sign}0.${'0'.repeat(-exponent - 1)}${digits}`;
+  if (digits.length <= exponent + 1) return `${sign}${digits}${'0'.repeat(exponent + 1 - digits.length)}`;
+  return `${sign}${digits.slice(0, exponent + 1)}.${digits.slice(exponent + 1)}`;
+}
+
+/**
+ * One text cell: neutralised if it would start a formula, quoted if it holds a comma, quote
+ * or line break.
+ * @example
+ * textCell('=SUM(A1)'); // "'=SUM(A1)"
+ * textCell('North, coast'); // '"North, coast"'
+ */
+export function textCell(value: string): string {
+  const safe = FORMULA_START.test(value) ? `'${value}` : value;
+  return /[",\r\n]/.test(safe) ? `"${safe.replace(/"/g, '""')}"` : safe;
+}
+
+function cell(value: unknown): string {
+  if (value === null || value === undefined) return '';
+  if (typeof value === 'number') return plainNumber(value);
+  return textCell(String(value));
+}
+
+/**
+ * The ranked rows as CSV text with a header row.
+ * @example
+ * segmentsCsv(rows).split('\r\n')[0]; // 'rank,segment,dimensions,n,share,…,verdict,summary'
+ */
+export function segmentsCsv(rows: readonly SegmentRow[]): string {
+  const lines = [SEGMENT_ROW_FIELDS.join(',')];
+  for (const row of rows) lines.push(SEGMENT_ROW_FIELDS.map((field) => cell(row[field])).join(','));
+  return `${lines.join('\r\n')}\r\n`;
+}

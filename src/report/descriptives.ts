@@ -1,0 +1,186 @@
+/**
+ * Per-dimension profiles: the frequency table of each dimension (Pareto order), the
+ * descriptive statistics of value and age for each of its values, and the age–value
+ * correlation. Distributions arrive as grouped counts (value, count) from SQL; the statistics
+ * core reads lists of values, so a group's counts are expanded into a list only while the
+ * group is at most `MAX_EXPANDED_VALUES` units. Beyond that the figures that need the whole
+ * distribution (median, quartiles, modes, skewness) are null with the reason stated, and the
+ * mean and standard deviation still come from the exact sufficient statistics.
+ */
+import {
+  coefficientOfVariation,
+  frequencyTable,
+  mean,
+  modes,
+  pearsonCorrelationFromMoments,
+  quartiles,
+  skewness,
+  standardDeviation,
+  summaryFromShiftedSums,
+  summaryVariance,
+  type Outcome,
+  type Summary,
+} from '../stats/index.js';
+import type { PairedShiftedSums, Shifts } from '../segments/aggregate.js';
+import type { Group } from '../segments/rollup.js';
+import type { Correlation, Descriptives, DimensionProfile, DimensionValueProfile } from './rows.js';
+
+/** Largest group whose grouped counts are expanded into a list of values for the statistics core. */
+export const MAX_EXPANDED_VALUES = 100_000;
+
+export interface WeightedValue {
+  value: number;
+  count: number;
+}
+
+function valueOrNull<T>(outcome: Outcome<T>, notes: string[]): T | null {
+  if (outcome.ok) return outcome.value;
+  notes.push(outcome.reason);
+  return null;
+}
+
+/** Whether a group of `n` values is described value by value (so its grouped counts are needed). */
+export function isExpandable(n: number): boolean {
+  return n <= MAX_EXPANDED_VALUES;
+}
+
+/**
+ * Descriptive statistics of one group from its grouped counts and its summary. Counts are
+ * null for a group too large to expand (they are then not read from the database at all).
+ * @throws Error when the counts do not add up to the summary's n (a programming error)
+ * @example
+ * describeDistribution([{ value: 0, count: 3 }, { value: 10, count: 1 }], summarize([0, 0, 0, 10]));
+ * // { n: 4, mean: 2.5, median: 0, modes: [0], … }
+ */
+export function describeDistribution(counts: readonly WeightedValue[] | null, summary: Summary): Descriptives {
+  const notes: string[] = [];
+  if (summary.n === 0) {
+    return { n: 0, mean: null, median: null, modes: null, standard_deviation: null, coefficient_of_variation: null, skewness: null, q1: null, q3: null, notes: ['There are no values.'] };
+  }
+  if (counts !== null && isExpandable(summary.n)) {
+    const total = counts.reduce((sum, entry) => sum + entry.count, 0);
+    if (total !== summary.n) throw new Error(`grouped counts (${total}) and summary (${summary.n}) disagree`);
+    const values: number[] = [];
+    for (const entry of [...counts].sort((left, right) => left.value - right.value)) {
+      for (let copy = 0; copy < entry.count; copy += 1) values.push(entry.value);
+    }
+    const quartileValues = valueOrNull(quartiles(values), notes);
+    return {
+      n: summary.n,
+      mean: valueOrNull(mean(values), notes),
+      median: quartileValues?.median ?? null,
+      modes: modes(values),
+      standard_deviation: valueOrNull(standardDeviation(values), notes),
+      coefficient_of_variation: valueOrNull(coefficientOfVariation(values), notes),
+      skewness: valueOrNull(skewness(values), notes),
+      q1: quartileValues?.q1 ?? null,
+      q3: quartileValues?.q3 ?? null,
+      notes,
+    };
+  }
+  const variance = valueOrNull(summaryVariance(summary), notes);
+  const deviation = variance === null ? null : Math.sqrt(variance);
+  notes.push(`The median, quartiles, modes and skewness are not computed for groups of more than ${MAX_EXPANDED_VALUES} values.`);
+  return {
+    n: summary.n,
+    mean: summary.mean,
+    median: null,
+    modes: null,
+    standard_deviation: deviation,
+    // The same definition as the statistics core's coefficientOfVariation: sd / mean, for a positive mean only.
+    coefficient_of_variation: deviation !== null && summary.mean > 0 ? deviation / summary.mean : null,
+    skewness: null,
+    q1: null,
+    q3: null,
+    notes,
+  };
+}
+
+/**
+ * Pearson's r of age and value from the shifted sums of SQL: the centred moments are
+ * Σ(x − x̄)² = Sxx − Sx²/n (as `summaryFromShiftedSums`) and Σ(x − x̄)(y − ȳ) = Sxy − Sx·Sy/n,
+ * exact when the shifts are near the means; the test and interval are the core's.
+ */
+export function correlationFromSums(sums: PairedShiftedSums, shifts: Shifts, confidence: number): Correlation {
+  if (sums.n === 0) return { n: 0, r: null, ci_low: null, ci_high: null, p_value: null, note: 'There are no units with both an age and a value.' };
+  const ageSpread = summaryFromShiftedSums(sums.n, shifts.age, sums.ageSum, sums.ageSquaredSum).sumSquaredDeviations;
+  const valueSpread = summaryFromShiftedSums(sums.n, 0, sums.valueSum, sums.valueSquaredSum).sumSquaredDeviations;
+  const crossDeviations = sums.crossSum - (sums.ageSum * sums.valueSum) / sums.n;
+  const result = pearsonCorrelationFromMoments(
+    { n: sums.n, sumSquaredDeviationsX: ageSpread, sumSquaredDeviationsY: valueSpread, sumCrossDeviations: crossDeviations },
+    confidence,
+  );
+  if (!result.ok) return { n: sums.n, r: null, ci_low: null, ci_high: null, p_value: null, note: result.reason };
+  return { n: sums.n, r: result.value.r, ci_low: result.value.interval.low, ci_high: result.value.interval.high, p_value: result.value.pValue, note: null };
+}
+
+export interface ProfileInput {
+  dimensions: readonly string[];
+  /** one-way groups of every dimension (from the roll-up) */
+  oneWay: readonly Group[];
+  ageCounts: ReadonlyArray<{ values: string[]; age: number | null; count: number }>;
+  valueCounts: ReadonlyArray<{ values: string[]; valueCents: number; count: number }>;
+  valueSummary: (group: Group['stats']) => Summary;
+  shifts: Shifts;
+  confidence: number;
+}
+
+function addCount(target: Map<string, Map<number, number>>, key: string, value: number, count: number): void {
+  let inner = target.get(key);
+  if (!inner) target.set(key, (inner = new Map()));
+  inner.set(value, (inner.get(value) ?? 0) + count);
+}
+
+function toWeighted(counts: Map<number, number> | undefined): WeightedValue[] {
+  return [...(counts ?? new Map<number, number>())].map(([value, count]) => ({ value, count }));
+}
+
+/** The grouped value counts of a group, or null when the group is too large and they were not read. */
+function countsIfExpandable(counts: Map<number, number> | undefined, n: number): WeightedValue[] | null {
+  return isExpandable(n) ? toWeighted(counts) : null;
+}
+
+/**
+ * The profile of every dimension: its values in Pareto order with shares, and per value the
+ * descriptives of value and age and their correlation.
+ */
+export function dimensionProfiles(input: ProfileInput): DimensionProfile[] {
+  return input.dimensions.map((dimension, index) => {
+    const groups = input.oneWay.filter((group) => group.dimensions.length === 1 && group.dimensions[0] === dimension);
+    const ages = new Map<string, Map<number, number>>();
+    for (const entry of input.ageCounts) if (entry.age !== null) addCount(ages, entry.values[index] as string, entry.age, entry.count);
+    const values = new Map<string, Map<number, number>>();
+    for (const entry of input.valueCounts) addCount(values, entry.values[index] as string, entry.valueCents / 100, entry.count);
+    const table = frequencyTable(groups.map((group) => ({ label: group.values[0] as string, count: group.stats.n })));
+    const rows = table.ok ? table.value : [];
+    const byLabel = new Map(groups.map((group) => [group.values[0] as string, group]));
+    const profiles: DimensionValueProfile[] = rows.map((row) => {
+      const group = byLabel.get(row.label) as Group;
+      return {
+        value: row.label,
+        n: row.count,
+        share: row.share,
+        cumulative_share: row.cumulativeShare,
+        value_descriptives: describeDistribution(countsIfExpandable(values.get(row.label), input.valueSummary(group.stats).n), input.valueSummary(group.stats)),
+        age_descriptives: describeDistribution(toWeighted(ages.get(row.label)), group.stats.age),
+        age_value_correlation: correlationFromSums(group.stats.ageValue, input.shifts, input.confidence),
+      };
+    });
+    return { dimension, values: profiles };
+  });
+}
+
+/** Descriptives of the whole population, from all grouped counts. */
+export function populationDescriptives(
+  ageCounts: ProfileInput['ageCounts'],
+  valueCounts: ProfileInput['valueCounts'],
+  valueSummary: Summary,
+  ageSummary: Summary,
+): { value: Descriptives; age: Descriptives } {
+  const ages = new Map<number, number>();
+  for (const entry of ageCounts) if (entry.age !== null) ages.set(entry.age, (ages.get(entry.age) ?? 0) + entry.count);
+  const values = new Map<number, number>();
+  for (const entry of valueCounts) values.set(entry.valueCents / 100, (values.get(entry.valueCents / 100) ?? 0) + entry.count);
+  return { value: describeDistribution(countsIfExpandable(values, valueSummary.n), valueSummary), age: describeDistribution(toWeighted(ages), ageSummary) };
+}
+

@@ -1,0 +1,115 @@
+/**
+ * Every SQL statement about report definitions and snapshots. Snapshots are written once and
+ * never updated; their body is the whole snapshot as JSON text.
+ */
+import type { Kysely, Transaction } from 'kysely';
+import type { Database, ReportSnapshotsTable, ReportsTable } from '../db/tables.js';
+
+export type Executor = Kysely<Database> | Transaction<Database>;
+
+/** Stores a new report definition. */
+export async function insertReport(db: Executor, row: ReportsTable): Promise<void> {
+  await db.insertInto('reports').values(row).execute();
+}
+
+/** One report definition, or undefined when there is none with this id. */
+export async function findReport(db: Executor, reportId: string): Promise<ReportsTable | undefined> {
+  return db.selectFrom('reports').selectAll().where('report_id', '=', reportId).executeTakeFirst();
+}
+
+function compareText(left: string, right: string): number {
+  return left === right ? 0 : left < right ? -1 : 1;
+}
+
+/** Oldest first, then by name and id. Ordered here, not in SQL, so both engines agree whatever their collation. */
+function byCreation(left: ReportsTable, right: ReportsTable): number {
+  return compareText(left.created_at, right.created_at) || compareText(left.name, right.name) || compareText(left.report_id, right.report_id);
+}
+
+/** Every report definition, oldest first. */
+export async function listReports(db: Executor): Promise<ReportsTable[]> {
+  const rows = await db.selectFrom('reports').selectAll().execute();
+  return rows.sort(byCreation);
+}
+
+/** The ids of the reports with the given refresh mode, oldest first. */
+export async function listReportIdsByRefresh(db: Executor, refresh: ReportsTable['refresh']): Promise<string[]> {
+  const rows = await db.selectFrom('reports').selectAll().where('refresh', '=', refresh).execute();
+  return rows.sort(byCreation).map((row) => row.report_id);
+}
+
+/** The ids among `campaignIds` with no stored campaign. */
+export async function missingCampaigns(db: Executor, campaignIds: string[]): Promise<string[]> {
+  if (campaignIds.length === 0) return [];
+  const found = await db.selectFrom('campaigns').select('campaign_id').where('campaign_id', 'in', campaignIds).execute();
+  const known = new Set(found.map((row) => row.campaign_id));
+  return campaignIds.filter((id) => !known.has(id));
+}
+
+/** The names among `names` that no customer has as an extra attribute (one indexed look-up each). */
+export async function missingAttributes(db: Executor, names: string[]): Promise<string[]> {
+  const missing: string[] = [];
+  for (const name of names) {
+    const found = await db.selectFrom('customer_attributes').select('name').where('name', '=', name).limit(1).executeTakeFirst();
+    if (!found) missing.push(name);
+  }
+  return missing;
+}
+
+export type SnapshotMeta = Omit<ReportSnapshotsTable, 'body'>;
+
+const META_COLUMNS = ['snapshot_id', 'report_id', 'sequence', 'created_at', 'fingerprint', 'population_rows', 'segment_count', 'duration_ms', 'trigger'] as const;
+
+function toMeta(row: SnapshotMeta): SnapshotMeta {
+  return {
+    ...row,
+    sequence: Number(row.sequence),
+    population_rows: Number(row.population_rows),
+    segment_count: Number(row.segment_count),
+    duration_ms: Number(row.duration_ms),
+  };
+}
+
+/** Snapshots of a report, newest first. */
+export async function listSnapshots(db: Executor, reportId: string, page: { limit: number; offset: number }): Promise<SnapshotMeta[]> {
+  const rows = await db
+    .selectFrom('report_snapshots')
+    .select(META_COLUMNS)
+    .where('report_id', '=', reportId)
+    .orderBy('sequence', 'desc')
+    .limit(page.limit)
+    .offset(page.offset)
+    .execute();
+  return rows.map(toMeta);
+}
+
+/** How many snapshots a report has. */
+export async function countSnapshots(db: Executor, reportId: string): Promise<number> {
+  const row = await db.selectFrom('report_snapshots').select((eb) => eb.fn.countAll().as('count')).where('report_id', '=', reportId).executeTakeFirst();
+  return Number(row?.count ?? 0);
+}
+
+/** The newest snapshot's summary (without its body), or undefined when there is none. */
+export async function latestSnapshotMeta(db: Executor, reportId: string): Promise<SnapshotMeta | undefined> {
+  const row = await db.selectFrom('report_snapshots').select(META_COLUMNS).where('report_id', '=', reportId).orderBy('sequence', 'desc').limit(1).executeTakeFirst();
+  return row ? toMeta(row) : undefined;
+}
+
+/** The body of one snapshot (`latest` for the newest); undefined when there is none. */
+export async function findSnapshotBody(db: Executor, reportId: string, snapshotId: string): Promise<string | undefined> {
+  let query = db.selectFrom('report_snapshots').select('body').where('report_id', '=', reportId);
+  query = snapshotId === 'latest' ? query.orderBy('sequence', 'desc').limit(1) : query.where('snapshot_id', '=', snapshotId);
+  const row = await query.executeTakeFirst();
+  return row?.body;
+}
+
+/** The sequence number the next snapshot of a report takes: one more than the highest so far. */
+export async function nextSnapshotSequence(db: Executor, reportId: string): Promise<number> {
+  const row = await db.selectFrom('report_snapshots').select((eb) => eb.fn.max('sequence').as('sequence')).where('report_id', '=', reportId).executeTakeFirst();
+  return Number(row?.sequence ?? 0) + 1;
+}
+
+/** Stores a snapshot; the unique (report, sequence) key refuses a second snapshot with the same number. */
+export async function insertSnapshot(db: Executor, row: ReportSnapshotsTable): Promise<void> {
+  await db.insertInto('report_snapshots').values(row).execute();
+}

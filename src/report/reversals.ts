@@ -1,0 +1,73 @@
+/**
+ * The reversal check (Simpson's paradox): a pair of values of one dimension whose order on
+ * the ranking metric overall is reversed within every level of another dimension. Source:
+ * Simpson, E. H. (1951). The interpretation of interaction in contingency tables. JRSS B 13,
+ * 238–241.
+ *
+ * Only cells with at least `min_n` units take part, both overall and within levels, so that a
+ * "reversal" is not just the noise of tiny cells; at least two levels must be compared.
+ */
+import { groupBy, type Group, type GroupStats } from '../segments/rollup.js';
+import type { Reversal } from './rows.js';
+
+/** Fewest levels of the other dimension in which a reversal must hold. */
+export const MIN_LEVELS_FOR_REVERSAL = 2;
+
+export interface ReversalInput {
+  dimensions: readonly string[];
+  cells: ReadonlyArray<{ values: string[]; stats: GroupStats }>;
+  minN: number;
+  /** the ranking metric of a group, or null when it cannot be computed */
+  metric: (stats: GroupStats) => number | null;
+}
+
+/**
+ * Every reversal among the report's dimensions, in a stable order (dimension, other
+ * dimension, higher value, lower value). The `sentence` is left empty for the caller to word.
+ * @example
+ * findReversals({ dimensions: ['region', 'channel'], cells, minN: 30, metric: (stats) => stats.conversions / stats.n });
+ */
+export function findReversals(input: ReversalInput): Array<Omit<Reversal, 'sentence'>> {
+  const found: Array<Omit<Reversal, 'sentence'>> = [];
+  const { dimensions, cells, minN, metric } = input;
+  const metricOf = (group: Group | undefined) => (group === undefined || group.stats.n < minN ? null : metric(group.stats));
+  dimensions.forEach((dimension, index) => {
+    const overall = groupBy(cells, dimensions, [index]);
+    dimensions.forEach((within, withinIndex) => {
+      if (withinIndex === index) return;
+      const pairs = groupBy(cells, dimensions, [index, withinIndex]);
+      const cell = new Map(pairs.map((group) => [JSON.stringify([group.values[0], group.values[1]]), group]));
+      const levels = [...new Set(pairs.map((group) => group.values[1] as string))];
+      for (const first of overall) {
+        for (const second of overall) {
+          const firstMetric = metricOf(first);
+          const secondMetric = metricOf(second);
+          if (firstMetric === null || secondMetric === null || !(firstMetric > secondMetric)) continue;
+          const higher = first.values[0] as string;
+          const lower = second.values[0] as string;
+          let compared = 0;
+          let reversedEverywhere = true;
+          for (const level of levels) {
+            const higherWithin = metricOf(cell.get(JSON.stringify([higher, level])));
+            const lowerWithin = metricOf(cell.get(JSON.stringify([lower, level])));
+            if (higherWithin === null || lowerWithin === null) continue;
+            compared += 1;
+            if (!(higherWithin < lowerWithin)) reversedEverywhere = false;
+          }
+          if (reversedEverywhere && compared >= MIN_LEVELS_FOR_REVERSAL) {
+            found.push({
+              dimension,
+              within,
+              higher_overall: higher,
+              lower_overall: lower,
+              higher_overall_metric: firstMetric,
+              lower_overall_metric: secondMetric,
+              levels_compared: compared,
+            });
+          }
+        }
+      }
+    });
+  });
+  return found;
+}

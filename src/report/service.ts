@@ -1,0 +1,257 @@
+/**
+ * Report definitions and snapshots as the API sees them: save and read definitions, and
+ * compute a snapshot (read the aggregates in one consistent read, build, store).
+ */
+import { randomUUID } from 'node:crypto';
+import type { Kysely } from 'kysely';
+import type { Dialect } from '../db/connect.js';
+import type { Database, ReportsTable, SnapshotTrigger } from '../db/tables.js';
+import type { Logger } from '../logger.js';
+import {
+  cellAggregates,
+  populationTotals,
+  shiftsFromTotals,
+  sourceQuality,
+  valueDistribution,
+  type AggregationRequest,
+  type CellAggregate,
+  type PopulationSource,
+  type ValueDistributionScope,
+} from '../segments/aggregate.js';
+import { buildSnapshot, type PreviousWindow } from './compute.js';
+import { normalizeDefinition, type ReportDefinition } from './definition.js';
+import { isExpandable } from './descriptives.js';
+import * as repository from './repository.js';
+import type { Snapshot } from './rows.js';
+
+export interface ReportDependencies {
+  dialect: Dialect;
+  /** reads and writes */
+  db: Kysely<Database>;
+  /** reads that must not wait behind uploads (SQLite: a second connection) */
+  readDb: Kysely<Database>;
+  logger: Logger;
+  now: () => Date;
+}
+
+/** A saved report as the API returns it: its definition, id, creation time and latest snapshot. */
+export interface ReportResource extends ReportDefinition {
+  report_id: string;
+  created_at: string;
+  latest_snapshot: { snapshot_id: string; sequence: number; created_at: string } | null;
+}
+
+export class ReportNotFoundError extends Error {
+  override name = 'ReportNotFoundError';
+  constructor(readonly reportId: string) {
+    super(`no report with id ${reportId}`);
+  }
+}
+
+function parseDefinition(row: ReportsTable): ReportDefinition {
+  return JSON.parse(row.definition) as ReportDefinition;
+}
+
+async function toResource(db: Kysely<Database>, row: ReportsTable): Promise<ReportResource> {
+  const latest = await repository.latestSnapshotMeta(db, row.report_id);
+  return {
+    report_id: row.report_id,
+    ...parseDefinition(row),
+    created_at: row.created_at,
+    latest_snapshot: latest ? { snapshot_id: latest.snapshot_id, sequence: latest.sequence, created_at: latest.created_at } : null,
+  };
+}
+
+/**
+ * Checks and saves a report definition.
+ * @throws InvalidDefinitionError listing every problem of the body
+ */
+export async function createReport(deps: ReportDependencies, body: unknown): Promise<ReportResource> {
+  const definition = await normalizeDefinition(body, {
+    missingCampaigns: (ids) => repository.missingCampaigns(deps.readDb, ids),
+    missingAttributes: (names) => repository.missingAttributes(deps.readDb, names),
+  });
+  const row: ReportsTable = {
+    report_id: randomUUID(),
+    name: definition.name,
+    definition: JSON.stringify(definition),
+    refresh: definition.refresh,
+    created_at: deps.now().toISOString(),
+  };
+  await repository.insertReport(deps.db, row);
+  deps.logger.info({ reportId: row.report_id, name: row.name }, 'report saved');
+  return { report_id: row.report_id, ...definition, created_at: row.created_at, latest_snapshot: null };
+}
+
+/** Every saved report, oldest first, each with its latest snapshot. */
+export async function listReports(deps: ReportDependencies): Promise<ReportResource[]> {
+  const rows = await repository.listReports(deps.db);
+  return Promise.all(rows.map((row) => toResource(deps.db, row)));
+}
+
+/** @throws ReportNotFoundError */
+export async function getReport(deps: ReportDependencies, reportId: string): Promise<ReportResource> {
+  const row = await repository.findReport(deps.db, reportId);
+  if (!row) throw new ReportNotFoundError(reportId);
+  return toResource(deps.db, row);
+}
+
+const DAY_MS = 86_400_000;
+
+function addDays(date: string, days: number): string {
+  return new Date(Date.parse(`${date}T00:00:00Z`) + days * DAY_MS).toISOString().slice(0, 10);
+}
+
+/**
+ * The window of the same length just before `[from, to]` (both ends inclusive), e.g.
+ * 2026-03-08…2026-03-14 for 2026-03-15…2026-03-21.
+ */
+export function precedingWindow(from: string, to: string): { from: string; to: string } {
+  const days = Math.round((Date.parse(`${to}T00:00:00Z`) - Date.parse(`${from}T00:00:00Z`)) / DAY_MS) + 1;
+  return { from: addDays(from, -days), to: addDays(from, -1) };
+}
+
+function populationSource(definition: ReportDefinition): PopulationSource {
+  const source = definition.source;
+  return 'campaign_ids' in source ? { kind: 'campaigns', campaignIds: source.campaign_ids } : { kind: 'sales', from: source.sales_from, to: source.sales_to };
+}
+
+/**
+ * The dimension values whose value distribution is worth reading: only groups small enough to
+ * be described value by value need it, so the sort over the whole population is skipped (or
+ * narrowed) when the groups are large.
+ */
+export function valueDistributionScope(cells: readonly CellAggregate[], definition: ReportDefinition): ValueDistributionScope {
+  const valueCount = (cell: CellAggregate) => (definition.value_basis === 'per_unit' ? cell.n : cell.conversions);
+  if (isExpandable(cells.reduce((sum, cell) => sum + valueCount(cell), 0))) return 'all';
+  const scope: Array<{ dimensionIndex: number; values: string[] }> = [];
+  definition.dimensions.forEach((_dimension, dimensionIndex) => {
+    const sizes = new Map<string, number>();
+    for (const cell of cells) sizes.set(cell.values[dimensionIndex] as string, (sizes.get(cell.values[dimensionIndex] as string) ?? 0) + valueCount(cell));
+    const small = [...sizes].filter(([, size]) => isExpandable(size)).map(([value]) => value);
+    if (small.length > 0) scope.push({ dimensionIndex, values: small });
+  });
+  return scope;
+}
+
+// One refresh at a time per report in this process, so each snapshot compares with the one before it.
+const refreshesInFlight = new Map<string, Promise<unknown>>();
+
+/**
+ * Computes and stores a new snapshot of a report: every aggregate is read in one consistent
+ * read transaction (a snapshot of the data on both engines), then the snapshot is built in
+ * code and written once.
+ * @throws ReportNotFoundError
+ */
+export async function refreshReport(deps: ReportDependencies, reportId: string, trigger: SnapshotTrigger): Promise<Snapshot> {
+  const earlier = refreshesInFlight.get(reportId) ?? Promise.resolve();
+  const run = earlier.catch(() => undefined).then(() => computeAndStore(deps, reportId, trigger));
+  refreshesInFlight.set(reportId, run);
+  try {
+    return await run;
+  } finally {
+    if (refreshesInFlight.get(reportId) === run) refreshesInFlight.delete(reportId);
+  }
+}
+
+async function computeAndStore(deps: ReportDependencies, reportId: string, trigger: SnapshotTrigger): Promise<Snapshot> {
+  const started = performance.now();
+  const row = await repository.findReport(deps.db, reportId);
+  if (!row) throw new ReportNotFoundError(reportId);
+  const definition = parseDefinition(row);
+  const source = populationSource(definition);
+  const request: AggregationRequest = { source, dimensions: definition.dimensions, ageEdges: definition.age_bands, valueBasis: definition.value_basis };
+
+  let transaction = deps.readDb.transaction();
+  if (deps.dialect === 'postgres') transaction = transaction.setIsolationLevel('repeatable read');
+  const data = await transaction.execute(async (trx) => {
+    const totals = await populationTotals(trx, source);
+    const shifts = shiftsFromTotals(totals);
+    const { cells, ageCounts, arithmetic } = await cellAggregates(trx, request, shifts);
+    const valueCounts = await valueDistribution(trx, request, valueDistributionScope(cells, definition));
+    const quality = await sourceQuality(trx, source);
+    let previousWindow: PreviousWindow | null = null;
+    if (source.kind === 'sales') {
+      const window = precedingWindow(source.from, source.to);
+      const previousSource: PopulationSource = { kind: 'sales', from: window.from, to: window.to };
+      const previousShifts = shiftsFromTotals(await populationTotals(trx, previousSource));
+      const previous = await cellAggregates(trx, { ...request, source: previousSource }, previousShifts);
+      previousWindow = { ...window, cells: previous.cells, shifts: previousShifts };
+    }
+    return { shifts, cells, arithmetic, ageCounts, valueCounts, quality, previousWindow };
+  });
+  const queriesDone = performance.now();
+
+  const previousBody = await repository.findSnapshotBody(deps.db, reportId, 'latest');
+  const previousSnapshot = previousBody === undefined ? null : (JSON.parse(previousBody) as Snapshot);
+  const snapshotId = randomUUID();
+  let sequence = await repository.nextSnapshotSequence(deps.db, reportId);
+  const snapshot = buildSnapshot({
+    identity: { snapshotId, reportId, reportName: row.name, sequence, createdAt: deps.now().toISOString(), trigger },
+    definition,
+    ...data,
+    previousSnapshot,
+  });
+  const computed = performance.now();
+  snapshot.duration_ms = Math.round(computed - started);
+
+  // Another instance may have taken the sequence number meanwhile; the unique key refuses the
+  // duplicate, and the next free number is taken.
+  for (let attempt = 1; ; attempt += 1) {
+    try {
+      await repository.insertSnapshot(deps.db, {
+        snapshot_id: snapshotId,
+        report_id: reportId,
+        sequence,
+        created_at: snapshot.created_at,
+        fingerprint: snapshot.fingerprint,
+        population_rows: snapshot.row_counts.population,
+        segment_count: snapshot.row_counts.segments,
+        duration_ms: snapshot.duration_ms,
+        trigger,
+        body: JSON.stringify(snapshot),
+      });
+      break;
+    } catch (error) {
+      if (attempt >= 3) throw error;
+      const next = await repository.nextSnapshotSequence(deps.db, reportId);
+      if (next === sequence) throw error;
+      sequence = next;
+      snapshot.sequence = sequence;
+    }
+  }
+  deps.logger.info(
+    {
+      reportId,
+      snapshotId,
+      sequence,
+      trigger,
+      units: snapshot.row_counts.population,
+      cells: snapshot.row_counts.cells,
+      segments: snapshot.row_counts.segments,
+      queryMs: Math.round(queriesDone - started),
+      computeMs: Math.round(computed - queriesDone),
+      totalMs: snapshot.duration_ms,
+    },
+    'snapshot stored',
+  );
+  return snapshot;
+}
+
+/** @throws ReportNotFoundError */
+export async function listSnapshots(deps: ReportDependencies, reportId: string, page: { limit: number; offset: number }) {
+  const row = await repository.findReport(deps.db, reportId);
+  if (!row) throw new ReportNotFoundError(reportId);
+  const [snapshots, total] = await Promise.all([repository.listSnapshots(deps.db, reportId, page), repository.countSnapshots(deps.db, reportId)]);
+  return { report_id: reportId, total, limit: page.limit, offset: page.offset, snapshots };
+}
+
+/**
+ * The stored JSON text of a snapshot (`latest` accepted), or undefined when the report has no such snapshot.
+ * @throws ReportNotFoundError
+ */
+export async function getSnapshotBody(deps: ReportDependencies, reportId: string, snapshotId: string): Promise<string | undefined> {
+  const row = await repository.findReport(deps.db, reportId);
+  if (!row) throw new ReportNotFoundError(reportId);
+  return repository.findSnapshotBody(deps.db, reportId, snapshotId);
+}

@@ -1,0 +1,152 @@
+import { parse } from 'csv-parse/sync';
+import { afterAll, beforeAll, describe, expect, test } from 'vitest';
+import { segmentsCsv } from '../../src/report/csv.js';
+import { SEGMENT_ROW_FIELDS, type SegmentRow, type Snapshot } from '../../src/report/rows.js';
+import { TEST_DIALECTS } from '../support/database.js';
+import { createTestApp, type TestApp } from '../support/app.js';
+import { createReport, generateDataset, refresh, upload, uploadDataset, REPORT_TEST_SETTINGS } from '../report/fixtures.js';
+
+// Region names a spreadsheet would run as formulas if a cell started with them.
+const HOSTILE_REGIONS = ['=HYPERLINK("http://example.invalid")', '+1+1', '-2+3', '@SUM(A1)'];
+
+describe.each(TEST_DIALECTS)('the ranked segment table for BI tools (%s)', (dialect) => {
+  let context: TestApp;
+  let reportId: string;
+  let first: Snapshot;
+  let second: Snapshot;
+
+  beforeAll(async () => {
+    context = await createTestApp(dialect, REPORT_TEST_SETTINGS);
+    const dataset = generateDataset({ seed: 31, customers: 1200, baseRate: 0.12, plantedRegion: 'Northfield', plantedRate: 0.25 });
+    await uploadDataset(context.app, dataset, 'winter');
+    await upload(
+      context.app,
+      '/v1/customers',
+      HOSTILE_REGIONS.map((region, index) => ({ customer_id: `h${index}`, birth_date: '1980-05-05', region, channel: 'web', customer_type: 'individual', loyalty_tier: 'gold' })),
+    );
+    await upload(
+      context.app,
+      '/v1/campaigns/winter/contacts',
+      HOSTILE_REGIONS.map((_region, index) => ({ customer_id: `h${index}`, contacted_at: '2026-03-01', converted: 0, revenue: '0' })),
+    );
+    const report = await createReport(context.app, { name: 'Winter', source: { campaign_ids: ['winter'] }, dimensions: ['region', 'channel'] });
+    reportId = report.report_id;
+    first = await refresh(context.app, reportId);
+    second = await refresh(context.app, reportId);
+  });
+  afterAll(async () => {
+    await context.close();
+  });
+
+  test('JSON rows have exactly the documented fields, in the documented order', async () => {
+    const response = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments` });
+    expect(response.statusCode).toBe(200);
+    expect(response.headers['content-type']).toBe('application/json; charset=utf-8');
+    const body = response.json();
+    expect(body).toMatchObject({ report_id: reportId, snapshot_id: second.snapshot_id, snapshot_created_at: second.created_at });
+    expect(body.columns).toEqual([...SEGMENT_ROW_FIELDS]);
+    expect(body.segments).toHaveLength(second.segments.length);
+    for (const row of body.segments) expect(Object.keys(row)).toEqual([...SEGMENT_ROW_FIELDS]);
+    expect(body.segments.map((row: SegmentRow) => row.rank).slice(0, 3)).toEqual([1, 2, 3]);
+  });
+
+  test('a missing figure is null in JSON, never 0 or NaN', async () => {
+    const body = (await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments` })).json();
+    const small = body.segments.find((row: SegmentRow) => row.verdict === 'too_small');
+    expect(small).toBeDefined();
+    expect(small.rank).toBeNull();
+    expect(small.rate_diff).toBeNull();
+    expect(small.rate_p_value).toBeNull();
+    expect(small.value_diff).toBeNull();
+    expect(JSON.stringify(body)).not.toMatch(/NaN|Infinity/);
+  });
+
+  test('CSV is chosen by the Accept header or by ?format=csv, with the same columns in the same order', async () => {
+    const byAccept = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments`, headers: { accept: 'text/csv' } });
+    const byQuery = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments?format=csv` });
+    expect(byAccept.statusCode).toBe(200);
+    expect(byAccept.headers['content-type']).toBe('text/csv; charset=utf-8; header=present');
+    expect(byQuery.body).toBe(byAccept.body);
+    expect(byAccept.body.split('\r\n')[0]).toBe(SEGMENT_ROW_FIELDS.join(','));
+    expect(byAccept.body.endsWith('\r\n')).toBe(true);
+  });
+
+  test('the CSV parses back to the JSON rows: numbers equal, null as an empty cell', async () => {
+    const json = (await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments` })).json().segments as SegmentRow[];
+    const csv = (await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments?format=csv` })).body;
+    const records = parse(csv, { columns: true, skip_empty_lines: true }) as Array<Record<string, string>>;
+    expect(records).toHaveLength(json.length);
+    records.forEach((record, index) => {
+      const row = json[index] as SegmentRow;
+      expect(Object.keys(record)).toEqual([...SEGMENT_ROW_FIELDS]);
+      for (const field of SEGMENT_ROW_FIELDS) {
+        const value = row[field];
+        const cell = record[field] as string;
+        if (value === null) expect(cell, field).toBe('');
+        else if (typeof value === 'number') {
+          expect(cell, field).not.toMatch(/[eE,]/);
+          expect(Number(cell), field).toBe(value);
+        } else expect(cell, field).toBe(value);
+      }
+    });
+  });
+
+  test('negative numbers stay numbers and no text cell can start a formula', async () => {
+    const csv = (await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments?format=csv` })).body;
+    const records = parse(csv, { skip_empty_lines: true }) as string[][];
+    const cells = records.slice(1).flat();
+    expect(cells.some((cell) => /^-\d/.test(cell))).toBe(true);
+    for (const cell of cells) {
+      if (/^-?\d+(\.\d+)?$/.test(cell)) continue;
+      expect(cell, cell).not.toMatch(/^[=+\-@\t\r]/);
+    }
+    expect(cells.some((cell) => cell.includes('=HYPERLINK('))).toBe(true);
+  });
+
+  test('text that would start a formula is written with a leading quote', () => {
+    const row = { ...(first.segments[0] as SegmentRow), segment: '=1+2', dimensions: '@x', summary: '-5 is not a number here' };
+    const records = parse(segmentsCsv([row]), { columns: true }) as Array<Record<string, string>>;
+    expect(records[0]).toMatchObject({ segment: "'=1+2", dimensions: "'@x", summary: "'-5 is not a number here" });
+  });
+
+  test('If-None-Match with the ETag answers 304 for JSON and for CSV, each with its own tag', async () => {
+    const url = `/v1/reports/${reportId}/segments`;
+    const json = await context.app.inject({ method: 'GET', url });
+    const csv = await context.app.inject({ method: 'GET', url: `${url}?format=csv` });
+    const jsonTag = json.headers.etag as string;
+    const csvTag = csv.headers.etag as string;
+    expect(jsonTag).toMatch(/^"[^"]+"$/);
+    expect(csvTag).not.toBe(jsonTag);
+    const notModified = await context.app.inject({ method: 'GET', url, headers: { 'if-none-match': jsonTag } });
+    expect(notModified.statusCode).toBe(304);
+    expect(notModified.body).toBe('');
+    expect(notModified.headers.etag).toBe(jsonTag);
+    const weak = await context.app.inject({ method: 'GET', url: `${url}?format=csv`, headers: { 'if-none-match': `"other", W/${csvTag}` } });
+    expect(weak.statusCode).toBe(304);
+    const stale = await context.app.inject({ method: 'GET', url, headers: { 'if-none-match': csvTag } });
+    expect(stale.statusCode).toBe(200);
+  });
+
+  test('the ETag changes when a new snapshot becomes the latest', async () => {
+    const before = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments?snapshot=${first.snapshot_id}` });
+    const latest = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments` });
+    expect(before.json().snapshot_id).toBe(first.snapshot_id);
+    expect(latest.json().snapshot_id).toBe(second.snapshot_id);
+    expect(before.headers.etag).not.toBe(latest.headers.etag);
+  });
+
+  test('an unknown snapshot is 404 and an unacceptable type is 406', async () => {
+    const missing = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments?snapshot=nope` });
+    expect(missing.statusCode).toBe(404);
+    const unacceptable = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments`, headers: { accept: 'application/xml' } });
+    expect(unacceptable.statusCode).toBe(406);
+    expect(unacceptable.json().type).toBe('/problems/not-acceptable');
+  });
+
+  test('JSON is preferred when the Accept header allows both by quality', async () => {
+    const response = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments`, headers: { accept: 'text/csv;q=0.5, application/json' } });
+    expect(response.headers['content-type']).toMatch(/^application\/json/);
+    const csv = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments`, headers: { accept: 'application/json;q=0.2, text/csv' } });
+    expect(csv.headers['content-type']).toMatch(/^text\/csv/);
+  });
+});

@@ -1,0 +1,218 @@
+import { describe, expect, test } from 'vitest';
+import { buildSnapshot, rankSegments, type SnapshotInput } from '../../src/report/compute.js';
+import type { ReportDefinition } from '../../src/report/definition.js';
+import { describeDistribution, correlationFromSums, MAX_EXPANDED_VALUES } from '../../src/report/descriptives.js';
+import { findReversals } from '../../src/report/reversals.js';
+import type { SnapshotSegment } from '../../src/report/rows.js';
+import { cellStats } from '../../src/segments/rollup.js';
+import { median, modes, newcombeDifferenceInterval, pearsonCorrelation, quartiles, skewness, summarize } from '../../src/stats/index.js';
+import { ZERO_SHIFTS, block, cellsFromUnits, countsFromUnits, type TestUnit } from './cells.js';
+
+const DEFINITION: ReportDefinition = {
+  name: 'Pure',
+  source: { campaign_ids: ['pure'] },
+  dimensions: ['region'],
+  crosses: [],
+  age_bands: [18, 25, 35, 45, 55, 65],
+  min_n: 30,
+  confidence: 0.95,
+  adjustment: 'bh',
+  value_basis: 'per_unit',
+  rank_by: 'conversion_rate',
+  rank_order: 'lower_bound',
+  refresh: 'manual',
+};
+
+function input(units: TestUnit[], overrides: Partial<SnapshotInput> = {}): SnapshotInput {
+  return {
+    identity: { snapshotId: 'snap', reportId: 'report', reportName: 'Pure', sequence: 1, createdAt: '2026-06-15T12:00:00.000Z', trigger: 'manual' },
+    definition: DEFINITION,
+    shifts: ZERO_SHIFTS,
+    arithmetic: 'exact',
+    cells: cellsFromUnits(units),
+    ...countsFromUnits(units),
+    quality: { customersOutsidePopulation: 0, customersWithoutAnySale: 0, rejectedRows: [] },
+    previousWindow: null,
+    previousSnapshot: null,
+    ...overrides,
+  };
+}
+
+function segment(partial: Partial<SnapshotSegment>): SnapshotSegment {
+  return { segment: 's', n: 100, tested: true, conversion_rate: 0.1, conversion_rate_ci_low: 0.05, rank: null, ...partial } as SnapshotSegment;
+}
+
+describe('ranking', () => {
+  test('tested segments by the lower bound, ties by size, a missing bound last, untested ones after without a rank', () => {
+    const ranked = rankSegments(
+      [
+        segment({ segment: 'small-tie', n: 50, conversion_rate_ci_low: 0.2 }),
+        segment({ segment: 'untested-big', n: 29, tested: false, conversion_rate_ci_low: 0.9 }),
+        segment({ segment: 'top', n: 40, conversion_rate_ci_low: 0.3 }),
+        segment({ segment: 'no-bound', n: 500, conversion_rate_ci_low: null }),
+        segment({ segment: 'big-tie', n: 80, conversion_rate_ci_low: 0.2 }),
+        segment({ segment: 'untested-small', n: 3, tested: false, conversion_rate_ci_low: 0.95 }),
+      ],
+      DEFINITION,
+    );
+    expect(ranked.map((entry) => [entry.segment, entry.rank])).toEqual([
+      ['top', 1],
+      ['big-tie', 2],
+      ['small-tie', 3],
+      ['no-bound', 4],
+      ['untested-big', null],
+      ['untested-small', null],
+    ]);
+  });
+
+  test('rank_order estimate ranks by the point estimate instead', () => {
+    const ranked = rankSegments(
+      [segment({ segment: 'wide', conversion_rate: 0.5, conversion_rate_ci_low: 0.1 }), segment({ segment: 'narrow', conversion_rate: 0.3, conversion_rate_ci_low: 0.25 })],
+      { ...DEFINITION, rank_order: 'estimate' },
+    );
+    expect(ranked.map((entry) => entry.segment)).toEqual(['wide', 'narrow']);
+  });
+});
+
+describe('the reversal check', () => {
+  // Invented counts: region A sells mostly in stores, where everyone converts more, so A looks
+  // better overall although it converts less than B in each channel.
+  const units = [
+    ...block(['A', 'web'], 100, 10),
+    ...block(['A', 'store'], 400, 160),
+    ...block(['B', 'web'], 400, 48),
+    ...block(['B', 'store'], 100, 45),
+  ];
+  const cells = cellsFromUnits(units).map((cell) => ({ values: cell.values, stats: cellStats(cell, ZERO_SHIFTS) }));
+  const rate = (stats: { n: number; conversions: number }) => stats.conversions / stats.n;
+
+  test('a pair whose overall order is reversed in every channel is reported once, with both overall rates', () => {
+    expect(findReversals({ dimensions: ['region', 'channel'], cells, minN: 30, metric: rate })).toEqual([
+      { dimension: 'region', within: 'channel', higher_overall: 'A', lower_overall: 'B', higher_overall_metric: 170 / 500, lower_overall_metric: 93 / 500, levels_compared: 2 },
+    ]);
+  });
+
+  test('levels with fewer than min_n units are not compared, so one level left is not enough for a reversal', () => {
+    expect(findReversals({ dimensions: ['region', 'channel'], cells, minN: 150, metric: rate })).toEqual([]);
+  });
+
+  test('the reversal appears in the snapshot with a sentence naming both values and the other dimension', () => {
+    const snapshot = buildSnapshot(input(units, { definition: { ...DEFINITION, dimensions: ['region', 'channel'] } }));
+    expect(snapshot.reversals).toHaveLength(1);
+    expect(snapshot.reversals[0]?.sentence).toMatch(/^Overall, region A has a higher conversion rate than region B \(34\.0% against 18\.6%\), but within each of the 2 levels of channel/);
+    expect(snapshot.reversals[0]?.sentence).toMatch(/Simpson's paradox/);
+    expect(snapshot.summary).toMatch(/reverse within the levels of another dimension/);
+  });
+});
+
+describe('change since the previous snapshot and rank movement', () => {
+  const regions = ['P', 'Q', 'R', 'S', 'T'];
+  const before = regions.flatMap((region, index) => block([region], 60, region === 'P' ? 2 : 10 + index));
+  const after = regions.flatMap((region, index) => block([region], 60, region === 'P' ? 30 : 10 + index));
+  const first = buildSnapshot(input(before));
+  const second = buildSnapshot(input(after, { previousSnapshot: first, identity: { ...input(after).identity, snapshotId: 'snap-2', sequence: 2 } }));
+  const p = second.segments.find((entry) => entry.segment === 'region=P') as SnapshotSegment;
+
+  test('the segment that jumped to the top records its previous rank and movement', () => {
+    expect(first.segments.find((entry) => entry.segment === 'region=P')?.rank).toBe(5);
+    expect(p.rank).toBe(1);
+    expect(p.previous_rank).toBe(5);
+    expect(p.rank_movement).toBe(4);
+  });
+
+  test('the change of rate is the Newcombe interval between the two snapshots\' counts', () => {
+    const expected = newcombeDifferenceInterval(30, 60, 2, 60, 0.95);
+    if (!expected.ok) throw new Error(expected.reason);
+    expect(p.change).toMatchObject({
+      compared_with: 'previous_snapshot',
+      previous_n: 60,
+      previous_conversions: 2,
+      rate_change: expected.value.estimate,
+      rate_change_ci_low: expected.value.interval.low,
+      rate_change_ci_high: expected.value.interval.high,
+    });
+    expect(second.comparison).toMatchObject({ compared_with: 'previous_snapshot', previous_snapshot_id: 'snap' });
+  });
+
+  test('a jump to the top on little data gets a regression-to-the-mean caution in words', () => {
+    expect(p.summary).toMatch(/moved from rank 5 to rank 1/);
+    expect(p.summary).toMatch(/regression to the mean/);
+    const steady = second.segments.find((entry) => entry.segment === 'region=T') as SnapshotSegment;
+    expect(steady.summary).not.toMatch(/regression to the mean/);
+  });
+
+  test('the same jump on plenty of data gets no such caution', () => {
+    const bigBefore = regions.flatMap((region, index) => block([region], 600, region === 'P' ? 20 : 100 + 10 * index));
+    const bigAfter = regions.flatMap((region, index) => block([region], 600, region === 'P' ? 300 : 100 + 10 * index));
+    const bigFirst = buildSnapshot(input(bigBefore));
+    const bigSecond = buildSnapshot(input(bigAfter, { previousSnapshot: bigFirst }));
+    const bigP = bigSecond.segments.find((entry) => entry.segment === 'region=P') as SnapshotSegment;
+    expect(bigP.rank).toBe(1);
+    expect(bigP.summary).not.toMatch(/regression to the mean/);
+  });
+});
+
+describe('descriptives from grouped counts', () => {
+  test('grouped counts give the core\'s figures for the expanded values', () => {
+    const counts = [
+      { value: 0, count: 5 },
+      { value: 12.5, count: 2 },
+      { value: 40, count: 1 },
+      { value: 7.25, count: 2 },
+    ];
+    const values = counts.flatMap((entry) => Array<number>(entry.count).fill(entry.value));
+    const described = describeDistribution(counts, summarize(values));
+    const quartileValues = quartiles(values);
+    const skew = skewness(values);
+    const middle = median(values);
+    if (!quartileValues.ok || !skew.ok || !middle.ok) throw new Error('core could not compute');
+    expect(described).toMatchObject({ n: 10, median: middle.value, q1: quartileValues.value.q1, q3: quartileValues.value.q3, modes: modes(values) });
+    // The expanded list is in ascending order, so the sums run in another order: equal to rounding.
+    expect(described.skewness).toBeCloseTo(skew.value, 12);
+  });
+
+  test('a group larger than the expansion limit keeps mean and deviation and states why the rest is missing', () => {
+    const summary = { n: MAX_EXPANDED_VALUES + 1, mean: 3, sumSquaredDeviations: 4 * MAX_EXPANDED_VALUES };
+    const described = describeDistribution([{ value: 1, count: MAX_EXPANDED_VALUES - 1 }, { value: 5, count: 2 }], summary);
+    expect(described).toMatchObject({ n: MAX_EXPANDED_VALUES + 1, mean: 3, median: null, modes: null, skewness: null, q1: null, q3: null });
+    expect(described.standard_deviation).toBeCloseTo(2, 12);
+    expect(described.coefficient_of_variation).toBeCloseTo(2 / 3, 12);
+    expect(described.notes.join(' ')).toMatch(/not computed for groups of more than/);
+  });
+
+  test('counts that disagree with the summary are a programming error', () => {
+    expect(() => describeDistribution([{ value: 1, count: 3 }], summarize([1, 1]))).toThrow(/disagree/);
+  });
+
+  test('the age-value correlation from shifted sums equals Pearson\'s r of the raw pairs', () => {
+    const ages = [23, 35, 41, 52, 60, 29, 47];
+    const cents = [1200, 0, 5600, 2300, 9900, 100, 4000];
+    const shift = { unitValue: 3000, convertedValue: 0, age: 40 };
+    const sum = (values: number[]) => values.reduce((total, value) => total + value, 0);
+    const sums = {
+      n: ages.length,
+      ageSum: sum(ages.map((age) => age - 40)),
+      ageSquaredSum: sum(ages.map((age) => (age - 40) ** 2)),
+      valueSum: sum(cents.map((value) => value - 3000)),
+      valueSquaredSum: sum(cents.map((value) => (value - 3000) ** 2)),
+      crossSum: sum(ages.map((age, index) => (age - 40) * ((cents[index] as number) - 3000))),
+    };
+    const expected = pearsonCorrelation(ages, cents, 0.95);
+    if (!expected.ok) throw new Error(expected.reason);
+    const correlation = correlationFromSums(sums, shift, 0.95);
+    expect(correlation.r).toBeCloseTo(expected.value.r, 12);
+    expect(correlation.p_value).toBeCloseTo(expected.value.pValue, 12);
+    expect(correlation.ci_low).toBeCloseTo(expected.value.interval.low, 12);
+    expect(correlation.ci_high).toBeCloseTo(expected.value.interval.high, 12);
+  });
+});
+
+describe('an empty population', () => {
+  test('gives a snapshot with no segments and a summary that says so', () => {
+    const snapshot = buildSnapshot(input([]));
+    expect(snapshot.segments).toEqual([]);
+    expect(snapshot.population).toMatchObject({ n: 0, conversion_rate: null, value_mean: null });
+    expect(snapshot.summary).toMatch(/The population is empty/);
+    expect(snapshot.cautions.length).toBeGreaterThanOrEqual(2);
+  });
+});

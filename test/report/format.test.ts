@@ -1,0 +1,53 @@
+import { describe, expect, test } from 'vitest';
+import {
+  formatConfidence,
+  formatCount,
+  formatMoney,
+  formatPercent,
+  formatPoints,
+  formatPointsMagnitude,
+  formatPValue,
+  formatRatio,
+  formatSignedMoney,
+} from '../../src/report/format.js';
+
+describe('the number formatter of sentences', () => {
+  test('counts get thousands separators', () => {
+    expect(formatCount(1234567)).toBe('1,234,567');
+    expect(formatCount(999)).toBe('999');
+  });
+
+  test('rates are percentages with one decimal', () => {
+    expect(formatPercent(0.14123)).toBe('14.1%');
+    expect(formatPercent(1)).toBe('100.0%');
+    expect(formatPercent(0)).toBe('0.0%');
+  });
+
+  test('rate differences carry their sign and never read as negative zero', () => {
+    expect(formatPoints(0.0231)).toBe('+2.3');
+    expect(formatPoints(-0.004)).toBe('-0.4');
+    expect(formatPoints(-0.0004)).toBe('0.0');
+    expect(formatPointsMagnitude(-0.0214)).toBe('2.1');
+  });
+
+  test('money has two decimals and thousands separators, signed differences a sign', () => {
+    expect(formatMoney(1234.5)).toBe('1,234.50');
+    expect(formatSignedMoney(3.456)).toBe('+3.46');
+    expect(formatSignedMoney(-1234.5)).toBe('-1,234.50');
+    expect(formatSignedMoney(-0.001)).toBe('0.00');
+  });
+
+  test('p-values have two significant digits and a floor of 0.001', () => {
+    expect(formatPValue(0.03456)).toBe('0.035');
+    expect(formatPValue(0.5)).toBe('0.50');
+    expect(formatPValue(0.001)).toBe('0.0010');
+    expect(formatPValue(0.00099)).toBe('< 0.001');
+  });
+
+  test('ratios have two decimals and confidence levels drop needless zeros', () => {
+    expect(formatRatio(1.2345)).toBe('1.23');
+    expect(formatConfidence(0.95)).toBe('95%');
+    expect(formatConfidence(0.975)).toBe('97.5%');
+    expect(formatConfidence(0.9)).toBe('90%');
+  });
+});

@@ -1,0 +1,263 @@
+import { afterAll, beforeAll, describe, expect, test } from 'vitest';
+import { ageInYears } from '../../src/ingest/fields.js';
+import {
+  cellAggregates,
+  populationTotals,
+  shiftsFromTotals,
+  sourceQuality,
+  valueDistribution,
+  type AggregationRequest,
+} from '../../src/segments/aggregate.js';
+import { ageBandOf } from '../../src/segments/dimensions.js';
+import { TEST_DIALECTS, createTestDatabase, type TestDatabase } from '../support/database.js';
+
+const EDGES = [18, 25, 35, 45, 55, 65];
+const NOW = '2026-06-01T00:00:00.000Z';
+
+interface Unit {
+  customer_id: string;
+  birth_date: string | null;
+  region: string;
+  channel: string;
+  tier: string | null;
+  age_at_contact: number | null;
+  converted: 0 | 1;
+  revenue_cents: number;
+}
+
+// Ages chosen on and around every band edge and the plausibility limits; revenue in cents.
+const UNITS: Unit[] = [
+  { customer_id: 'a', birth_date: '2000-01-01', region: 'North', channel: 'web', tier: 'gold', age_at_contact: 17, converted: 0, revenue_cents: 0 },
+  { customer_id: 'b', birth_date: '2000-01-01', region: 'North', channel: 'web', tier: 'gold', age_at_contact: 18, converted: 1, revenue_cents: 1250 },
+  { customer_id: 'c', birth_date: '2000-01-01', region: 'North', channel: 'store', tier: null, age_at_contact: 24, converted: 1, revenue_cents: 999 },
+  { customer_id: 'd', birth_date: '2000-01-01', region: 'South', channel: 'store', tier: 'silver', age_at_contact: 25, converted: 0, revenue_cents: 0 },
+  { customer_id: 'e', birth_date: '2000-01-01', region: 'South', channel: 'web', tier: 'gold', age_at_contact: 64, converted: 1, revenue_cents: 40000 },
+  { customer_id: 'f', birth_date: '2000-01-01', region: 'South', channel: 'web', tier: null, age_at_contact: 65, converted: 0, revenue_cents: 0 },
+  { customer_id: 'g', birth_date: '2000-01-01', region: 'North', channel: 'web', tier: 'silver', age_at_contact: 120, converted: 1, revenue_cents: 1 },
+  { customer_id: 'h', birth_date: '2000-01-01', region: 'North', channel: 'store', tier: 'gold', age_at_contact: 121, converted: 0, revenue_cents: 0 },
+  { customer_id: 'i', birth_date: null, region: 'South', channel: 'store', tier: 'gold', age_at_contact: null, converted: 1, revenue_cents: 2500 },
+  { customer_id: 'j', birth_date: '2000-01-01', region: 'South', channel: 'web', tier: 'silver', age_at_contact: 45, converted: 1, revenue_cents: 2500 },
+];
+
+async function seedCampaign(database: TestDatabase, units: Unit[], campaignId = 'spring'): Promise<void> {
+  const db = database.handle.db;
+  await db
+    .insertInto('customers')
+    .values(units.map((unit) => ({ customer_id: unit.customer_id, birth_date: unit.birth_date, region: unit.region, channel: unit.channel, customer_type: 'individual' as const, created_at: NOW, updated_at: NOW, last_ingest_id: null })))
+    .execute();
+  const attributes = units.filter((unit) => unit.tier !== null).map((unit) => ({ customer_id: unit.customer_id, name: 'loyalty_tier', value: unit.tier as string }));
+  await db.insertInto('customer_attributes').values(attributes).execute();
+  await db.insertInto('campaigns').values({ campaign_id: campaignId, created_at: NOW }).execute();
+  await db
+    .insertInto('campaign_contacts')
+    .values(units.map((unit) => ({ campaign_id: campaignId, customer_id: unit.customer_id, contacted_at: '2026-03-01', converted: unit.converted, revenue_cents: unit.revenue_cents, age_at_contact: unit.age_at_contact, last_ingest_id: null })))
+    .execute();
+}
+
+function plausible(age: number | null): number | null {
+  return age === null || age < 18 || age > 120 ? null : age;
+}
+
+describe.each(TEST_DIALECTS)('aggregation in the database (%s)', (dialect) => {
+  let database: TestDatabase;
+  beforeAll(async () => {
+    database = await createTestDatabase(dialect);
+    await seedCampaign(database, UNITS);
+  });
+  afterAll(async () => {
+    await database.destroy();
+  });
+
+  const request: AggregationRequest = {
+    source: { kind: 'campaigns', campaignIds: ['spring'] },
+    dimensions: ['age_band', 'region', 'loyalty_tier'],
+    ageEdges: EDGES,
+    valueBasis: 'per_unit',
+  };
+
+  test('the population totals are the plain sums of the rows', async () => {
+    const totals = await populationTotals(database.handle.db, request.source);
+    const aged = UNITS.map((unit) => plausible(unit.age_at_contact)).filter((age): age is number => age !== null);
+    expect(totals).toEqual({
+      n: UNITS.length,
+      conversions: UNITS.filter((unit) => unit.converted).length,
+      valueCents: UNITS.reduce((sum, unit) => sum + unit.revenue_cents, 0),
+      convertedValueCents: UNITS.filter((unit) => unit.converted).reduce((sum, unit) => sum + unit.revenue_cents, 0),
+      agedUnits: aged.length,
+      ageTotal: aged.reduce((sum, age) => sum + age, 0),
+    });
+    expect(shiftsFromTotals(totals)).toEqual({ unitValue: Math.round(47250 / 10), convertedValue: Math.round(47250 / 6), age: Math.round(aged.reduce((s, a) => s + a, 0) / aged.length) });
+  });
+
+  test('every cell holds the exact shifted sums of its rows, recomputed here from the rows', async () => {
+    const shifts = { unitValue: 4725, convertedValue: 7875, age: 50 };
+    const { cells, arithmetic } = await cellAggregates(database.handle.db, request, shifts);
+    expect(arithmetic).toBe('exact');
+    const expected = new Map<string, Unit[]>();
+    for (const unit of UNITS) {
+      const key = JSON.stringify([ageBandOf(unit.age_at_contact, EDGES), unit.region, unit.tier ?? 'unknown']);
+      expected.set(key, [...(expected.get(key) ?? []), unit]);
+    }
+    expect(cells.map((cell) => JSON.stringify(cell.values)).sort()).toEqual([...expected.keys()].sort());
+    for (const cell of cells) {
+      const rows = expected.get(JSON.stringify(cell.values)) as Unit[];
+      const converted = rows.filter((row) => row.converted === 1);
+      const aged = rows.filter((row) => plausible(row.age_at_contact) !== null);
+      const sum = (values: number[]) => values.reduce((total, value) => total + value, 0);
+      expect(cell.n).toBe(rows.length);
+      expect(cell.conversions).toBe(converted.length);
+      expect(cell.unitValue).toEqual({ n: rows.length, sumOfShifted: sum(rows.map((row) => row.revenue_cents - 4725)), sumOfSquaredShifted: sum(rows.map((row) => (row.revenue_cents - 4725) ** 2)) });
+      expect(cell.convertedValue).toEqual({
+        n: converted.length,
+        sumOfShifted: sum(converted.map((row) => row.revenue_cents - 7875)),
+        sumOfSquaredShifted: sum(converted.map((row) => (row.revenue_cents - 7875) ** 2)),
+      });
+      expect(cell.age).toEqual({ n: aged.length, sumOfShifted: sum(aged.map((row) => (row.age_at_contact as number) - 50)), sumOfSquaredShifted: sum(aged.map((row) => ((row.age_at_contact as number) - 50) ** 2)) });
+      expect(cell.ageValue).toEqual({
+        n: aged.length,
+        ageSum: sum(aged.map((row) => (row.age_at_contact as number) - 50)),
+        ageSquaredSum: sum(aged.map((row) => ((row.age_at_contact as number) - 50) ** 2)),
+        valueSum: sum(aged.map((row) => row.revenue_cents - 4725)),
+        valueSquaredSum: sum(aged.map((row) => (row.revenue_cents - 4725) ** 2)),
+        crossSum: sum(aged.map((row) => ((row.age_at_contact as number) - 50) * (row.revenue_cents - 4725))),
+      });
+    }
+  });
+
+  test('age bands put every edge in the right band and implausible ages in unknown, never dropping a unit', async () => {
+    const { cells } = await cellAggregates(database.handle.db, { ...request, dimensions: ['age_band'] }, { unitValue: 0, convertedValue: 0, age: 0 });
+    const counts = Object.fromEntries(cells.map((cell) => [cell.values[0], cell.n]));
+    expect(counts).toEqual({ unknown: 3, '18-24': 2, '25-34': 1, '45-54': 1, '55-64': 1, '65+': 2 });
+    expect(cells.reduce((sum, cell) => sum + cell.n, 0)).toBe(UNITS.length);
+  });
+
+  test('the band the SQL assigns (for the value distribution) is the band ageBandOf assigns', async () => {
+    const values = await valueDistribution(database.handle.db, { ...request, dimensions: ['age_band'] });
+    const bySql: Record<string, number> = {};
+    for (const entry of values) bySql[entry.values[0] as string] = (bySql[entry.values[0] as string] ?? 0) + entry.count;
+    const byCode: Record<string, number> = {};
+    for (const unit of UNITS) byCode[ageBandOf(unit.age_at_contact, EDGES)] = (byCode[ageBandOf(unit.age_at_contact, EDGES)] ?? 0) + 1;
+    expect(bySql).toEqual(byCode);
+  });
+
+  test('the co-moments of the value basis per_conversion use only converted units', async () => {
+    const { cells } = await cellAggregates(database.handle.db, { ...request, dimensions: ['region'], valueBasis: 'per_conversion' }, { unitValue: 0, convertedValue: 0, age: 0 });
+    const north = cells.find((cell) => cell.values[0] === 'North');
+    // North converted units with a plausible age: b (18, 1250), c (24, 999), g (120, 1).
+    expect(north?.ageValue).toEqual({ n: 3, ageSum: 162, ageSquaredSum: 18 * 18 + 24 * 24 + 120 * 120, valueSum: 2250, valueSquaredSum: 1250 ** 2 + 999 ** 2 + 1, crossSum: 18 * 1250 + 24 * 999 + 120 });
+  });
+
+  test('the age and value distributions count units per cell and value', async () => {
+    const { ageCounts: ages } = await cellAggregates(database.handle.db, { ...request, dimensions: ['region'] }, { unitValue: 0, convertedValue: 0, age: 0 });
+    const southAges = ages.filter((entry) => entry.values[0] === 'South').sort((a, b) => (a.age ?? -1) - (b.age ?? -1));
+    expect(southAges).toEqual([
+      { values: ['South'], age: null, count: 1 },
+      { values: ['South'], age: 25, count: 1 },
+      { values: ['South'], age: 45, count: 1 },
+      { values: ['South'], age: 64, count: 1 },
+      { values: ['South'], age: 65, count: 1 },
+    ]);
+    const values = await valueDistribution(database.handle.db, { ...request, dimensions: ['region'], valueBasis: 'per_conversion' });
+    const south = values.filter((entry) => entry.values[0] === 'South').sort((a, b) => a.valueCents - b.valueCents);
+    expect(south).toEqual([
+      { values: ['South'], valueCents: 2500, count: 2 },
+      { values: ['South'], valueCents: 40000, count: 1 },
+    ]);
+  });
+
+  test('the value distribution can be limited to chosen dimension values', async () => {
+    const limited = await valueDistribution(database.handle.db, { ...request, dimensions: ['region', 'loyalty_tier'] }, [{ dimensionIndex: 1, values: ['silver'] }]);
+    // Silver: d (South, 0), g (North, 1 cent), j (South, 2500).
+    expect(limited.sort((a, b) => a.valueCents - b.valueCents)).toEqual([
+      { values: ['South', 'silver'], valueCents: 0, count: 1 },
+      { values: ['North', 'silver'], valueCents: 1, count: 1 },
+      { values: ['South', 'silver'], valueCents: 2500, count: 1 },
+    ]);
+    expect(await valueDistribution(database.handle.db, request, [])).toEqual([]);
+  });
+
+  test('sums too large for 64-bit integers fall back to floating point and stay close to the truth', async () => {
+    const big = await createTestDatabase(dialect);
+    try {
+      // Two revenues a trillion cents apart: the squared deviations overflow a 64-bit integer.
+      await seedCampaign(big, [
+        { ...UNITS[1]!, customer_id: 'x', revenue_cents: 0 },
+        { ...UNITS[1]!, customer_id: 'y', revenue_cents: 100_000_000_000_000 },
+        { ...UNITS[1]!, customer_id: 'z', revenue_cents: 50_000_000_000_000 },
+      ]);
+      const { cells, arithmetic } = await cellAggregates(big.handle.db, { ...request, dimensions: ['region'] }, { unitValue: 0, convertedValue: 0, age: 0 });
+      expect(arithmetic).toBe('floating');
+      expect(cells[0]?.unitValue.sumOfSquaredShifted).toBeCloseTo(1.25e28, -14);
+    } finally {
+      await big.destroy();
+    }
+  });
+
+  test('data quality counts customers outside the population and rejected rows of the ingests involved', async () => {
+    const quality = await sourceQuality(database.handle.db, request.source);
+    expect(quality.customersOutsidePopulation).toBe(0);
+    expect(quality.rejectedRows).toEqual([]);
+  });
+});
+
+describe.each(TEST_DIALECTS)('a sales window population (%s)', (dialect) => {
+  let database: TestDatabase;
+  beforeAll(async () => {
+    database = await createTestDatabase(dialect);
+    const db = database.handle.db;
+    const customers = [
+      { customer_id: 'leap', birth_date: '2000-02-29' },
+      { customer_id: 'eve', birth_date: '1990-03-31' },
+      { customer_id: 'day', birth_date: '1990-04-01' },
+      { customer_id: 'none', birth_date: null },
+      { customer_id: 'idle', birth_date: '1980-06-15' },
+    ];
+    await db
+      .insertInto('customers')
+      .values(customers.map((customer) => ({ ...customer, region: 'North', channel: 'web', customer_type: 'individual' as const, created_at: NOW, updated_at: NOW, last_ingest_id: null })))
+      .execute();
+    await db
+      .insertInto('sales')
+      .values([
+        { sale_id: 's1', customer_id: 'leap', sold_at: '2026-01-05', amount_cents: 1000, last_ingest_id: null },
+        { sale_id: 's2', customer_id: 'leap', sold_at: '2026-03-31', amount_cents: 500, last_ingest_id: null },
+        { sale_id: 's3', customer_id: 'eve', sold_at: '2026-04-01', amount_cents: 9999, last_ingest_id: null },
+        { sale_id: 's4', customer_id: 'day', sold_at: '2025-12-31', amount_cents: 700, last_ingest_id: null },
+        { sale_id: 's5', customer_id: 'none', sold_at: '2026-02-01', amount_cents: 300, last_ingest_id: null },
+      ])
+      .execute();
+  });
+  afterAll(async () => {
+    await database.destroy();
+  });
+
+  test('every customer is a unit; buying, spend and age are read at the window', async () => {
+    const request: AggregationRequest = { source: { kind: 'sales', from: '2026-01-01', to: '2026-03-31' }, dimensions: ['age_band'], ageEdges: [18, 26, 35], valueBasis: 'per_unit' };
+    const totals = await populationTotals(database.handle.db, request.source);
+    // Sales on both window ends count; 2026-04-01 and 2025-12-31 fall outside.
+    expect(totals).toMatchObject({ n: 5, conversions: 2, valueCents: 1800, convertedValueCents: 1800 });
+    const { ageCounts: ages } = await cellAggregates(database.handle.db, request, shiftsFromTotals(totals));
+    const byAge = Object.fromEntries(ages.map((entry) => [String(entry.age), entry.count]));
+    // Ages on 2026-03-31 by exact birthday arithmetic, as ageInYears computes them.
+    expect(ageInYears('2000-02-29', '2026-03-31')).toBe(26);
+    expect(ageInYears('1990-03-31', '2026-03-31')).toBe(36);
+    expect(ageInYears('1990-04-01', '2026-03-31')).toBe(35);
+    expect(byAge).toEqual({ '26': 1, '36': 1, '35': 1, '45': 1, null: 1 });
+  });
+
+  test('a window ending the day before a leap-day birthday in a common year counts the year not yet complete', async () => {
+    const { ageCounts: ages } = await cellAggregates(
+      database.handle.db,
+      { source: { kind: 'sales', from: '2026-01-01', to: '2026-02-28' }, dimensions: ['region'], ageEdges: [18], valueBasis: 'per_unit' },
+      { unitValue: 0, convertedValue: 0, age: 0 },
+    );
+    expect(ageInYears('2000-02-29', '2026-02-28')).toBe(25);
+    expect(ages.some((entry) => entry.age === 25)).toBe(true);
+    expect(ages.some((entry) => entry.age === 26)).toBe(false);
+  });
+
+  test('customers without any sale are counted for data quality', async () => {
+    const quality = await sourceQuality(database.handle.db, { kind: 'sales', from: '2026-01-01', to: '2026-03-31' });
+    expect(quality.customersWithoutAnySale).toBe(1);
+  });
+});
