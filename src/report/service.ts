@@ -159,6 +159,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   const row = await repository.findReport(deps.db, reportId);
   if (!row) throw new ReportNotFoundError(reportId);
   const definition = parseDefinition(row);
+  deps.logger.info({ reportId, trigger }, 'refresh started');
   const source = populationSource(definition);
   const request: AggregationRequest = { source, dimensions: definition.dimensions, ageEdges: definition.age_bands, valueBasis: definition.value_basis };
 

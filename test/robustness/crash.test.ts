@@ -27,6 +27,28 @@ async function* customerRows(from: number, count: number): AsyncGenerator<string
   yield chunk;
 }
 
+async function* contactRows(count: number): AsyncGenerator<string> {
+  yield 'customer_id,contacted_at,converted,revenue\n';
+  let chunk = '';
+  for (let index = 0; index < count; index++) {
+    chunk += index % 9 === 0 ? `C${index},2026-03-02,1,12.50\n` : `C${index},2026-03-02,0,0\n`;
+    if (chunk.length > 64 * 1024) {
+      yield chunk;
+      chunk = '';
+    }
+  }
+  yield chunk;
+}
+
+async function snapshotCount(settings: DatabaseSettings): Promise<number> {
+  const handle = await openDatabase(settings);
+  try {
+    return Number((await handle.db.selectFrom('report_snapshots').select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n);
+  } finally {
+    await handle.close();
+  }
+}
+
 async function tableCounts(settings: DatabaseSettings) {
   const handle = await openDatabase(settings);
   try {
@@ -68,5 +90,68 @@ describe.each(TEST_DIALECTS)('a SIGKILL in the middle of an upload on %s', (dial
     expect(again.status).toBe(201);
     await service.stop();
     expect(await tableCounts(settings)).toEqual({ customers: 1500, ingests: 2, rejected: 0 });
+  });
+});
+
+describe.each(TEST_DIALECTS)('a SIGKILL in the middle of a refresh on %s', (dialect) => {
+  let service: RunningService | undefined;
+  let settings: DatabaseSettings | undefined;
+  afterEach(async () => {
+    await service?.kill();
+    if (settings) await dropTestDatabase(settings);
+  });
+
+  it('leaves only whole snapshots, and the next refresh works', { timeout: 180_000 }, async () => {
+    settings = testDatabaseSettings(dialect);
+    const env = { ...databaseEnv(settings), MAX_EVENT_LOOP_DELAY_MS: '0' };
+    service = await startServiceProcess(env);
+    const customerCount = 60_000;
+    expect((await postStream(`${service.url}/v1/customers`, customerRows(0, customerCount))).status).toBe(201);
+    expect((await postStream(`${service.url}/v1/campaigns/crash-test/contacts`, contactRows(customerCount))).status).toBe(201);
+    const created = await fetch(`${service.url}/v1/reports`, {
+      method: 'POST',
+      headers: { 'content-type': 'application/json' },
+      body: JSON.stringify({ name: 'crash test', source: { campaign_ids: ['crash-test'] } }),
+    });
+    expect(created.status).toBe(201);
+    const reportId = ((await created.json()) as { report_id: string }).report_id;
+    const first = await fetch(`${service.url}/v1/reports/${reportId}/refresh`, { method: 'POST' });
+    expect(first.status).toBe(201);
+    const refreshMs = ((await first.json()) as { duration_ms: number }).duration_ms;
+
+    // Refreshes back to back, so that a kill at any moment most likely lands inside one.
+    let answered = 1;
+    let stopped = false;
+    const url = service.url;
+    const loop = (async () => {
+      while (!stopped) {
+        const response = await fetch(`${url}/v1/reports/${reportId}/refresh`, { method: 'POST' }).catch(() => null);
+        if (response?.status !== 201) break;
+        await response.arrayBuffer().then(() => (answered += 1)).catch(() => undefined);
+      }
+    })();
+    await new Promise((resolve) => setTimeout(resolve, refreshMs * 2.5));
+    await service.kill();
+    stopped = true;
+    await loop;
+
+    // Every stored snapshot is whole: its body parses and agrees with its own row. At most one
+    // more than the answered refreshes may exist (committed, killed before the answer went out).
+    const handle = await openDatabase(settings);
+    const stored = await handle.db.selectFrom('report_snapshots').select(['sequence', 'segment_count', 'body']).orderBy('sequence').execute();
+    await handle.close();
+    expect(stored.length).toBeGreaterThanOrEqual(answered);
+    expect(stored.length).toBeLessThanOrEqual(answered + 1);
+    stored.forEach((row, index) => {
+      const body = JSON.parse(row.body) as { sequence: number; segments: unknown[] };
+      expect(Number(row.sequence)).toBe(index + 1);
+      expect(body.sequence).toBe(index + 1);
+      expect(body.segments.length).toBe(Number(row.segment_count));
+    });
+
+    service = await startServiceProcess(env);
+    const again = await fetch(`${service.url}/v1/reports/${reportId}/refresh`, { method: 'POST' });
+    expect(again.status).toBe(201);
+    expect(((await again.json()) as { sequence: number }).sequence).toBe(stored.length + 1);
   });
 });

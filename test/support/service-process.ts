@@ -14,8 +14,8 @@ export interface RunningService {
   child: ChildProcess;
   /** Everything the service wrote to stdout so far. */
   output(): string;
-  /** Resolves once the output contains `pattern`. */
-  waitForOutput(pattern: RegExp, timeoutMs?: number): Promise<void>;
+  /** Resolves once the output written after character `since` (default: all of it) contains `pattern`. */
+  waitForOutput(pattern: RegExp, timeoutMs?: number, since?: number): Promise<void>;
   peakRssMiB(): number;
   stop(): Promise<void>;
   kill(): Promise<void>;
@@ -51,9 +51,9 @@ export async function startServiceProcess(env: Record<string, string>): Promise<
     url,
     child,
     output: () => output,
-    async waitForOutput(pattern, timeoutMs = 60_000) {
+    async waitForOutput(pattern, timeoutMs = 60_000, since = 0) {
       const deadline = Date.now() + timeoutMs;
-      while (!pattern.test(output)) {
+      while (!pattern.test(output.slice(since))) {
         if (child.exitCode !== null) throw new Error(`service exited while waiting for ${pattern}`);
         if (Date.now() > deadline) throw new Error(`no output matching ${pattern} within ${timeoutMs} ms`);
         await new Promise((resolve) => setTimeout(resolve, 20));
