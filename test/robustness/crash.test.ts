@@ -40,15 +40,6 @@ async function* contactRows(count: number): AsyncGenerator<string> {
   yield chunk;
 }
 
-async function snapshotCount(settings: DatabaseSettings): Promise<number> {
-  const handle = await openDatabase(settings);
-  try {
-    return Number((await handle.db.selectFrom('report_snapshots').select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n);
-  } finally {
-    await handle.close();
-  }
-}
-
 async function tableCounts(settings: DatabaseSettings) {
   const handle = await openDatabase(settings);
   try {
