@@ -3,16 +3,15 @@
  * ranked table for BI tools (JSON or CSV, with ETag / If-None-Match). The in-process weekly
  * schedule starts with the application when the configuration enables it.
  */
-import { createHash } from 'node:crypto';
 import type { FastifyInstance, FastifyReply, FastifyRequest } from 'fastify';
 import type { Config } from '../config.js';
 import type { DatabaseHandle } from '../db/connect.js';
 import type { Logger } from '../logger.js';
-import { segmentsCsv } from '../report/csv.js';
 import { InvalidDefinitionError } from '../report/definition.js';
-import { SEGMENT_ROW_FIELDS, toSegmentRow, type Snapshot } from '../report/rows.js';
+import { SegmentTableCache, entityTag, type TableFormat } from '../report/segment-table.js';
 import { reportListSchema, reportSchema, snapshotListSchema } from '../report/schemas.js';
 import {
+  segmentTable,
   ReportNotFoundError,
   createReport,
   getReport,
@@ -64,11 +63,6 @@ async function handle<T>(work: () => Promise<T>): Promise<T> {
   }
 }
 
-/** A strong entity tag over the exact bytes sent (RFC 9110 §8.8.3). */
-function entityTag(body: string): string {
-  return `"${createHash('sha256').update(body).digest('base64url').slice(0, 32)}"`;
-}
-
 /** Whether an If-None-Match header matches the tag (weak comparison, as RFC 9110 §13.1.2 asks for GET). */
 function matchesIfNoneMatch(header: string | undefined, tag: string): boolean {
   if (header === undefined) return false;
@@ -76,14 +70,12 @@ function matchesIfNoneMatch(header: string | undefined, tag: string): boolean {
   return header.split(',').some((candidate) => candidate.trim() === '*' || opaque(candidate) === opaque(tag));
 }
 
-function sendWithEntityTag(request: FastifyRequest, reply: FastifyReply, body: string, contentType: string): FastifyReply {
-  const tag = entityTag(body);
+/** Sends `body` with a strong entity tag over its exact bytes (RFC 9110 §8.8.3), or 304 when the client has it. */
+function sendWithEntityTag(request: FastifyRequest, reply: FastifyReply, body: string, contentType: string, tag: string = entityTag(body)): FastifyReply {
   reply.header('etag', tag).header('cache-control', 'private, no-cache').header('vary', 'Accept');
   if (matchesIfNoneMatch(request.headers['if-none-match'], tag)) return reply.code(304).send();
   return reply.code(200).type(contentType).send(body);
 }
-
-type TableFormat = 'json' | 'csv';
 
 /**
  * The representation of the segment table: `?format=` wins; otherwise the Accept header's
@@ -132,6 +124,8 @@ export function reportRoutes(routeDeps: ReportRouteDependencies) {
         await schedule?.stop();
       });
     }
+
+    const tables = new SegmentTableCache();
 
     const requireJson = async (request: FastifyRequest) => {
       const contentType = (request.headers['content-type'] ?? '').split(';')[0]?.trim().toLowerCase() ?? '';
@@ -207,24 +201,15 @@ export function reportRoutes(routeDeps: ReportRouteDependencies) {
         const { report_id: reportId } = request.params as { report_id: string };
         const { snapshot: snapshotId, format } = request.query as { snapshot: string; format?: TableFormat };
         const representation = negotiateFormat(format, request.headers.accept);
-        const stored = await handle(() => getSnapshotBody(deps, reportId, snapshotId));
-        if (stored === undefined) {
+        const table = await handle(() => segmentTable(deps, tables, reportId, snapshotId, representation));
+        if (table === undefined) {
           throw new Problem('not-found', snapshotId === 'latest' ? `report ${reportId} has no snapshot yet; POST /v1/reports/${reportId}/refresh computes one` : `report ${reportId} has no snapshot ${snapshotId}`);
         }
-        const snapshot = JSON.parse(stored) as Snapshot;
-        const rows = snapshot.segments.map(toSegmentRow);
         if (representation === 'csv') {
-          reply.header('content-disposition', `attachment; filename="segments-${snapshot.snapshot_id}.csv"`);
-          return sendWithEntityTag(request, reply, segmentsCsv(rows), 'text/csv; charset=utf-8; header=present');
+          reply.header('content-disposition', `attachment; filename="segments-${table.snapshotId}.csv"`);
+          return sendWithEntityTag(request, reply, table.body, 'text/csv; charset=utf-8; header=present', table.entityTag);
         }
-        const body = JSON.stringify({
-          report_id: snapshot.report_id,
-          snapshot_id: snapshot.snapshot_id,
-          snapshot_created_at: snapshot.created_at,
-          columns: SEGMENT_ROW_FIELDS,
-          segments: rows,
-        });
-        return sendWithEntityTag(request, reply, body, 'application/json; charset=utf-8');
+        return sendWithEntityTag(request, reply, table.body, 'application/json; charset=utf-8', table.entityTag);
       },
     );
   };

@@ -22,6 +22,7 @@ import { buildSnapshot, type PreviousWindow } from './compute.js';
 import { normalizeDefinition, type ReportDefinition } from './definition.js';
 import { isExpandable } from './descriptives.js';
 import * as repository from './repository.js';
+import { renderSegmentTable, type RenderedTable, type SegmentTableCache, type TableFormat } from './segment-table.js';
 import type { Snapshot } from './rows.js';
 
 export interface ReportDependencies {
@@ -255,4 +256,26 @@ export async function getSnapshotBody(deps: ReportDependencies, reportId: string
   const row = await repository.findReport(deps.db, reportId);
   if (!row) throw new ReportNotFoundError(reportId);
   return repository.findSnapshotBody(deps.db, reportId, snapshotId);
+}
+
+/**
+ * The flat segment table of a snapshot (`latest` for the newest) in one format, rendered once
+ * and then served from `cache`; undefined when there is no such snapshot.
+ */
+export async function segmentTable(
+  deps: ReportDependencies,
+  cache: SegmentTableCache,
+  reportId: string,
+  snapshotId: string,
+  format: TableFormat,
+): Promise<RenderedTable | undefined> {
+  const resolvedId = snapshotId === 'latest' ? (await repository.latestSnapshotMeta(deps.readDb, reportId))?.snapshot_id : snapshotId;
+  if (resolvedId === undefined) return undefined;
+  const cached = cache.get(reportId, resolvedId, format);
+  if (cached) return cached;
+  const stored = await repository.findSnapshotBody(deps.readDb, reportId, resolvedId);
+  if (stored === undefined) return undefined;
+  const table = renderSegmentTable(JSON.parse(stored) as Snapshot, format);
+  cache.set(reportId, format, table);
+  return table;
 }

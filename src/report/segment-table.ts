@@ -1,0 +1,59 @@
+/**
+ * The flat segment table of a snapshot, rendered once per snapshot and format. Snapshots never
+ * change, so a rendered table (and its entity tag) stays valid for as long as it is kept; BI
+ * tools that poll then cost a small lookup instead of parsing and writing the whole snapshot.
+ */
+import { createHash } from 'node:crypto';
+import { segmentsCsv } from './csv.js';
+import { SEGMENT_ROW_FIELDS, toSegmentRow, type Snapshot } from './rows.js';
+
+export type TableFormat = 'json' | 'csv';
+
+export interface RenderedTable {
+  snapshotId: string;
+  body: string;
+  entityTag: string;
+}
+
+export function entityTag(body: string): string {
+  return `"${createHash('sha256').update(body).digest('base64url').slice(0, 32)}"`;
+}
+
+export function renderSegmentTable(snapshot: Snapshot, format: TableFormat): RenderedTable {
+  const rows = snapshot.segments.map(toSegmentRow);
+  const body =
+    format === 'csv'
+      ? segmentsCsv(rows)
+      : JSON.stringify({ report_id: snapshot.report_id, snapshot_id: snapshot.snapshot_id, snapshot_created_at: snapshot.created_at, columns: SEGMENT_ROW_FIELDS, segments: rows });
+  return { snapshotId: snapshot.snapshot_id, body, entityTag: entityTag(body) };
+}
+
+/** A small least-recently-used store of rendered tables, keyed by report, snapshot and format. */
+export class SegmentTableCache {
+  private readonly entries = new Map<string, RenderedTable>();
+  constructor(private readonly capacity = 64) {}
+
+  get(reportId: string, snapshotId: string, format: TableFormat): RenderedTable | undefined {
+    const key = `${reportId}\u0000${snapshotId}\u0000${format}`;
+    const entry = this.entries.get(key);
+    if (entry) {
+      this.entries.delete(key);
+      this.entries.set(key, entry);
+    }
+    return entry;
+  }
+
+  set(reportId: string, format: TableFormat, table: RenderedTable): void {
+    const key = `${reportId}\u0000${table.snapshotId}\u0000${format}`;
+    this.entries.delete(key);
+    this.entries.set(key, table);
+    while (this.entries.size > this.capacity) {
+      const oldest = this.entries.keys().next().value as string;
+      this.entries.delete(oldest);
+    }
+  }
+
+  get size(): number {
+    return this.entries.size;
+  }
+}
