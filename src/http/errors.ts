@@ -38,6 +38,9 @@ export function toProblem(error: unknown): Problem {
   if (error instanceof TooManyRowsError) return new Problem('payload-too-large', error.message, { limit_rows: error.limitRows });
   if (error instanceof EmptyUploadError) return new Problem('malformed-body', error.message);
   if (error instanceof IdempotencyConflictError) return new Problem('conflict', error.message);
+  if (isTextTheDatabaseCannotStore(error)) {
+    return new Problem('invalid-request', 'the request holds text the database cannot store or compare (such as a NUL character, \\u0000)');
+  }
   const fastifyError = error as Partial<FastifyError> & { validation?: unknown[] };
   if (fastifyError.validation) {
     return new Problem('invalid-request', fastifyError.message ?? 'the request is not valid', {
@@ -65,9 +68,23 @@ export function toProblem(error: unknown): Problem {
   return new Problem('internal', 'an unexpected error occurred; it has been logged');
 }
 
+/**
+ * PostgreSQL refuses NUL in text parameters (SQLSTATE 22021, character_not_in_repertoire; 22P05
+ * for a character its encoding lacks) where SQLite takes them. Such text can only have come from
+ * the request, so it is the client's error, not the server's; this is the net under any route
+ * that does not refuse control characters itself.
+ */
+function isTextTheDatabaseCannotStore(error: unknown): boolean {
+  const code = (error as { code?: unknown } | null)?.code;
+  return code === '22021' || code === '22P05';
+}
+
 export function sendProblem(reply: FastifyReply, request: FastifyRequest, problem: Problem): FastifyReply {
   for (const [name, value] of Object.entries(problem.headers)) reply.header(name, value);
-  return reply.code(problem.status).type('application/problem+json').send(problem.toBody(request.url));
+  // Problem details keep one shape everywhere. A route's response schema for the same status
+  // describes its own body (/healthz declares a health body for 503) and would reject a problem
+  // there, turning a 503 under load into a 500; plain JSON serialization keeps every field.
+  return reply.code(problem.status).type('application/problem+json').serializer(JSON.stringify).send(problem.toBody(request.url));
 }
 
 export function registerErrorHandling(app: FastifyInstance): void {

@@ -5,6 +5,7 @@
 import type { FastifyInstance, FastifyRequest } from 'fastify';
 import type { Readable } from 'node:stream';
 import type { IngestKind, OnError } from '../db/tables.js';
+import { readIdentifier } from '../ingest/fields.js';
 import { formatFromContentType } from '../ingest/parse.js';
 import * as repository from '../ingest/repository.js';
 import { ingestUpload, toReceipt, type IngestDependencies } from '../ingest/service.js';
@@ -19,7 +20,18 @@ const uploadQuerySchema = {
 
 const identifierPattern = '^[^\\u0000-\\u001f\\u007f]{1,200}$';
 
+const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/;
+
+/** The `charset` parameter of a Content-Type header, lower-cased and unquoted; null when there is none. */
+function declaredCharset(contentType: string): string | null {
+  const match = /;\s*charset\s*=\s*("?)([^";\s]*)\1/i.exec(contentType);
+  return match ? (match[2] ?? '').toLowerCase() : null;
+}
+
 export function ingestRoutes(deps: IngestDependencies) {
+  // Ingest ids are UUIDs the service made; any other text names no upload, so the database is not asked.
+  const findIngestById = (ingestId: string) => (UUID.test(ingestId) ? repository.findIngest(deps.db, ingestId) : Promise.resolve(undefined));
+
   return async function plugin(app: FastifyInstance): Promise<void> {
     // Uploads are streamed to the parser; any content type reaches the handler, which decides.
     app.removeAllContentTypeParsers();
@@ -30,6 +42,16 @@ export function ingestRoutes(deps: IngestDependencies) {
       const format = formatFromContentType(contentType);
       if (format === null) {
         throw new Problem('unsupported-media-type', `send the rows as text/csv, application/json or application/x-ndjson (got "${contentType || 'none'}")`);
+      }
+      // Bodies are read as UTF-8 only; a declared charset or content coding the parser would
+      // ignore is refused by name rather than later as garbled text.
+      const charset = declaredCharset(contentType);
+      if (charset !== null && charset !== 'utf-8' && charset !== 'utf8') {
+        throw new Problem('unsupported-media-type', `send the rows as UTF-8 text (got charset=${charset})`);
+      }
+      const contentEncoding = String(request.headers['content-encoding'] ?? '').trim().toLowerCase();
+      if (contentEncoding !== '' && contentEncoding !== 'identity') {
+        throw new Problem('unsupported-media-type', `send the rows uncompressed (got Content-Encoding: ${contentEncoding})`);
       }
       const declaredLength = Number(request.headers['content-length']);
       if (Number.isFinite(declaredLength) && declaredLength > deps.limits.maxBytes) {
@@ -69,6 +91,8 @@ export function ingestRoutes(deps: IngestDependencies) {
       },
       async (request, reply) => {
         const { campaign_id: campaignId } = request.params as { campaign_id: string };
+        // Surrounding spaces are dropped as in every other identifier, so spaces alone name nothing.
+        if (campaignId.trim() === '') throw new Problem('invalid-request', 'campaign_id must not be blank');
         const { receipt, replayed } = await upload(request, 'contacts', campaignId.trim());
         return reply.code(replayed ? 200 : 201).header('location', `/v1/ingests/${receipt.ingest_id}`).header('idempotent-replayed', String(replayed)).send(receipt);
       },
@@ -79,7 +103,7 @@ export function ingestRoutes(deps: IngestDependencies) {
       { schema: { params: { type: 'object', properties: { ingest_id: { type: 'string' } }, required: ['ingest_id'] }, response: { 200: receiptSchema } } },
       async (request) => {
         const { ingest_id: ingestId } = request.params as { ingest_id: string };
-        const stored = await repository.findIngest(deps.db, ingestId);
+        const stored = await findIngestById(ingestId);
         if (!stored) throw new Problem('not-found', `no upload with id ${ingestId}`);
         return toReceipt(stored);
       },
@@ -101,7 +125,7 @@ export function ingestRoutes(deps: IngestDependencies) {
       async (request) => {
         const { ingest_id: ingestId } = request.params as { ingest_id: string };
         const { limit, offset } = request.query as { limit: number; offset: number };
-        const stored = await repository.findIngest(deps.db, ingestId);
+        const stored = await findIngestById(ingestId);
         if (!stored) throw new Problem('not-found', `no upload with id ${ingestId}`);
         const rows = await repository.listRejectedRows(deps.db, ingestId, { limit, offset });
         return {
@@ -119,7 +143,9 @@ export function ingestRoutes(deps: IngestDependencies) {
       { schema: { params: { type: 'object', properties: { customer_id: { type: 'string' } }, required: ['customer_id'] } } },
       async (request, reply) => {
         const { customer_id: customerId } = request.params as { customer_id: string };
-        const erased = await deps.db.transaction().execute((trx) => repository.eraseCustomer(trx, customerId));
+        // An id the upload checks would refuse (control characters, over 200 characters) names no
+        // customer; PostgreSQL could not even compare one holding a NUL.
+        const erased = readIdentifier(customerId).ok ? await deps.db.transaction().execute((trx) => repository.eraseCustomer(trx, customerId)) : false;
         if (!erased) throw new Problem('not-found', `no customer with id ${customerId}`);
         request.log.info({ customerId }, 'customer erased');
         return reply.code(204).send();

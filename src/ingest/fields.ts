@@ -16,14 +16,27 @@ export function isBlank(raw: unknown): boolean {
 export function showValue(raw: unknown): string | null {
   if (raw === undefined) return null;
   // String() for numbers: JSON.stringify shows an overflowing 1e309 (Infinity) as "null".
-  const text = typeof raw === 'string' ? raw : typeof raw === 'number' ? String(raw) : (JSON.stringify(raw) ?? String(raw));
+  const text = typeof raw === 'string' ? raw : typeof raw === 'number' ? String(raw) : stringifyForDisplay(raw);
   return text.length > 200 ? `${text.slice(0, 200)}…` : text;
+}
+
+function stringifyForDisplay(raw: unknown): string {
+  try {
+    return JSON.stringify(raw) ?? String(raw);
+  } catch {
+    // JSON.stringify recurses: a value nested some thousands deep (which JSON.parse reads
+    // without trouble) overflows the stack. The row is refused either way; only its display is lost.
+    return '(a value nested too deeply to show)';
+  }
 }
 
 const MAX_IDENTIFIER_LENGTH = 200;
 // Control characters in identifiers break CSV exports and log lines and are never intended.
 // eslint-disable-next-line no-control-regex
 const CONTROL_CHARACTERS = /[\u0000-\u001f\u007f]/;
+// A JSON escape such as "\ud800" decodes to half a surrogate pair, which no encoding can store:
+// both databases would keep U+FFFD instead, so the value would not read back as it was sent.
+const LONE_SURROGATE = /\p{Cs}/u;
 
 export function readIdentifier(raw: unknown): FieldResult<string> {
   if (typeof raw === 'number' && Number.isSafeInteger(raw)) return ok(String(raw));
@@ -32,6 +45,7 @@ export function readIdentifier(raw: unknown): FieldResult<string> {
   if (value === '') return bad('is required');
   if (value.length > MAX_IDENTIFIER_LENGTH) return bad(`must be at most ${MAX_IDENTIFIER_LENGTH} characters`);
   if (CONTROL_CHARACTERS.test(value)) return bad('must not contain control characters');
+  if (LONE_SURROGATE.test(value)) return bad('must be valid Unicode text (it holds half of a surrogate pair)');
   return ok(value);
 }
 
@@ -43,19 +57,35 @@ export function readLabel(raw: unknown, maxLength = 100): FieldResult<string> {
   if (value === '') return bad('is required');
   if (value.length > maxLength) return bad(`must be at most ${maxLength} characters`);
   if (CONTROL_CHARACTERS.test(value)) return bad('must not contain control characters');
+  if (LONE_SURROGATE.test(value)) return bad('must be valid Unicode text (it holds half of a surrogate pair)');
   return ok(value);
 }
 
 const ISO_DATE = /^(\d{4})-(\d{2})-(\d{2})$/;
+// Groups: hour, minute, second, offset hour, offset minute.
+const ISO_DATE_TIME = /^\d{4}-\d{2}-\d{2}T(\d{2}):(\d{2})(?::(\d{2})(?:\.\d+)?)?(?:Z|[+-](\d{2}):?(\d{2}))?$/;
+
+/** A date-time whose clock reads 25:00 or whose offset is +24:00 is a typing error, not a day to keep. */
+function isClockTime(match: RegExpExecArray): boolean {
+  const [, hour, minute, second, offsetHour, offsetMinute] = match;
+  // Second 60 is a leap second (ISO 8601 and RFC 3339 allow it).
+  return Number(hour) <= 23 && Number(minute) <= 59 && Number(second ?? 0) <= 60 && Number(offsetHour ?? 0) <= 23 && Number(offsetMinute ?? 0) <= 59;
+}
 
 /**
  * A calendar date written `YYYY-MM-DD`. A date-time is accepted when it is plainly the same
- * day (`2024-03-01T10:00:00Z`); the day as written is kept, not shifted to another zone.
+ * day (`2024-03-01T10:00:00Z`); the day as written is kept, not shifted to another zone. Its
+ * clock must be one that exists (ISO 8601 / RFC 3339 ranges), so `2024-03-01T25:00:00Z` is refused
+ * rather than kept as 1 March. Never throws.
+ *
+ * @example readDate('2024-03-01T23:30:00-05:00') → { ok: true, value: '2024-03-01' }
  */
 export function readDate(raw: unknown): FieldResult<string> {
   if (typeof raw !== 'string') return bad('must be a date written YYYY-MM-DD');
   const text = raw.trim();
-  const datePart = /^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(:\d{2}(\.\d+)?)?(Z|[+-]\d{2}:?\d{2})?$/.test(text) ? text.slice(0, 10) : text;
+  const time = ISO_DATE_TIME.exec(text);
+  if (time && !isClockTime(time)) return bad('has a time of day that does not exist (hours 00–23, minutes 00–59, seconds 00–60, offsets up to ±23:59)');
+  const datePart = time ? text.slice(0, 10) : text;
   const match = ISO_DATE.exec(datePart);
   if (!match) return bad('must be a date written YYYY-MM-DD');
   const year = Number(match[1]);

@@ -7,6 +7,7 @@
 import { Readable } from 'node:stream';
 import { CsvError, parse as parseCsv } from 'csv-parse';
 import { normalizeColumnName } from './columns.js';
+import { showValue } from './fields.js';
 
 export type UploadFormat = 'csv' | 'json' | 'ndjson';
 
@@ -138,7 +139,7 @@ async function* parseNdjsonRecords(body: Readable, limits: ParseLimits): AsyncGe
   for await (const { text, line } of splitLines(body, limits)) {
     if (text.trim() === '') continue;
     row += 1;
-    yield objectRecord(parseJsonText(text, line), row, line);
+    yield objectRecord(parseJsonText(text, line), text, row, line);
   }
 }
 
@@ -146,7 +147,7 @@ async function* parseJsonArrayRecords(body: Readable, limits: ParseLimits): Asyn
   let row = 0;
   for await (const { text, line } of splitJsonArray(body, limits)) {
     row += 1;
-    yield objectRecord(parseJsonText(text, line), row, line);
+    yield objectRecord(parseJsonText(text, line), text, row, line);
   }
 }
 
@@ -160,21 +161,104 @@ function parseJsonText(text: string, line: number): unknown {
   }
 }
 
-function objectRecord(value: unknown, row: number, line: number): ParsedRecord {
+function objectRecord(value: unknown, text: string, row: number, line: number): ParsedRecord {
   const fields = new Map<string, unknown>();
   if (value === null || typeof value !== 'object' || Array.isArray(value)) {
     return { row, line, fields, defect: { column: null, value: null, reason: 'each row must be a JSON object of column names to values' } };
   }
+  const entries = Object.entries(value);
+  let defect: ParsedRecord['defect'];
+  // JSON.parse keeps only the last of two equal keys; more members in the text than keys in
+  // the object means one value was silently dropped, so the row is ambiguous.
+  if (countTopLevelMembers(text) > entries.length) {
+    const name = normalizeColumnName(repeatedTopLevelKey(text) ?? '');
+    defect = { column: withVisibleNul(name), value: null, reason: `column "${withVisibleNul(name)}" appears twice in this row` };
+  }
   const seen = new Set<string>();
-  for (const [key, fieldValue] of Object.entries(value)) {
+  for (const [key, fieldValue] of entries) {
     const name = normalizeColumnName(key);
+    // A JSON escape can carry NUL (\u0000) where the raw bytes of a CSV body cannot. No value
+    // may hold it (PostgreSQL text cannot store it), so the field is kept out of the record
+    // and the row is refused with the character shown as its escape.
+    if (key.includes('\u0000') || (typeof fieldValue === 'string' && fieldValue.includes('\u0000'))) {
+      const shown = typeof fieldValue === 'string' ? withVisibleNul(showValue(fieldValue) ?? '') : null;
+      defect ??= { column: withVisibleNul(name), value: shown, reason: `column "${withVisibleNul(name)}" holds a NUL character (\\u0000), which no value may contain` };
+      continue;
+    }
     if (seen.has(name)) {
-      return { row, line, fields, defect: { column: name, value: null, reason: `column "${name}" appears twice in this row` } };
+      defect ??= { column: name, value: null, reason: `column "${name}" appears twice in this row` };
+      continue;
     }
     seen.add(name);
     fields.set(name, fieldValue);
   }
-  return { row, line, fields };
+  return defect === undefined ? { row, line, fields } : { row, line, fields, defect };
+}
+
+function withVisibleNul(text: string): string {
+  return text.replaceAll('\u0000', '\\u0000');
+}
+
+const QUOTE = 0x22;
+const BACKSLASH = 0x5c;
+const COLON = 0x3a;
+const OPEN_BRACE = 0x7b;
+const CLOSE_BRACE = 0x7d;
+const OPEN_BRACKET = 0x5b;
+const CLOSE_BRACKET = 0x5d;
+
+/** Members of the outermost object of `text`, a JSON object that JSON.parse has accepted. */
+function countTopLevelMembers(text: string): number {
+  let depth = 0;
+  let members = 0;
+  for (let index = 0; index < text.length; index++) {
+    const code = text.charCodeAt(index);
+    if (code === QUOTE) {
+      index = endOfString(text, index);
+    } else if (code === OPEN_BRACE || code === OPEN_BRACKET) {
+      depth += 1;
+    } else if (code === CLOSE_BRACE || code === CLOSE_BRACKET) {
+      depth -= 1;
+    } else if (code === COLON && depth === 1) {
+      members += 1;
+    }
+  }
+  return members;
+}
+
+/** The first key that the outermost object of `text` names twice, decoded; null when none repeats. */
+function repeatedTopLevelKey(text: string): string | null {
+  const keys = new Set<string>();
+  let depth = 0;
+  for (let index = 0; index < text.length; index++) {
+    const code = text.charCodeAt(index);
+    if (code === QUOTE) {
+      const end = endOfString(text, index);
+      let next = end + 1;
+      while (next < text.length && /\s/.test(text.charAt(next))) next += 1;
+      if (depth === 1 && text.charCodeAt(next) === COLON) {
+        const key = JSON.parse(text.slice(index, end + 1)) as string;
+        if (keys.has(key)) return key;
+        keys.add(key);
+      }
+      index = end;
+    } else if (code === OPEN_BRACE || code === OPEN_BRACKET) {
+      depth += 1;
+    } else if (code === CLOSE_BRACE || code === CLOSE_BRACKET) {
+      depth -= 1;
+    }
+  }
+  return null;
+}
+
+/** Index of the quote that closes the JSON string opening at `start`. */
+function endOfString(text: string, start: number): number {
+  for (let index = start + 1; index < text.length; index++) {
+    const code = text.charCodeAt(index);
+    if (code === BACKSLASH) index += 1;
+    else if (code === QUOTE) return index;
+  }
+  return text.length;
 }
 
 async function* splitLines(body: Readable, limits: ParseLimits): AsyncGenerator<{ text: string; line: number }> {
@@ -186,6 +270,9 @@ async function* splitLines(body: Readable, limits: ParseLimits): AsyncGenerator<
       pending += decoder.decode(chunk, { stream: true });
       let newline = pending.indexOf('\n');
       while (newline !== -1) {
+        // Checked on whole lines too, not only on the unfinished rest, so the limit does not
+        // depend on how the body happens to be split into chunks.
+        if (newline > limits.maxRecordChars) throw new MalformedBodyError(`line is longer than ${limits.maxRecordChars} characters`, line);
         yield { text: pending.slice(0, newline).replace(/\r$/, ''), line };
         line += 1;
         pending = pending.slice(newline + 1);
@@ -271,6 +358,8 @@ async function* splitJsonArray(body: Readable, limits: ParseLimits): AsyncGenera
         }
         if (depth === 1 && elementStart !== -1) {
           const completed = element + text.slice(elementStart, index + 1);
+          // A row that arrived within one chunk is held to the same limit as one spread over many.
+          if (completed.length > limits.maxRecordChars) fail(`a row is longer than ${limits.maxRecordChars} characters`);
           element = '';
           elementStart = -1;
           expecting = 'comma or ]';
