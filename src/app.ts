@@ -6,7 +6,8 @@ import Fastify, { type FastifyInstance } from 'fastify';
 import type { Config } from './config.js';
 import type { DatabaseHandle } from './db/connect.js';
 import { registerAuth } from './http/auth.js';
-import { registerErrorHandling } from './http/errors.js';
+import { registerErrorHandling, sendProblem } from './http/errors.js';
+import { Problem } from './http/problems.js';
 import { registerLimits } from './http/limits.js';
 import { healthRoutes } from './http/health-routes.js';
 import { ingestRoutes } from './http/ingest-routes.js';
@@ -42,6 +43,13 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
     ajv: { customOptions: { removeAdditional: false, coerceTypes: 'array', useDefaults: true } },
     return503OnClosing: true,
     requestTimeout: deps.config.requestTimeoutMs,
+    // Identifiers may be 200 characters; the router's default limit (100) would refuse them.
+    routerOptions: { maxParamLength: 256 },
+    // Errors the router raises before any route runs (a malformed URL, an overlong parameter)
+    // leave as problem details too.
+    frameworkErrors: (error, request, reply) => {
+      sendProblem(reply, request, new Problem('invalid-request', `the request URL cannot be read: ${error.message}`));
+    },
   });
   registerErrorHandling(app);
   // The route list lets the contract test compare what is served with openapi.yaml.

@@ -39,6 +39,18 @@ describe('protective limits', () => {
     expect(limited.json().type).toBe('/problems/rate-limited');
   });
 
+  it('answers a malformed URL and a 200-character campaign id with problem details, not the router\'s own JSON', async () => {
+    testApp = await createTestApp('sqlite');
+    const malformed = await testApp.app.inject({ method: 'POST', url: '/v1/campaigns/%E0%A4%A/contacts', headers: { 'content-type': 'text/csv' }, payload: 'x\n' });
+    expect(malformed.statusCode).toBe(400);
+    expect(malformed.headers['content-type']).toMatch(/application\/problem\+json/);
+    expect(malformed.json().type).toBe('/problems/invalid-request');
+    const longId = 'c'.repeat(200);
+    const long = await testApp.app.inject({ method: 'POST', url: `/v1/campaigns/${longId}/contacts`, headers: { 'content-type': 'text/csv' }, payload: 'customer_id,contacted_at,converted,revenue\nnobody,2026-01-01,0,\n' });
+    expect(long.statusCode).toBe(422);
+    expect(long.json().errors[0].reason).toMatch(/not a known customer/);
+  });
+
   it('answers 503 with Retry-After when memory use is past its limit', async () => {
     testApp = await createTestApp('sqlite', { maxHeapUsedMiB: 1 });
     // under-pressure samples once a second; wait for a sample that sees the heap.
