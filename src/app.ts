@@ -12,6 +12,7 @@ import { registerLimits } from './http/limits.js';
 import { healthRoutes } from './http/health-routes.js';
 import { ingestRoutes } from './http/ingest-routes.js';
 import { openapiRoutes } from './http/openapi-routes.js';
+import { pageRoutes } from './http/page-routes.js';
 import { reportRoutes } from './http/report-routes.js';
 import type { Logger } from './logger.js';
 
@@ -76,5 +77,6 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
     }),
   );
   await app.register(reportRoutes({ config: deps.config, database: deps.database, logger: deps.logger, now }));
+  await app.register(pageRoutes({ config: deps.config, database: deps.database, logger: deps.logger, now }));
   return app;
 }

@@ -67,7 +67,8 @@ export function registerAuth(app: FastifyInstance, options: { db: Kysely<Databas
     const presented = presentedKey(request.headers.authorization);
     // Browsers cannot send a bearer token when following a link; for the web page they are
     // asked for Basic credentials instead, with the key as the password.
-    const challenge = routeUrl.startsWith('/reports/') ? 'Basic realm="segrank", charset="UTF-8"' : 'Bearer';
+    const fromBrowser = routeUrl.startsWith('/reports/') || (request.method === 'GET' && /text\/html/.test(request.headers.accept ?? ''));
+    const challenge = fromBrowser ? 'Basic realm="segrank", charset="UTF-8"' : 'Bearer';
     if (!presented) {
       return sendProblem(reply.header('www-authenticate', challenge), request, new Problem('unauthorized', 'send an API key as "Authorization: Bearer <key>"'));
     }

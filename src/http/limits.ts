@@ -18,7 +18,11 @@ const RETRY_AFTER_SECONDS = 10;
 export async function registerLimits(app: FastifyInstance, config: Config): Promise<void> {
   await app.register(helmet, {
     // The service answers JSON, CSV and one self-contained HTML page: nothing is loaded from elsewhere.
-    contentSecurityPolicy: { directives: { defaultSrc: ["'self'"], imgSrc: ["'self'", 'data:'], styleSrc: ["'self'", "'unsafe-inline'"], scriptSrc: ["'self'"] } },
+    // upgrade-insecure-requests is left out: inside a company network the service often runs on
+    // plain HTTP, and the page's links and picker must keep working there.
+    contentSecurityPolicy: {
+      directives: { defaultSrc: ["'self'"], imgSrc: ["'self'", 'data:'], styleSrc: ["'self'", "'unsafe-inline'"], scriptSrc: ["'self'"], upgradeInsecureRequests: null },
+    },
   });
   if (config.corsOrigins.length > 0) {
     await app.register(cors, { origin: config.corsOrigins, methods: ['GET', 'POST', 'DELETE'], allowedHeaders: ['authorization', 'content-type', 'idempotency-key', 'if-none-match'] });

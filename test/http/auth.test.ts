@@ -77,6 +77,12 @@ describe.each(TEST_DIALECTS)('API keys and roles on %s', (dialect) => {
     expect((await upload(`Basic ${Buffer.from('anyone:wrong').toString('base64')}`)).statusCode).toBe(401);
   });
 
+  it('asks a browser following a link to the CSV pull for Basic credentials', async () => {
+    const response = await testApp.app.inject({ method: 'GET', url: '/v1/reports/any/segments?format=csv', headers: { accept: 'text/html,application/xhtml+xml,*/*;q=0.8' } });
+    expect(response.statusCode).toBe(401);
+    expect(response.headers['www-authenticate']).toMatch(/^Basic realm="segrank"/);
+  });
+
   it('keeps public routes open', async () => {
     expect((await testApp.app.inject({ method: 'GET', url: '/healthz' })).statusCode).toBe(200);
     expect((await testApp.app.inject({ method: 'GET', url: '/openapi.yaml' })).statusCode).toBe(200);

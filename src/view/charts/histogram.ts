@@ -1,0 +1,105 @@
+/**
+ * A histogram of age or value from bins the snapshot holds: adjacent bars from each bin's low
+ * edge to its high edge, with the rule that chose the bins stated in the caption.
+ */
+import type { TopLevelSpec } from 'vega-lite';
+import { formatCount } from '../../report/format.js';
+import type { ChartFigure } from '../figure.js';
+import { html } from '../html.js';
+import { renderChart } from '../render-chart.js';
+import { niceScale } from './scale.js';
+
+/** The bins of one distribution, as the statistics core's `histogram` returns them. */
+export interface HistogramData {
+  rule: 'sturges' | 'freedman-diaconis' | 'fixed' | string;
+  bin_width: number;
+  bins: ReadonlyArray<{ low: number; high: number; count: number }>;
+  /** why the rule was not applied as asked, or null */
+  note: string | null;
+}
+
+export interface HistogramSubject {
+  id: string;
+  /** "age" or "revenue per contacted customer" */
+  name: string;
+  /** "years" or "money, major units" */
+  unit: string;
+  /** the units counted: "contacted customers" */
+  unitsWord: string;
+  /** how a bin edge is written */
+  format(value: number): string;
+  /** a sentence on what is left out (unknown ages), or '' */
+  leftOut: string;
+}
+
+/**
+ * The bin rule in words, from the rule's name and the bins themselves.
+ * @example
+ * binRuleSentence({ rule: 'sturges', bin_width: 5, bins, note: null }, 'years', (v) => String(v));
+ * // "Sturges' rule (k = ⌈log₂ n⌉ + 1) gives 12 bins of width 5 years; …"
+ */
+export function binRuleSentence(data: HistogramData, unit: string, format: (value: number) => string): string {
+  const count = data.bins.length;
+  const rule =
+    data.rule === 'sturges'
+      ? "Sturges' rule (k = ⌈log₂ n⌉ + 1)"
+      : data.rule === 'freedman-diaconis'
+        ? 'the Freedman–Diaconis rule (width 2·IQR·n^(−1/3))'
+        : data.rule === 'fixed'
+          ? 'a fixed number of bins'
+          : `the ${data.rule} rule`;
+  const width = data.bin_width > 0 ? ` of width ${format(data.bin_width)} ${unit}` : '';
+  return `Bins: ${rule} gives ${count} equal bin${count === 1 ? '' : 's'}${width} from the smallest to the largest value; each bin holds values from its low edge up to but not including its high edge, and the last bin also holds its high edge.${data.note ? ` ${data.note}` : ''}`;
+}
+
+export function histogramSpec(data: HistogramData, subject: HistogramSubject): TopLevelSpec {
+  const counts = niceScale(
+    data.bins.map((bin) => bin.count),
+    0,
+    5,
+  );
+  return {
+    width: 380,
+    height: 190,
+    data: { values: data.bins.map((bin) => ({ ...bin })) },
+    layer: [
+      {
+        name: 'bins',
+        mark: { type: 'bar', color: '#4D6E8F', stroke: '#ffffff', strokeWidth: 0.5 },
+        encoding: {
+          x: { field: 'low', type: 'quantitative', scale: { zero: false, nice: false }, axis: { title: `${subject.name} (${subject.unit})`, tickCount: 8 } },
+          x2: { field: 'high' },
+          y: { field: 'count', type: 'quantitative', scale: { domain: counts.domain, nice: false }, axis: { title: subject.unitsWord, values: counts.ticks } },
+          // Both ends of each bar given: with x and x2 alone the library would draw thin horizontal bars.
+          y2: { datum: 0 },
+        },
+      },
+    ],
+  } as TopLevelSpec;
+}
+
+/**
+ * A histogram as a figure.
+ * @example
+ * const figure = await histogramChart(data, { id: 'age-histogram', name: 'age', unit: 'years', unitsWord: 'customers', format: String, leftOut: '' });
+ */
+export async function histogramChart(data: HistogramData, subject: HistogramSubject): Promise<ChartFigure> {
+  const total = data.bins.reduce((sum, bin) => sum + bin.count, 0);
+  const fullest = data.bins.reduce<HistogramData['bins'][number] | null>((best, bin) => (best === null || bin.count > best.count ? bin : best), null);
+  const first = data.bins[0];
+  const last = data.bins[data.bins.length - 1];
+  return {
+    id: subject.id,
+    heading: `Histogram of ${subject.name}`,
+    svg: await renderChart(histogramSpec(data, subject)),
+    wide: false,
+    label: `Histogram of ${subject.name} over ${formatCount(total)} ${subject.unitsWord}${
+      first && last ? `, from ${subject.format(first.low)} to ${subject.format(last.high)} ${subject.unit}` : ''
+    }, in ${data.bins.length} bins${fullest ? `; the fullest bin is ${subject.format(fullest.low)} to ${subject.format(fullest.high)} with ${formatCount(fullest.count)}` : ''}.`,
+    caption: html`${binRuleSentence(data, subject.unit, subject.format)}${subject.leftOut ? ` ${subject.leftOut}` : ''}`,
+    data: {
+      columns: [`from (${subject.unit})`, `to (${subject.unit})`, subject.unitsWord],
+      rows: data.bins.map((bin) => [subject.format(bin.low), subject.format(bin.high), formatCount(bin.count)]),
+    },
+  };
+}
