@@ -14,11 +14,22 @@ import {
   type Outcome,
   type Summary,
 } from '../stats/index.js';
-import { compareText, compareValueLists, type AgeCount, type CellAggregate, type Shifts, type SourceQuality, type ValueCount } from '../segments/aggregate.js';
+import {
+  compareText,
+  compareValueLists,
+  type AgeCount,
+  type AgeValueBinCount,
+  type AgeValueGridAxes,
+  type CellAggregate,
+  type PopulationValueCount,
+  type Shifts,
+  type SourceQuality,
+  type ValueCount,
+} from '../segments/aggregate.js';
 import { cellStats, groupBy, rollUp, subtractGroup, type Group, type GroupStats } from '../segments/rollup.js';
 import { analyzeSegment, valueSummary, type SegmentStatistics } from './analysis.js';
 import type { ReportDefinition } from './definition.js';
-import { correlationFromSums, dimensionProfiles, populationDescriptives } from './descriptives.js';
+import { ageValueGridCells, correlationFromSums, dimensionProfiles, populationDescriptives, populationHistograms } from './descriptives.js';
 import { findReversals } from './reversals.js';
 import { VERDICTS, type Comparison, type DataQuality, type PopulationFigures, type Reversal, type SegmentChange, type Snapshot, type SnapshotSegment, type Verdict } from './rows.js';
 import { decideVerdict } from './verdict.js';
@@ -48,6 +59,13 @@ export interface SnapshotInput {
   cells: CellAggregate[];
   ageCounts: AgeCount[];
   valueCounts: ValueCount[];
+  /**
+   * Value counts over the whole population (`populationValueCounts`), for its histogram.
+   * Absent: the cell value counts are used when they cover every unit of the value metric.
+   */
+  populationValueCounts?: PopulationValueCount[];
+  /** Counts of the age × value grid (`ageValueGridCounts`) with the axes they were binned on; null or absent: no grid. */
+  ageValueGrid?: { axes: AgeValueGridAxes; counts: AgeValueBinCount[] } | null;
   quality: SourceQuality;
   /** sales reports: the window of the same length just before this one */
   previousWindow: PreviousWindow | null;
@@ -253,6 +271,13 @@ export function fingerprintOf(input: SnapshotInput): string {
   for (const cell of input.cells) hash.update(JSON.stringify(cell));
   for (const entry of sortedCounts(input.ageCounts, (row) => row.age)) hash.update(JSON.stringify(entry));
   for (const entry of sortedCounts(input.valueCounts, (row) => row.valueCents)) hash.update(JSON.stringify(entry));
+  if (input.populationValueCounts) {
+    for (const entry of [...input.populationValueCounts].sort((left, right) => left.valueCents - right.valueCents)) hash.update(JSON.stringify(entry));
+  }
+  if (input.ageValueGrid) {
+    hash.update(JSON.stringify(input.ageValueGrid.axes));
+    for (const entry of [...input.ageValueGrid.counts].sort((left, right) => left.ageBin - right.ageBin || left.valueBin - right.valueBin)) hash.update(JSON.stringify(entry));
+  }
   if (input.previousWindow) {
     hash.update(JSON.stringify({ from: input.previousWindow.from, to: input.previousWindow.to, shifts: input.previousWindow.shifts }));
     for (const cell of input.previousWindow.cells) hash.update(JSON.stringify(cell));
@@ -439,6 +464,7 @@ function populationFigures(input: SnapshotInput, total: GroupStats, definition: 
   const valueSummaryOfTotal = valueSummary(total, definition.value_basis);
   const valueInterval = valueOf(tInterval(valueSummaryOfTotal, definition.confidence));
   const descriptives = populationDescriptives(input.ageCounts, input.valueCounts, valueSummaryOfTotal, total.age);
+  const histograms = populationHistograms(input.ageCounts, wholePopulationValueCounts(input, valueSummaryOfTotal.n));
   const source = definition.source;
   return {
     unit: 'campaign_ids' in source ? 'contact' : 'customer',
@@ -457,5 +483,25 @@ function populationFigures(input: SnapshotInput, total: GroupStats, definition: 
     value_descriptives: descriptives.value,
     age_descriptives: descriptives.age,
     age_value_correlation: correlationFromSums(total.ageValue, input.shifts, definition.confidence),
+    age_histogram: histograms.age,
+    value_histogram: histograms.value,
+    age_value_grid: input.ageValueGrid ? nullIfEmpty(ageValueGridCells(input.ageValueGrid.axes, input.ageValueGrid.counts)) : null,
   };
+}
+
+function nullIfEmpty<T>(items: T[]): T[] | null {
+  return items.length === 0 ? null : items;
+}
+
+/**
+ * The value counts of every unit of the value metric, or null when they were not read: the
+ * whole-population counts when given, else the cell counts when they add up to every unit
+ * (a narrowed `valueDistribution` leaves some out, and a histogram of part would mislead).
+ */
+function wholePopulationValueCounts(input: SnapshotInput, valueUnits: number): PopulationValueCount[] | null {
+  if (input.populationValueCounts) return input.populationValueCounts;
+  const merged = new Map<number, number>();
+  for (const entry of input.valueCounts) merged.set(entry.valueCents, (merged.get(entry.valueCents) ?? 0) + entry.count);
+  const covered = [...merged.values()].reduce((sum, count) => sum + count, 0);
+  return covered === valueUnits ? [...merged].map(([valueCents, count]) => ({ valueCents, count })) : null;
 }

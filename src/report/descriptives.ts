@@ -10,6 +10,7 @@
 import {
   coefficientOfVariation,
   frequencyTable,
+  histogramOfCounts,
   mean,
   modes,
   pearsonCorrelationFromMoments,
@@ -18,12 +19,13 @@ import {
   standardDeviation,
   summaryFromShiftedSums,
   summaryVariance,
+  type Histogram,
   type Outcome,
   type Summary,
 } from '../stats/index.js';
-import type { PairedShiftedSums, Shifts } from '../segments/aggregate.js';
+import type { AgeValueBinCount, AgeValueGridAxes, GridAxis, PairedShiftedSums, PopulationValueCount, Shifts } from '../segments/aggregate.js';
 import type { Group } from '../segments/rollup.js';
-import type { Correlation, Descriptives, DimensionProfile, DimensionValueProfile } from './rows.js';
+import type { AgeValueGridCell, Correlation, Descriptives, DimensionProfile, DimensionValueProfile, HistogramFigure } from './rows.js';
 
 /** Largest group whose grouped counts are expanded into a list of values for the statistics core. */
 export const MAX_EXPANDED_VALUES = 100_000;
@@ -184,3 +186,92 @@ export function populationDescriptives(
   return { value: describeDistribution(countsIfExpandable(values, valueSummary.n), valueSummary), age: describeDistribution(toWeighted(ages), ageSummary) };
 }
 
+
+/** Largest number of bins on either axis of the age × value grid (so at most 20 × 20 cells). */
+export const MAX_GRID_BINS = 20;
+
+function histogramFigure(outcome: Outcome<Histogram>): HistogramFigure | null {
+  if (!outcome.ok) return null;
+  const { rule, binWidth, bins, note } = outcome.value;
+  return { rule, bin_width: binWidth, bins: bins.map((bin) => ({ low: bin.low, high: bin.high, count: bin.count })), note };
+}
+
+/**
+ * The histograms of the population's age (units with a known age) and value (units of the
+ * value metric, in major currency units: cents / 100), by the statistics core's
+ * `histogramOfCounts` with Sturges' rule: equal bins from the smallest to the largest value,
+ * each [low, high) and the last [low, high]. Null when there is nothing to bin; the value
+ * histogram is also null when the whole population's value counts were not read.
+ * @throws StatsInputError when a count is not a non-negative integer (a programming error)
+ * @example
+ * populationHistograms([{ values: ['north'], age: 30, count: 2 }], [{ valueCents: 1250, count: 2 }]);
+ * // { age: { rule: 'sturges', bin_width: 0, bins: [{ low: 30, high: 30, count: 2 }], note: 'All values are equal, …' }, value: { … } }
+ */
+export function populationHistograms(
+  ageCounts: ProfileInput['ageCounts'],
+  valueCounts: readonly PopulationValueCount[] | null,
+): { age: HistogramFigure | null; value: HistogramFigure | null } {
+  const ages = ageCounts.flatMap((entry) => (entry.age === null ? [] : [{ value: entry.age, count: entry.count }]));
+  const values = valueCounts === null ? null : valueCounts.map((entry) => ({ value: entry.valueCents / 100, count: entry.count }));
+  return { age: histogramFigure(histogramOfCounts(ages)), value: values === null ? null : histogramFigure(histogramOfCounts(values)) };
+}
+
+function axisOf(entries: ReadonlyArray<{ value: number; count: number }>, histogramBins: number): GridAxis | null {
+  const present = entries.filter((entry) => entry.count > 0).map((entry) => entry.value);
+  if (present.length === 0) return null;
+  return { low: Math.min(...present), high: Math.max(...present), bins: Math.min(histogramBins, MAX_GRID_BINS) };
+}
+
+/**
+ * The axes of the age × value grid: the range of the known ages (years) and of the values
+ * (cents), each in as many equal bins as its histogram, at most `MAX_GRID_BINS`, so that
+ * while the histogram has no more bins the grid's edges are the histogram's. Null when either
+ * distribution is empty.
+ * @example
+ * ageValueGridAxes([{ values: ['north'], age: 30, count: 2 }, { values: ['south'], age: 50, count: 2 }], [{ valueCents: 0, count: 4 }]);
+ * // { age: { low: 30, high: 50, bins: 3 }, valueCents: { low: 0, high: 0, bins: 1 } }
+ */
+export function ageValueGridAxes(ageCounts: ProfileInput['ageCounts'], valueCounts: readonly PopulationValueCount[]): AgeValueGridAxes | null {
+  const histograms = populationHistograms(ageCounts, valueCounts);
+  if (histograms.age === null || histograms.value === null) return null;
+  const age = axisOf(
+    ageCounts.flatMap((entry) => (entry.age === null ? [] : [{ value: entry.age, count: entry.count }])),
+    histograms.age.bins.length,
+  );
+  const valueCents = axisOf(
+    valueCounts.map((entry) => ({ value: entry.valueCents, count: entry.count })),
+    histograms.value.bins.length,
+  );
+  return age === null || valueCents === null ? null : { age, valueCents };
+}
+
+/** Edge i of an axis (the last edge is the axis' high end exactly, as in `histogram`). */
+function axisEdge(axis: GridAxis, index: number): number {
+  return index >= axis.bins ? axis.high : axis.low + (index * (axis.high - axis.low)) / axis.bins;
+}
+
+/**
+ * The occupied cells of the age × value grid with their edges (age in years, value in major
+ * currency units), ordered by age bin and then value bin.
+ * @throws Error when a bin index lies outside its axis (a programming error)
+ * @example
+ * ageValueGridCells({ age: { low: 20, high: 40, bins: 2 }, valueCents: { low: 0, high: 1000, bins: 1 } }, [{ ageBin: 1, valueBin: 0, count: 3 }]);
+ * // [{ age_low: 30, age_high: 40, value_low: 0, value_high: 10, count: 3 }]
+ */
+export function ageValueGridCells(axes: AgeValueGridAxes, counts: readonly AgeValueBinCount[]): AgeValueGridCell[] {
+  return [...counts]
+    .filter((entry) => entry.count > 0)
+    .sort((left, right) => left.ageBin - right.ageBin || left.valueBin - right.valueBin)
+    .map((entry) => {
+      if (entry.ageBin < 0 || entry.ageBin >= axes.age.bins || entry.valueBin < 0 || entry.valueBin >= axes.valueCents.bins) {
+        throw new Error(`grid cell (${entry.ageBin}, ${entry.valueBin}) lies outside the ${axes.age.bins} × ${axes.valueCents.bins} grid`);
+      }
+      return {
+        age_low: axisEdge(axes.age, entry.ageBin),
+        age_high: axisEdge(axes.age, entry.ageBin + 1),
+        value_low: axisEdge(axes.valueCents, entry.valueBin) / 100,
+        value_high: axisEdge(axes.valueCents, entry.valueBin + 1) / 100,
+        count: entry.count,
+      };
+    });
+}

@@ -185,6 +185,28 @@ export interface DataQuality {
   arithmetic: 'exact' | 'floating';
 }
 
+/**
+ * A histogram as the statistics core's `histogram` returns it: equal bins, each holding
+ * values from `low` up to but not including `high`, the last also holding `high`.
+ */
+export interface HistogramFigure {
+  /** how the number of bins was chosen: 'sturges', 'freedman-diaconis' or 'fixed' */
+  rule: string;
+  bin_width: number;
+  bins: Array<{ low: number; high: number; count: number }>;
+  /** why the rule was not applied as asked (or all values are equal), or null */
+  note: string | null;
+}
+
+/** One occupied cell of the age × value grid: ages in years, value in major currency units. */
+export interface AgeValueGridCell {
+  age_low: number;
+  age_high: number;
+  value_low: number;
+  value_high: number;
+  count: number;
+}
+
 export interface PopulationFigures {
   unit: 'contact' | 'customer';
   campaign_ids: string[] | null;
@@ -202,6 +224,12 @@ export interface PopulationFigures {
   value_descriptives: Descriptives;
   age_descriptives: Descriptives;
   age_value_correlation: Correlation;
+  /** Units with a known age. Null when there are none; absent from snapshots stored before it existed. */
+  age_histogram?: HistogramFigure | null;
+  /** Units of the value metric, major currency units. Null when there are none or their values were not read. */
+  value_histogram?: HistogramFigure | null;
+  /** Units of the value metric with a known age, occupied cells only. Null when there are none. */
+  age_value_grid?: AgeValueGridCell[] | null;
 }
 
 export interface Comparison {

@@ -168,6 +168,22 @@ const descriptivesSchema = {
   },
 } as const;
 
+/** A histogram as the statistics core returns it; absent from snapshots stored before it existed. */
+const histogramSchema = {
+  type: ['object', 'null'],
+  description: 'equal bins, each holding values from low up to but not including high, the last also holding high',
+  required: ['rule', 'bin_width', 'bins', 'note'],
+  properties: {
+    rule: { type: 'string', description: "how the number of bins was chosen: 'sturges', 'freedman-diaconis' or 'fixed'" },
+    bin_width: { type: 'number' },
+    bins: {
+      type: 'array',
+      items: { type: 'object', required: ['low', 'high', 'count'], properties: { low: { type: 'number' }, high: { type: 'number' }, count: { type: 'integer' } } },
+    },
+    note: { type: ['string', 'null'] },
+  },
+} as const;
+
 const correlationSchema = {
   type: 'object',
   required: ['n', 'r', 'ci_low', 'ci_high', 'p_value', 'note'],
@@ -326,6 +342,17 @@ export const snapshotSchema = {
         value_descriptives: descriptivesSchema,
         age_descriptives: descriptivesSchema,
         age_value_correlation: correlationSchema,
+        age_histogram: histogramSchema,
+        value_histogram: histogramSchema,
+        age_value_grid: {
+          type: ['array', 'null'],
+          description: 'occupied cells of the age × value grid (age in years, value in major currency units); absent from snapshots stored before it existed',
+          items: {
+            type: 'object',
+            required: ['age_low', 'age_high', 'value_low', 'value_high', 'count'],
+            properties: { age_low: { type: 'number' }, age_high: { type: 'number' }, value_low: { type: 'number' }, value_high: { type: 'number' }, count: { type: 'integer' } },
+          },
+        },
       },
     },
     row_counts: {

@@ -8,8 +8,10 @@ import type { Dialect } from '../db/connect.js';
 import type { Database, ReportsTable, SnapshotTrigger } from '../db/tables.js';
 import type { Logger } from '../logger.js';
 import {
+  ageValueGridCounts,
   cellAggregates,
   populationTotals,
+  populationValueCounts,
   shiftsFromTotals,
   sourceQuality,
   valueDistribution,
@@ -20,7 +22,7 @@ import {
 } from '../segments/aggregate.js';
 import { buildSnapshot, type PreviousWindow } from './compute.js';
 import { normalizeDefinition, type ReportDefinition } from './definition.js';
-import { isExpandable } from './descriptives.js';
+import { ageValueGridAxes, isExpandable } from './descriptives.js';
 import * as repository from './repository.js';
 import { renderSegmentTable, type RenderedTable, type SegmentTableCache, type TableFormat } from './segment-table.js';
 import type { Snapshot } from './rows.js';
@@ -171,6 +173,9 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
     const shifts = shiftsFromTotals(totals);
     const { cells, ageCounts, arithmetic } = await cellAggregates(trx, request, shifts);
     const valueCounts = await valueDistribution(trx, request, valueDistributionScope(cells, definition));
+    const wholeValueCounts = await populationValueCounts(trx, request);
+    const gridAxes = ageValueGridAxes(ageCounts, wholeValueCounts);
+    const ageValueGrid = gridAxes === null ? null : { axes: gridAxes, counts: await ageValueGridCounts(trx, request, gridAxes) };
     const quality = await sourceQuality(trx, source);
     let previousWindow: PreviousWindow | null = null;
     if (source.kind === 'sales') {
@@ -180,7 +185,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
       const previous = await cellAggregates(trx, { ...request, source: previousSource }, previousShifts);
       previousWindow = { ...window, cells: previous.cells, shifts: previousShifts };
     }
-    return { shifts, cells, arithmetic, ageCounts, valueCounts, quality, previousWindow };
+    return { shifts, cells, arithmetic, ageCounts, valueCounts, populationValueCounts: wholeValueCounts, ageValueGrid, quality, previousWindow };
   });
   const queriesDone = performance.now();
 

@@ -8,7 +8,9 @@
  *   with n, conversions and the shifted sums Σ(v − c), Σ(v − c)² for both value bases; the
  *   age sums, the age distribution and the co-moments of age and value follow from it exactly;
  * - `valueDistribution`: counts per (cell, value), from which medians, quartiles and modes of
- *   the value are read.
+ *   the value are read;
+ * - `populationValueCounts` and `ageValueGridCounts`: counts per value, and per cell of an
+ *   age × value grid, over the whole population, for its histogram and binned scatter.
  *
  * The SQL is the subset SQLite and PostgreSQL share (CASE, COALESCE, SUBSTR, CAST … AS
  * INTEGER / DOUBLE PRECISION) and everything is integer arithmetic on cents and years, so
@@ -375,6 +377,99 @@ export async function valueDistribution(db: Executor, request: AggregationReques
     valueCents: toNumber(row['value_cents']),
     count: toNumber(row['count']),
   }));
+}
+
+/** Count of the value metric's units with one value (in cents), over the whole population. */
+export interface PopulationValueCount {
+  valueCents: number;
+  count: number;
+}
+
+function valueBasisCondition(valueBasis: AggregationRequest['valueBasis']): RawBuilder<unknown> {
+  return valueBasis === 'per_conversion' ? sql`where ${CONVERTED} = 1` : sql``;
+}
+
+/**
+ * Counts of the value metric's units per value (cents) over the whole population, without
+ * cells: the data of the population's value histogram, complete however large the population
+ * (unlike `valueDistribution`, which a caller may narrow). One GROUP BY on the value alone.
+ * @throws whatever the database throws
+ * @example
+ * await populationValueCounts(db, request); // [{ valueCents: 0, count: 712 }, { valueCents: 1250, count: 3 }, …]
+ */
+export async function populationValueCounts(db: Executor, request: Pick<AggregationRequest, 'source' | 'valueBasis'>): Promise<PopulationValueCount[]> {
+  const { rows } = await sql<Record<string, unknown>>`
+    select ${VALUE} as value_cents, count(*) as count
+    from (${basePopulation(request.source, [])}) population
+    ${valueBasisCondition(request.valueBasis)}
+    group by ${VALUE}`.execute(db);
+  return rows.map((row) => ({ valueCents: toNumber(row['value_cents']), count: toNumber(row['count']) })).sort((left, right) => left.valueCents - right.valueCents);
+}
+
+/**
+ * One axis of the age × value grid: `bins` equal bins from `low` to `high` (whole years or
+ * cents). Bin i holds x with low + i·(high − low)/bins ≤ x < low + (i + 1)·(high − low)/bins;
+ * the last bin also holds x = high (the edge rule of the statistics core's `histogram`).
+ */
+export interface GridAxis {
+  low: number;
+  high: number;
+  bins: number;
+}
+
+export interface AgeValueGridAxes {
+  age: GridAxis;
+  valueCents: GridAxis;
+}
+
+/** Count of the value metric's units with a known age in one cell of the age × value grid. */
+export interface AgeValueBinCount {
+  ageBin: number;
+  valueBin: number;
+  count: number;
+}
+
+/**
+ * The bin index of an integer column on an axis, in integer arithmetic only:
+ * ⌊(x − low)·bins / (high − low)⌋, which is the bin whose real-valued edges hold x. Both
+ * engines truncate integer division toward zero, and x − low ≥ 0 there, so they agree.
+ */
+function binIndexSql(column: RawBuilder<unknown>, axis: GridAxis): RawBuilder<number> {
+  if (axis.high <= axis.low || axis.bins === 1) return sql<number>`0`;
+  return sql<number>`case when ${column} >= ${sql.lit(axis.high)} then ${sql.lit(axis.bins - 1)} when ${column} <= ${sql.lit(axis.low)} then 0
+    else (cast(${column} as bigint) - ${sql.lit(axis.low)}) * ${sql.lit(axis.bins)} / ${sql.lit(axis.high - axis.low)} end`;
+}
+
+function requireIntegerAxis(name: string, axis: GridAxis): void {
+  if (!Number.isSafeInteger(axis.low) || !Number.isSafeInteger(axis.high) || !Number.isSafeInteger(axis.bins) || axis.bins < 1 || axis.high < axis.low) {
+    throw new Error(`the ${name} axis of the grid needs whole-number bounds and a positive number of bins, got ${JSON.stringify(axis)}`);
+  }
+}
+
+/**
+ * Counts of the value metric's units with a known age per cell of an age × value grid, over
+ * the whole population, binned in SQL with integer arithmetic (`binIndexSql`) so that SQLite
+ * and PostgreSQL place every unit in the same cell. Only occupied cells are returned.
+ * @throws Error when an axis does not have whole-number bounds; whatever the database throws
+ * @example
+ * await ageValueGridCounts(db, request, { age: { low: 18, high: 90, bins: 12 }, valueCents: { low: 0, high: 50_000, bins: 20 } });
+ * // [{ ageBin: 0, valueBin: 0, count: 40 }, …]
+ */
+export async function ageValueGridCounts(db: Executor, request: Pick<AggregationRequest, 'source' | 'valueBasis'>, axes: AgeValueGridAxes): Promise<AgeValueBinCount[]> {
+  requireIntegerAxis('age', axes.age);
+  requireIntegerAxis('value', axes.valueCents);
+  const converted = request.valueBasis === 'per_conversion' ? sql`and ${CONVERTED} = 1` : sql``;
+  const { rows } = await sql<Record<string, unknown>>`
+    select binned.age_bin as age_bin, binned.value_bin as value_bin, count(*) as count
+    from (
+      select ${binIndexSql(AGE, axes.age)} as age_bin, ${binIndexSql(VALUE, axes.valueCents)} as value_bin
+      from (${basePopulation(request.source, [])}) population
+      where ${AGE} is not null ${converted}
+    ) binned
+    group by binned.age_bin, binned.value_bin`.execute(db);
+  return rows
+    .map((row) => ({ ageBin: toNumber(row['age_bin']), valueBin: toNumber(row['value_bin']), count: toNumber(row['count']) }))
+    .sort((left, right) => left.ageBin - right.ageBin || left.valueBin - right.valueBin);
 }
 
 /** Data-quality counts that are not visible in the cells. */

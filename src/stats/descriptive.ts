@@ -316,6 +316,24 @@ const DEFAULT_MAX_BINS = 1000;
  */
 export function histogram(values: ReadonlyArray<number>, options: HistogramOptions = {}): Outcome<Histogram> {
   requireFiniteValues('values', values);
+  checkHistogramOptions(options);
+  if (values.length === 0) return notComputable(`The histogram is undefined: ${EMPTY_REASON}.`);
+  const sorted = sortedCopy(values);
+  const entries: WeightedEntry[] = [];
+  for (const value of sorted) {
+    const last = entries[entries.length - 1];
+    if (last !== undefined && last.value === value) last.count += 1;
+    else entries.push({ value, count: 1 });
+  }
+  return binEntries(entries, sorted.length, options);
+}
+
+interface WeightedEntry {
+  value: number;
+  count: number;
+}
+
+function checkHistogramOptions(options: HistogramOptions): void {
   const { rule, binCount, maxBins = DEFAULT_MAX_BINS } = options;
   if (rule !== undefined && binCount !== undefined) {
     throw new StatsInputError('options', 'give either rule or binCount, not both');
@@ -329,19 +347,41 @@ export function histogram(values: ReadonlyArray<number>, options: HistogramOptio
   if (!Number.isSafeInteger(maxBins) || maxBins < 1) {
     throw new StatsInputError('maxBins', `maxBins must be a positive integer, got ${String(maxBins)}`);
   }
-  if (values.length === 0) return notComputable(`The histogram is undefined: ${EMPTY_REASON}.`);
+}
 
-  const sorted = sortedCopy(values);
-  const minimum = sorted[0] as number;
-  const maximum = sorted[sorted.length - 1] as number;
+/** The value at position `index` (0-based) of the sorted list the entries stand for. */
+function valueAtPosition(entries: readonly WeightedEntry[], index: number): number {
+  let seen = 0;
+  for (const entry of entries) {
+    seen += entry.count;
+    if (index < seen) return entry.value;
+  }
+  return (entries[entries.length - 1] as WeightedEntry).value;
+}
+
+/** Type 7 quantile of the sorted list the entries stand for (as `quantileOfSorted`). */
+function quantileOfEntries(entries: readonly WeightedEntry[], total: number, probability: number): number {
+  const position = (total - 1) * probability;
+  const lowerIndex = Math.floor(position);
+  const fraction = position - lowerIndex;
+  const lower = valueAtPosition(entries, lowerIndex);
+  const upper = valueAtPosition(entries, Math.min(lowerIndex + 1, total - 1));
+  return fraction === 0 ? lower : lower + fraction * (upper - lower);
+}
+
+/** The binning shared by `histogram` and `histogramOfCounts`: distinct values in ascending order, each with its count. */
+function binEntries(entries: readonly WeightedEntry[], total: number, options: HistogramOptions): Outcome<Histogram> {
+  const { rule, binCount, maxBins = DEFAULT_MAX_BINS } = options;
+  const minimum = (entries[0] as WeightedEntry).value;
+  const maximum = (entries[entries.length - 1] as WeightedEntry).value;
   const range = maximum - minimum;
   const requestedRule: BinRule | 'fixed' = binCount !== undefined ? 'fixed' : (rule ?? 'sturges');
-  const sturgesBins = Math.ceil(Math.log2(sorted.length)) + 1;
+  const sturgesBins = Math.ceil(Math.log2(total)) + 1;
   if (range === 0) {
     return computed({
       rule: requestedRule,
       binWidth: 0,
-      bins: [{ low: minimum, high: maximum, count: sorted.length }],
+      bins: [{ low: minimum, high: maximum, count: total }],
       note: 'All values are equal, so the histogram has a single bin.',
     });
   }
@@ -352,13 +392,13 @@ export function histogram(values: ReadonlyArray<number>, options: HistogramOptio
   if (requestedRule === 'fixed') {
     bins = binCount as number;
   } else if (requestedRule === 'freedman-diaconis') {
-    const interquartileRange = quantileOfSorted(sorted, 0.75) - quantileOfSorted(sorted, 0.25);
+    const interquartileRange = quantileOfEntries(entries, total, 0.75) - quantileOfEntries(entries, total, 0.25);
     if (interquartileRange === 0) {
       usedRule = 'sturges';
       bins = sturgesBins;
       note = 'The interquartile range is 0, so the Freedman–Diaconis rule gives no width; Sturges\' rule was used.';
     } else {
-      bins = Math.max(1, Math.ceil(range / (2 * interquartileRange * sorted.length ** (-1 / 3))));
+      bins = Math.max(1, Math.ceil(range / (2 * interquartileRange * total ** (-1 / 3))));
     }
   } else {
     bins = sturgesBins;
@@ -373,7 +413,7 @@ export function histogram(values: ReadonlyArray<number>, options: HistogramOptio
   for (let index = 0; index < bins; index += 1) edges.push(minimum + index * binWidth);
   edges.push(maximum);
   const counts = new Array<number>(bins).fill(0);
-  for (const value of sorted) {
+  for (const { value, count } of entries) {
     // Largest i with edges[i] <= value, at most bins − 1 (the last bin is closed).
     let low = 0;
     let high = bins - 1;
@@ -382,7 +422,7 @@ export function histogram(values: ReadonlyArray<number>, options: HistogramOptio
       if ((edges[middle] as number) <= value) low = middle;
       else high = middle - 1;
     }
-    counts[low] = (counts[low] as number) + 1;
+    counts[low] = (counts[low] as number) + count;
   }
   return computed({
     rule: usedRule,
@@ -390,4 +430,32 @@ export function histogram(values: ReadonlyArray<number>, options: HistogramOptio
     bins: counts.map((count, index) => ({ low: edges[index] as number, high: edges[index + 1] as number, count })),
     note,
   });
+}
+
+/**
+ * The histogram of grouped counts (value, count): exactly `histogram` of the list in which
+ * each value appears `count` times (same rules, edges, edge rule [low, high) with the last bin
+ * closed, and the same notes), without building that list, so a distribution read from SQL
+ * as counts of millions of units costs only as much as its distinct values. A value may
+ * appear in several entries (their counts add); entries with count 0 are ignored.
+ * Sources: as `histogram` (Sturges 1926; Freedman & Diaconis 1981).
+ * @throws StatsInputError when a value is not finite, a count is not a non-negative integer,
+ * or the options are invalid (as `histogram`)
+ * @example
+ * histogramOfCounts([{ value: 1, count: 1 }, { value: 2, count: 2 }, { value: 3, count: 1 }, { value: 4, count: 1 }]);
+ * // the same as histogram([1, 2, 2, 3, 4]): bins [1, 1.75) 1, [1.75, 2.5) 2, [2.5, 3.25) 1, [3.25, 4] 1
+ */
+export function histogramOfCounts(counts: ReadonlyArray<{ readonly value: number; readonly count: number }>, options: HistogramOptions = {}): Outcome<Histogram> {
+  requireFiniteValues(
+    'values',
+    counts.map((entry) => entry.value),
+  );
+  for (const entry of counts) requireCount('count', entry.count);
+  checkHistogramOptions(options);
+  const merged = new Map<number, number>();
+  for (const entry of counts) if (entry.count > 0) merged.set(entry.value, (merged.get(entry.value) ?? 0) + entry.count);
+  const total = [...merged.values()].reduce((sum, count) => sum + count, 0);
+  if (total === 0) return notComputable(`The histogram is undefined: ${EMPTY_REASON}.`);
+  const entries = [...merged].map(([value, count]) => ({ value, count })).sort((left, right) => left.value - right.value);
+  return binEntries(entries, total, options);
 }

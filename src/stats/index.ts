@@ -51,6 +51,7 @@ export {
   coefficientOfVariation,
   frequencyTable,
   histogram,
+  histogramOfCounts,
   mean,
   median,
   modes,

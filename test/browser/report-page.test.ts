@@ -160,6 +160,9 @@ describe('the demo report page in headless Chromium', () => {
       const ids = figures.map((figure) => figure.id);
       expect(ids.slice(0, 4)).toEqual(['interval-chart', 'pareto-1', 'pareto-2', 'pareto-3']);
       expect(ids).toContain('trend-chart');
+      // The snapshot carries the binned distributions, so they are drawn rather than summarised in a table.
+      expect(ids).toEqual(expect.arrayContaining(['age-histogram', 'value-histogram', 'scatter-age-value']));
+      expect(await page.locator('#distribution-summary').count()).toBe(0);
       for (const figure of figures) {
         expect(figure.label.length, figure.id).toBeGreaterThan(40);
         expect(figure.svgWidth, figure.id).toBeGreaterThan(100);
