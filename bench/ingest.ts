@@ -1,31 +1,116 @@
 /**
- * Upload benchmark: customers CSV then contacts CSV over HTTP to a running service (SQLite by
- * default, or DATABASE_URL), end to end. Prints seconds, rows/s and the service's peak memory.
+ * Upload benchmark: customers CSV then the contacts CSV of each campaign over HTTP to a running
+ * service (SQLite by default, or DATABASE_URL), end to end, each run on a fresh database.
+ * Prints per run and as medians: seconds and rows/s of each upload, the CPU seconds the service
+ * spent on it (steadier than wall time on a shared machine), its memory right after start-up
+ * and its peak (VmHWM), so that what an upload adds can be told from what start-up costs.
  *
- *   npx tsx bench/ingest.ts [customers] [contacts]    (defaults: 1000000 1000000)
+ *   npx tsx bench/ingest.ts [customers] [contacts per campaign] [--campaigns N] [--runs N]
+ *   (defaults: 1000000 1000000, one campaign, one run)
  */
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
+import { parseArgs } from 'node:util';
 import { writeBenchFiles } from './data.js';
-import { postFile, startServiceProcess } from '../test/support/service-process.js';
+import { postFile, startServiceProcess, type RunningService } from '../test/support/service-process.js';
 
-const customers = Number(process.argv[2] ?? 1_000_000);
-const contacts = Number(process.argv[3] ?? 1_000_000);
-const files = writeBenchFiles(path.resolve('bench/out'), { customers, campaigns: 1, contactsPerCampaign: contacts, seed: 7 });
-const directory = fs.mkdtempSync(path.join(os.tmpdir(), 'segrank-bench-'));
-const databaseUrl = process.env['DATABASE_URL'] || path.join(directory, 'bench.sqlite');
-const service = await startServiceProcess({ DATABASE_URL: databaseUrl, DATABASE_SCHEMA: `bench_${process.pid}` });
-try {
-  const customersUpload = await postFile(`${service.url}/v1/customers`, files.customersCsv);
-  if (customersUpload.status !== 201) throw new Error(customersUpload.body);
-  const campaign = files.contactsCsvs[0]!;
-  const contactsUpload = await postFile(`${service.url}/v1/campaigns/${campaign.campaignId}/contacts`, campaign.file);
-  if (contactsUpload.status !== 201) throw new Error(contactsUpload.body);
-  console.log(`customers: ${customers} rows in ${customersUpload.seconds.toFixed(2)} s (${Math.round(customers / customersUpload.seconds)} rows/s)`);
-  console.log(`contacts:  ${campaign.rows} rows in ${contactsUpload.seconds.toFixed(2)} s (${Math.round(campaign.rows / contactsUpload.seconds)} rows/s)`);
-  console.log(`service peak RSS: ${service.peakRssMiB().toFixed(0)} MiB`);
-} finally {
-  await service.stop();
-  fs.rmSync(directory, { recursive: true, force: true });
+const { values: options, positionals } = parseArgs({
+  allowPositionals: true,
+  options: {
+    campaigns: { type: 'string', default: '1' },
+    runs: { type: 'string', default: '1' },
+  },
+});
+const customers = Number(positionals[0] ?? 1_000_000);
+const contactsPerCampaign = Number(positionals[1] ?? 1_000_000);
+const campaigns = Math.max(1, Number(options.campaigns));
+const runs = Math.max(1, Number(options.runs));
+const files = writeBenchFiles(path.resolve('bench/out'), { customers, campaigns, contactsPerCampaign, seed: 7 });
+
+// Linux reports a process's CPU time in clock ticks of 1/100 s (getconf CLK_TCK).
+const CLOCK_TICKS_PER_SECOND = 100;
+
+/** User plus system CPU seconds the process has used so far, from /proc/<pid>/stat. */
+function cpuSeconds(service: RunningService): number {
+  const stat = fs.readFileSync(`/proc/${service.child.pid}/stat`, 'utf8');
+  // The command name in parentheses may hold spaces; the fields after it are space-separated.
+  const fields = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
+  return (Number(fields[11]) + Number(fields[12])) / CLOCK_TICKS_PER_SECOND;
 }
+
+function residentMiB(service: RunningService): number {
+  const status = fs.readFileSync(`/proc/${service.child.pid}/status`, 'utf8');
+  return Number(/VmRSS:\s+(\d+) kB/.exec(status)?.[1] ?? Number.NaN) / 1024;
+}
+
+function median(values: number[]): number {
+  const sorted = [...values].sort((a, b) => a - b);
+  const middle = Math.floor(sorted.length / 2);
+  return sorted.length % 2 === 1 ? (sorted[middle] as number) : ((sorted[middle - 1] as number) + (sorted[middle] as number)) / 2;
+}
+
+interface Timed {
+  seconds: number;
+  cpuSeconds: number;
+}
+
+async function timedUpload(service: RunningService, url: string, file: string): Promise<Timed> {
+  const cpuBefore = cpuSeconds(service);
+  const upload = await postFile(url, file);
+  if (upload.status !== 201) throw new Error(`${url}: ${upload.status} ${upload.body}`);
+  return { seconds: upload.seconds, cpuSeconds: cpuSeconds(service) - cpuBefore };
+}
+
+interface Run {
+  customers: Timed;
+  contacts: Timed;
+  startedMiB: number;
+  peakMiB: number;
+}
+
+const postgresUrl = /^postgres(ql)?:\/\//.test(process.env['DATABASE_URL'] ?? '') ? (process.env['DATABASE_URL'] as string) : null;
+
+async function dropSchema(schema: string): Promise<void> {
+  const pg = (await import('pg')).default;
+  const client = new pg.Client({ connectionString: postgresUrl as string });
+  await client.connect();
+  await client.query(`drop schema if exists "${schema}" cascade`);
+  await client.end();
+}
+
+async function benchRun(): Promise<Run> {
+  const directory = fs.mkdtempSync(path.join(os.tmpdir(), 'segrank-bench-'));
+  const schema = `bench_${process.pid}_${Date.now() % 100_000}`;
+  const service = await startServiceProcess({ DATABASE_URL: postgresUrl ?? path.join(directory, 'bench.sqlite'), DATABASE_SCHEMA: schema });
+  try {
+    const startedMiB = residentMiB(service);
+    const customerUpload = await timedUpload(service, `${service.url}/v1/customers`, files.customersCsv);
+    const contacts: Timed = { seconds: 0, cpuSeconds: 0 };
+    for (const campaign of files.contactsCsvs) {
+      const upload = await timedUpload(service, `${service.url}/v1/campaigns/${campaign.campaignId}/contacts`, campaign.file);
+      contacts.seconds += upload.seconds;
+      contacts.cpuSeconds += upload.cpuSeconds;
+    }
+    return { customers: customerUpload, contacts, startedMiB, peakMiB: service.peakRssMiB() };
+  } finally {
+    await service.stop();
+    fs.rmSync(directory, { recursive: true, force: true });
+    if (postgresUrl !== null) await dropSchema(schema);
+  }
+}
+
+const describe = (label: string, rows: number, timed: Timed) =>
+  `${label} ${rows} rows in ${timed.seconds.toFixed(2)} s (${Math.round(rows / timed.seconds)} rows/s), service CPU ${timed.cpuSeconds.toFixed(2)} s`;
+
+const results: Run[] = [];
+for (let run = 1; run <= runs; run++) {
+  const result = await benchRun();
+  results.push(result);
+  console.log(`run ${run}: ${describe('customers', files.customers, result.customers)}; ${describe('contacts', files.contacts, result.contacts)}; RSS after start ${result.startedMiB.toFixed(0)} MiB, peak ${result.peakMiB.toFixed(0)} MiB`);
+}
+const medianOf = (pick: (run: Run) => Timed): Timed => ({ seconds: median(results.map((run) => pick(run).seconds)), cpuSeconds: median(results.map((run) => pick(run).cpuSeconds)) });
+console.log(`median of ${runs} run${runs === 1 ? '' : 's'}:`);
+console.log(`  ${describe('customers:', files.customers, medianOf((run) => run.customers))}`);
+console.log(`  ${describe(`contacts (${files.contactsCsvs.length} campaign${files.contactsCsvs.length === 1 ? '' : 's'}):`, files.contacts, medianOf((run) => run.contacts))}`);
+console.log(`  service RSS after start-up ${median(results.map((run) => run.startedMiB)).toFixed(0)} MiB, peak (VmHWM) ${median(results.map((run) => run.peakMiB)).toFixed(0)} MiB`);

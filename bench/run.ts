@@ -14,7 +14,10 @@
  *   DATABASE_URL=postgres://… npm run bench   the same steps on PostgreSQL (no floors there)
  *
  * Options: --sizes a,b (contact rows; customers are a quarter), --runs N (default 3),
- * --pull-seconds N (default 10), --no-results (do not write RESULTS.md).
+ * --pull-seconds N (default 10), --no-results (do not write RESULTS.md), --steps a,b (any of
+ * upload, refresh, pull, floors; default all; the upload always runs, as the others need its
+ * rows). Each upload run also prints the CPU seconds the service spent, which a shared machine
+ * disturbs less than wall time.
  */
 import fs from 'node:fs';
 import os from 'node:os';
@@ -31,8 +34,14 @@ const { values: options } = parseArgs({
     runs: { type: 'string', default: '3' },
     'pull-seconds': { type: 'string', default: '10' },
     'no-results': { type: 'boolean', default: false },
+    steps: { type: 'string', default: 'upload,refresh,pull,floors' },
   },
 });
+const STEPS = ['upload', 'refresh', 'pull', 'floors'] as const;
+const steps = new Set(options.steps.split(',').map((step) => step.trim()));
+for (const step of steps) {
+  if (!(STEPS as readonly string[]).includes(step)) throw new Error(`--steps: unknown step "${step}"; expected some of ${STEPS.join(', ')}`);
+}
 const sizes = options.sizes.split(',').map(Number);
 const runs = Math.max(1, Number(options.runs));
 const pullSeconds = Math.max(1, Number(options['pull-seconds']));
@@ -85,21 +94,34 @@ function resetPeak(service: RunningService): void {
   }
 }
 
+// Linux reports a process's CPU time in clock ticks of 1/100 s (getconf CLK_TCK).
+const CLOCK_TICKS_PER_SECOND = 100;
+
+/** User plus system CPU seconds the service has used so far, from /proc/<pid>/stat. */
+function cpuSeconds(service: RunningService): number {
+  const stat = fs.readFileSync(`/proc/${service.child.pid}/stat`, 'utf8');
+  // The command name in parentheses may hold spaces; the fields after it are space-separated.
+  const fields = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
+  return (Number(fields[11]) + Number(fields[12])) / CLOCK_TICKS_PER_SECOND;
+}
+
 function currentRssMiB(service: RunningService): number {
   const status = fs.readFileSync(`/proc/${service.child.pid}/status`, 'utf8');
   return Number(/VmRSS:\s+(\d+) kB/.exec(status)?.[1] ?? Number.NaN) / 1024;
 }
 
-async function uploadAll(service: RunningService, files: BenchFiles): Promise<{ customers: number; contacts: number }> {
+async function uploadAll(service: RunningService, files: BenchFiles): Promise<{ customers: number; contacts: number; customersCpu: number; contactsCpu: number }> {
+  const cpuAtStart = cpuSeconds(service);
   const customers = await postFile(`${service.url}/v1/customers`, files.customersCsv);
   if (customers.status !== 201) throw new Error(`customers upload: ${customers.status} ${customers.body}`);
+  const cpuAfterCustomers = cpuSeconds(service);
   let contacts = 0;
   for (const campaign of files.contactsCsvs) {
     const upload = await postFile(`${service.url}/v1/campaigns/${campaign.campaignId}/contacts`, campaign.file);
     if (upload.status !== 201) throw new Error(`contacts upload: ${upload.status} ${upload.body}`);
     contacts += upload.seconds;
   }
-  return { customers: customers.seconds, contacts };
+  return { customers: customers.seconds, contacts, customersCpu: cpuAfterCustomers - cpuAtStart, contactsCpu: cpuSeconds(service) - cpuAfterCustomers };
 }
 
 async function json(response: Response): Promise<Record<string, unknown>> {
@@ -163,8 +185,8 @@ interface SizeResult {
   contacts: number;
   customers: number;
   upload: { seconds: number; customersSeconds: number; contactsSeconds: number; peakMiB: number };
-  refresh: { seconds: number; serverMs: number; peakGrowthMiB: number };
-  pull: Awaited<ReturnType<typeof pullUnderLoad>>;
+  refresh: { seconds: number; serverMs: number; peakGrowthMiB: number } | null;
+  pull: Awaited<ReturnType<typeof pullUnderLoad>> | null;
   floors: { insertSeconds: number; groupBySeconds: number } | null;
 }
 
@@ -188,7 +210,10 @@ async function benchSize(contacts: number): Promise<SizeResult> {
     customerTimes.push(times.customers);
     contactTimes.push(times.contacts);
     uploadPeaks.push(service.peakRssMiB());
-    console.log(`upload run ${run}: ${seconds(total)} (customers ${seconds(times.customers)}, contacts ${seconds(times.contacts)}), peak RSS ${service.peakRssMiB().toFixed(0)} MiB`);
+    console.log(
+      `upload run ${run}: ${seconds(total)} (customers ${seconds(times.customers)}, contacts ${seconds(times.contacts)}), ` +
+        `service CPU ${seconds(times.customersCpu)} + ${seconds(times.contactsCpu)}, peak RSS ${service.peakRssMiB().toFixed(0)} MiB`,
+    );
     if (run === runs) kept = { workspace, service };
     else {
       await service.stop();
@@ -197,33 +222,43 @@ async function benchSize(contacts: number): Promise<SizeResult> {
   }
   const { workspace, service } = kept as { workspace: Workspace; service: RunningService };
   try {
-    const report = await json(
-      await fetch(`${service.url}/v1/reports`, {
-        method: 'POST',
-        headers: { 'content-type': 'application/json' },
-        body: JSON.stringify({ name: 'bench', source: { campaign_ids: files.contactsCsvs.map((campaign) => campaign.campaignId) }, dimensions: ['age_band', 'region', 'channel'] }),
-      }),
-    );
-    const reportId = report['report_id'] as string;
-    const refreshTimes: number[] = [];
-    const serverTimes: number[] = [];
-    const growth: number[] = [];
-    for (let run = 1; run <= Math.max(runs, 5); run++) {
-      const before = currentRssMiB(service);
-      resetPeak(service);
-      const started = performance.now();
-      const snapshot = await json(await fetch(`${service.url}/v1/reports/${reportId}/refresh`, { method: 'POST' }));
-      refreshTimes.push((performance.now() - started) / 1000);
-      serverTimes.push(Number(snapshot['duration_ms']));
-      growth.push(service.peakRssMiB() - before);
+    let refresh: SizeResult['refresh'] = null;
+    let pull: SizeResult['pull'] = null;
+    if (steps.has('refresh') || steps.has('pull')) {
+      const report = await json(
+        await fetch(`${service.url}/v1/reports`, {
+          method: 'POST',
+          headers: { 'content-type': 'application/json' },
+          body: JSON.stringify({ name: 'bench', source: { campaign_ids: files.contactsCsvs.map((campaign) => campaign.campaignId) }, dimensions: ['age_band', 'region', 'channel'] }),
+        }),
+      );
+      const reportId = report['report_id'] as string;
+      const refreshTimes: number[] = [];
+      const serverTimes: number[] = [];
+      const growth: number[] = [];
+      // The pull needs one snapshot; the refresh step times several.
+      const refreshRuns = steps.has('refresh') ? Math.max(runs, 5) : 1;
+      for (let run = 1; run <= refreshRuns; run++) {
+        const before = currentRssMiB(service);
+        resetPeak(service);
+        const started = performance.now();
+        const snapshot = await json(await fetch(`${service.url}/v1/reports/${reportId}/refresh`, { method: 'POST' }));
+        refreshTimes.push((performance.now() - started) / 1000);
+        serverTimes.push(Number(snapshot['duration_ms']));
+        growth.push(service.peakRssMiB() - before);
+      }
+      if (steps.has('refresh')) {
+        refresh = { seconds: median(refreshTimes), serverMs: median(serverTimes), peakGrowthMiB: median(growth) };
+        console.log(`refresh: median ${seconds(refresh.seconds)} end to end, ${refresh.serverMs.toFixed(0)} ms in the service, peak memory growth ${refresh.peakGrowthMiB.toFixed(0)} MiB`);
+      }
+      if (steps.has('pull')) {
+        pull = await pullUnderLoad(`${service.url}/v1/reports/${reportId}/segments?format=csv`);
+        console.log(`BI pull (50 connections, ${pullSeconds} s): ${Math.round(pull.requestsPerSecond)} requests/s, p50 ${pull.p50} ms, p99 ${pull.p99} ms, errors ${pull.errors}, non-2xx ${pull.non2xx}`);
+      }
     }
-    console.log(`refresh: median ${seconds(median(refreshTimes))} end to end, ${median(serverTimes).toFixed(0)} ms in the service, peak memory growth ${median(growth).toFixed(0)} MiB`);
-
-    const pull = await pullUnderLoad(`${service.url}/v1/reports/${reportId}/segments?format=csv`);
-    console.log(`BI pull (50 connections, ${pullSeconds} s): ${Math.round(pull.requestsPerSecond)} requests/s, p50 ${pull.p50} ms, p99 ${pull.p99} ms, errors ${pull.errors}, non-2xx ${pull.non2xx}`);
 
     let floors: SizeResult['floors'] = null;
-    if (workspace.sqliteFile) {
+    if (workspace.sqliteFile && steps.has('floors')) {
       await service.stop();
       const insertTimes: number[] = [];
       const groupTimes: number[] = [];
@@ -233,13 +268,14 @@ async function benchSize(contacts: number): Promise<SizeResult> {
       }
       floors = { insertSeconds: median(insertTimes), groupBySeconds: median(groupTimes) };
       console.log(`floor, bare INSERT of the contacts: ${seconds(floors.insertSeconds)}; contacts upload is ${(median(contactTimes) / floors.insertSeconds).toFixed(2)}× that`);
-      console.log(`floor, bare GROUP BY: ${seconds(floors.groupBySeconds)}; refresh is ${(median(refreshTimes) / floors.groupBySeconds).toFixed(2)}× that`);
+      if (refresh) console.log(`floor, bare GROUP BY: ${seconds(floors.groupBySeconds)}; refresh is ${(refresh.seconds / floors.groupBySeconds).toFixed(2)}× that`);
+      else console.log(`floor, bare GROUP BY: ${seconds(floors.groupBySeconds)}`);
     }
     return {
       contacts: files.contacts,
       customers,
       upload: { seconds: median(uploadTimes), customersSeconds: median(customerTimes), contactsSeconds: median(contactTimes), peakMiB: median(uploadPeaks) },
-      refresh: { seconds: median(refreshTimes), serverMs: median(serverTimes), peakGrowthMiB: median(growth) },
+      refresh,
       pull,
       floors,
     };
@@ -258,13 +294,13 @@ function resultsMarkdown(results: SizeResult[]): string {
   const lines = [
     `### ${dialect === 'sqlite' ? 'SQLite' : 'PostgreSQL'} — ${new Date().toISOString().slice(0, 10)}`,
     '',
-    `Machine: ${machineDescription()}. Medians of ${runs} runs (refresh: ${Math.max(runs, 5)} runs). Command: \`${dialect === 'postgres' ? 'DATABASE_URL=postgres://… ' : ''}npm run bench -- --sizes ${sizes.join(',')} --runs ${runs}\`.`,
+    `Machine: ${machineDescription()}. Medians of ${runs} runs (refresh: ${Math.max(runs, 5)} runs). Command: \`${dialect === 'postgres' ? 'DATABASE_URL=postgres://… ' : ''}npm run bench -- --sizes ${sizes.join(',')} --runs ${runs}${steps.size < STEPS.length ? ` --steps ${[...steps].join(',')}` : ''}\`.`,
     '',
     '| contacts | customers | upload total | contacts upload | rows/s (contacts) | upload peak RSS | refresh | refresh in service | refresh peak growth | pull req/s | pull p50 | pull p99 | pull errors | bare INSERT | upload ÷ floor | bare GROUP BY | refresh ÷ floor |',
     '| ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |',
   ];
   for (const result of results) {
-    const floors = result.floors;
+    const { floors, refresh, pull } = result;
     lines.push(
       [
         result.contacts.toLocaleString('en-US'),
@@ -273,17 +309,17 @@ function resultsMarkdown(results: SizeResult[]): string {
         seconds(result.upload.contactsSeconds),
         perSecond(result.contacts, result.upload.contactsSeconds),
         `${result.upload.peakMiB.toFixed(0)} MiB`,
-        seconds(result.refresh.seconds),
-        `${result.refresh.serverMs.toFixed(0)} ms`,
-        `${result.refresh.peakGrowthMiB.toFixed(0)} MiB`,
-        Math.round(result.pull.requestsPerSecond).toString(),
-        `${result.pull.p50} ms`,
-        `${result.pull.p99} ms`,
-        String(result.pull.errors + result.pull.non2xx),
+        refresh ? seconds(refresh.seconds) : '—',
+        refresh ? `${refresh.serverMs.toFixed(0)} ms` : '—',
+        refresh ? `${refresh.peakGrowthMiB.toFixed(0)} MiB` : '—',
+        pull ? Math.round(pull.requestsPerSecond).toString() : '—',
+        pull ? `${pull.p50} ms` : '—',
+        pull ? `${pull.p99} ms` : '—',
+        pull ? String(pull.errors + pull.non2xx) : '—',
         floors ? seconds(floors.insertSeconds) : '—',
         floors ? `${(result.upload.contactsSeconds / floors.insertSeconds).toFixed(2)}×` : '—',
         floors ? seconds(floors.groupBySeconds) : '—',
-        floors ? `${(result.refresh.seconds / floors.groupBySeconds).toFixed(2)}×` : '—',
+        floors && refresh ? `${(refresh.seconds / floors.groupBySeconds).toFixed(2)}×` : '—',
       ].join(' | ').replace(/^/, '| ').replace(/$/, ' |'),
     );
   }

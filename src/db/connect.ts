@@ -36,6 +36,25 @@ const pgTypes = {
   },
 };
 
+/**
+ * The better-sqlite3 writer connection behind each SQLite `Kysely` instance this module opened.
+ * The upload path runs its per-row statements on it directly, as cached prepared statements
+ * inside the same transaction kysely opened (see src/ingest/repository.ts); everything else
+ * goes through kysely. Kept beside the instance rather than in `DatabaseHandle` so that code
+ * holding only `Kysely<Database>` (the ingest service) can find it.
+ */
+const sqliteWriters = new WeakMap<Kysely<Database>, SqliteDatabase.Database>();
+
+/**
+ * The raw SQLite writer connection behind `db`, or null when `db` is PostgreSQL (or was not
+ * opened by `openDatabase`). Throws nothing.
+ *
+ * @example sqliteConnectionOf(handle.db) // → the better-sqlite3 Database on SQLite, null on PostgreSQL
+ */
+export function sqliteConnectionOf(db: Kysely<Database>): SqliteDatabase.Database | null {
+  return sqliteWriters.get(db) ?? null;
+}
+
 export async function openDatabase(settings: DatabaseSettings, logger?: Logger): Promise<DatabaseHandle> {
   const log = logger ? queryLogger(logger) : undefined;
   if (settings.dialect === 'postgres') return openPostgres(settings.connectionString, settings.schema, log);
@@ -53,6 +72,7 @@ function openSqlite(file: string, log: ((event: LogEvent) => void) | undefined):
   writer.pragma('foreign_keys = ON');
   writer.pragma('busy_timeout = 5000');
   const db = new Kysely<Database>({ dialect: new SqliteDialect({ database: writer }), ...(log ? { log } : {}) });
+  sqliteWriters.set(db, writer);
   if (inMemory) {
     return { dialect: 'sqlite', db, readDb: db, close: () => db.destroy() };
   }

@@ -2,7 +2,6 @@
  * The three kinds of upload. Each knows its key, its field checks, the checks that need stored
  * data, and how to write a batch: insert what is new, update what changed, count what did not.
  */
-import type { Transaction } from 'kysely';
 import type { Database, IngestKind } from '../db/tables.js';
 import { ageInYears } from './fields.js';
 import * as repository from './repository.js';
@@ -18,13 +17,24 @@ export interface BatchOutcome {
   inserted: number;
   updated: number;
   unchanged: number;
-  rejected: Array<{ line: number; rowNumber: number; error: RowError }>;
+  /** Rows refused by a check against stored data, with the customer each was about (kept for erasure). */
+  rejected: Array<{ line: number; rowNumber: number; customerId: string; error: RowError }>;
 }
 
 export interface BatchContext {
-  trx: Transaction<Database>;
-  /** False once an all-or-nothing upload has a bad row: later batches are still checked, never written. */
+  store: repository.UploadStore;
+  /**
+   * False once an all-or-nothing upload has a bad row: later batches are still checked, never
+   * written, and their counts are never reported, so stored rows are looked up only as far as
+   * the checks need them.
+   */
   write: boolean;
+  /**
+   * False when nothing this upload could collide with was stored when it began (no customers,
+   * no sales, or no contacts of this campaign): every row is then new, since keys are unique
+   * within one upload, and stored rows need no lookup.
+   */
+  mayExist: boolean;
   ingestId: string;
   now: string;
   campaignId: string | null;
@@ -47,14 +57,14 @@ export const customersKind: UploadKind<CustomerRow> = {
   keyColumn: 'customer_id',
   check: checkCustomerFields,
   key: (row) => row.customer_id,
-  async applyBatch({ trx, write, ingestId, now }, pending) {
+  async applyBatch({ store, write, mayExist, ingestId, now }, pending) {
     const outcome = emptyOutcome();
-    const stored = await repository.findCustomers(trx, pending.map((item) => item.row.customer_id));
+    const stored = mayExist ? await repository.findCustomers(store, pending.map((item) => item.row.customer_id)) : new Map<string, repository.StoredCustomer>();
     const birthDateMoves = pending.filter(({ row }) => {
       const existing = stored.get(row.customer_id);
       return existing !== undefined && row.birth_date !== null && row.birth_date !== existing.birth_date;
     });
-    const earliestEvents = await repository.findEarliestEventDates(trx, birthDateMoves.map((item) => item.row.customer_id));
+    const earliestEvents = await repository.findEarliestEventDates(store.trx, birthDateMoves.map((item) => item.row.customer_id));
     const inserts: Database['customers'][] = [];
     const attributeInserts: Array<{ customer_id: string; name: string; value: string }> = [];
     const birthDateChanged: string[] = [];
@@ -66,6 +76,7 @@ export const customersKind: UploadKind<CustomerRow> = {
         outcome.rejected.push({
           line,
           rowNumber,
+          customerId: row.customer_id,
           error: { column: 'birth_date', value: row.birth_date, reason: `birth_date ${row.birth_date} is after this customer's earliest stored sale or contact (${earliestEvent})` },
         });
         continue;
@@ -96,14 +107,14 @@ export const customersKind: UploadKind<CustomerRow> = {
       outcome.updated += 1;
       if (!write) continue;
       // Also on an attribute-only change, so that last_ingest_id names the upload that changed the customer.
-      await repository.updateCustomer(trx, record);
-      if (attributesChanged) await repository.setCustomerAttributes(trx, row.customer_id, row.attributes);
+      await repository.updateCustomer(store, record);
+      if (attributesChanged) await repository.setCustomerAttributes(store, row.customer_id, row.attributes);
       if (existing.birth_date !== row.birth_date) birthDateChanged.push(row.customer_id);
     }
     if (write) {
-      await repository.insertCustomers(trx, inserts);
-      await repository.insertCustomerAttributes(trx, attributeInserts);
-      await repository.refreshContactAges(trx, birthDateChanged);
+      await repository.insertCustomers(store, inserts);
+      await repository.insertCustomerAttributes(store, attributeInserts);
+      await repository.refreshContactAges(store.trx, birthDateChanged);
     }
     return outcome;
   },
@@ -114,15 +125,15 @@ export const salesKind: UploadKind<SaleRow> = {
   keyColumn: 'sale_id',
   check: checkSaleFields,
   key: (row) => row.sale_id,
-  async applyBatch({ trx, write, ingestId }, pending) {
+  async applyBatch({ store, write, mayExist, ingestId }, pending) {
     const outcome = emptyOutcome();
-    const birthDates = await repository.findBirthDates(trx, unique(pending.map((item) => item.row.customer_id)));
-    const stored = await repository.findSales(trx, pending.map((item) => item.row.sale_id));
+    const birthDates = await repository.findBirthDates(store, unique(pending.map((item) => item.row.customer_id)));
+    const stored = mayExist && write ? await repository.findSales(store, pending.map((item) => item.row.sale_id)) : new Map<string, Database['sales']>();
     const inserts: Database['sales'][] = [];
     for (const { row, line, rowNumber } of pending) {
       const problem = checkAgainstCustomer(row.customer_id, row.sold_at, 'sold_at', birthDates);
       if (problem) {
-        outcome.rejected.push({ line, rowNumber, error: problem });
+        outcome.rejected.push({ line, rowNumber, customerId: row.customer_id, error: problem });
         continue;
       }
       const record = { ...row, last_ingest_id: ingestId };
@@ -134,10 +145,10 @@ export const salesKind: UploadKind<SaleRow> = {
         outcome.unchanged += 1;
       } else {
         outcome.updated += 1;
-        if (write) await repository.updateSale(trx, record);
+        if (write) await repository.updateSale(store, record);
       }
     }
-    if (write) await repository.insertSales(trx, inserts);
+    if (write) await repository.insertSales(store, inserts);
     return outcome;
   },
 };
@@ -147,17 +158,17 @@ export const contactsKind: UploadKind<ContactRow> = {
   keyColumn: 'customer_id',
   check: checkContactFields,
   key: (row) => row.customer_id,
-  async applyBatch({ trx, write, ingestId, campaignId }, pending) {
+  async applyBatch({ store, write, mayExist, ingestId, campaignId }, pending) {
     if (campaignId === null) throw new Error('a contacts upload needs its campaign id');
     const outcome = emptyOutcome();
     const customerIds = pending.map((item) => item.row.customer_id);
-    const birthDates = await repository.findBirthDates(trx, customerIds);
-    const stored = await repository.findContacts(trx, campaignId, customerIds);
+    const birthDates = await repository.findBirthDates(store, customerIds);
+    const stored = mayExist && write ? await repository.findContacts(store, campaignId, customerIds) : new Map<string, Database['campaign_contacts']>();
     const inserts: Database['campaign_contacts'][] = [];
     for (const { row, line, rowNumber } of pending) {
       const problem = checkAgainstCustomer(row.customer_id, row.contacted_at, 'contacted_at', birthDates);
       if (problem) {
-        outcome.rejected.push({ line, rowNumber, error: problem });
+        outcome.rejected.push({ line, rowNumber, customerId: row.customer_id, error: problem });
         continue;
       }
       const birthDate = birthDates.get(row.customer_id) ?? null;
@@ -179,10 +190,10 @@ export const contactsKind: UploadKind<ContactRow> = {
         outcome.unchanged += 1;
       } else {
         outcome.updated += 1;
-        if (write) await repository.updateContact(trx, record);
+        if (write) await repository.updateContact(store, record);
       }
     }
-    if (write) await repository.insertContacts(trx, inserts);
+    if (write) await repository.insertContacts(store, inserts);
     return outcome;
   },
 };

@@ -5,8 +5,10 @@
  */
 import { createHash, randomUUID } from 'node:crypto';
 import { Transform, type Readable, type TransformCallback } from 'node:stream';
+import { setImmediate as nextTurn } from 'node:timers/promises';
 import type { Kysely } from 'kysely';
 import type { Logger } from '../logger.js';
+import { sqliteConnectionOf } from '../db/connect.js';
 import type { Database, IngestKind, IngestsTable, OnError, RejectedRowsTable } from '../db/tables.js';
 import { contactsKind, customersKind, salesKind, type PendingRow, type UploadKind } from './kinds.js';
 import { DEFAULT_PARSE_LIMITS, parseRecords, type ParsedRecord, type UploadFormat } from './parse.js';
@@ -94,7 +96,16 @@ export class IdempotencyConflictError extends Error {
 
 /** Most row problems listed in a rejection response; the count covers all of them. */
 export const MAX_LISTED_PROBLEMS = 100;
-const BATCH_ROWS = 2_000;
+/**
+ * Rows checked against stored data and written together. PostgreSQL writes a batch as one
+ * multi-row statement, so larger batches save round trips. SQLite runs one prepared statement
+ * per row whatever the batch size, and there a small batch is garbage before the next young-
+ * generation collection instead of being copied by it: measured on 250,000 customers, 940 ms
+ * of scavenges at 2,000 rows per batch, 180–210 ms at 100–200, and a 45 MiB lower peak.
+ */
+const BATCH_ROWS = { sqlite: 200, postgres: 2_000 } as const;
+/** Rows parsed between two turns given back to the event loop (a few milliseconds of work). */
+const YIELD_EVERY_ROWS = 500;
 
 const KINDS: Record<IngestKind, UploadKind<unknown>> = {
   customers: customersKind as UploadKind<unknown>,
@@ -142,7 +153,10 @@ export async function ingestUpload(deps: IngestDependencies, request: UploadRequ
     .transaction()
     .execute(async (trx) => {
     if (request.campaignId !== null) await repository.ensureCampaign(trx, request.campaignId, receivedAt);
-    const seenKeys = new Map<string, number>();
+    const store: repository.UploadStore = { trx, sqlite: sqliteConnectionOf(deps.db) };
+    const batchRows = store.sqlite === null ? BATCH_ROWS.postgres : BATCH_ROWS.sqlite;
+    const mayExist = await repository.hasStoredRows(trx, request.kind, request.campaignId);
+    const seenKeys = await repository.openUploadKeys(store);
     const problems: RowProblem[] = [];
     const rejectedRows: RejectedRowsTable[] = [];
     const totals = { rows: 0, inserted: 0, updated: 0, unchanged: 0, rejected: 0 };
@@ -174,13 +188,11 @@ export async function ingestUpload(deps: IngestDependencies, request: UploadRequ
     let batch: Array<PendingRow<unknown>> = [];
     const flush = async () => {
       if (batch.length === 0) return;
-      const outcome = await kind.applyBatch({ trx, write, ingestId, now: receivedAt, campaignId: request.campaignId }, batch);
+      const outcome = await kind.applyBatch({ store, write, mayExist, ingestId, now: receivedAt, campaignId: request.campaignId }, batch);
       totals.inserted += outcome.inserted;
       totals.updated += outcome.updated;
       totals.unchanged += outcome.unchanged;
-      for (const { rowNumber, line, error } of outcome.rejected) {
-        reject(rowNumber, line, [error], customerOf(batch.find((item) => item.rowNumber === rowNumber)?.row));
-      }
+      for (const { rowNumber, line, customerId, error } of outcome.rejected) reject(rowNumber, line, [error], customerOf({ customer_id: customerId }));
       batch = [];
     };
 
@@ -192,15 +204,19 @@ export async function ingestUpload(deps: IngestDependencies, request: UploadRequ
         reject(record.row, record.line, checked.errors, customerOf(Object.fromEntries(record.fields)));
       } else {
         const key = kind.key(checked.row);
-        const firstLine = seenKeys.get(key);
-        if (firstLine !== undefined) {
+        const firstLine = seenKeys.firstSeenOn(key, record.line);
+        if (firstLine !== null) {
           reject(record.row, record.line, [{ column: kind.keyColumn, value: key, reason: `${kind.keyColumn} ${key} appears twice in this upload (first on line ${firstLine})` }], customerOf(checked.row));
         } else {
-          seenKeys.set(key, record.line);
           batch.push({ row: checked.row, line: record.line, rowNumber: record.row });
-          if (batch.length >= BATCH_ROWS) await flush();
+          if (batch.length >= batchRows) await flush();
         }
       }
+      // Parsing buffered body data and writing batches chains promises only, which kept the event
+      // loop from its timers and sockets for half a second at a time (measured on a 250,000-row
+      // upload). Giving up the turn every few hundred rows lets health checks and other requests
+      // in, and keeps the load monitor from reading the upload as a stalled loop (503s).
+      if (record.row % YIELD_EVERY_ROWS === 0) await nextTurn();
       if (record.row >= nextProgress) {
         const seconds = (performance.now() - started) / 1000;
         log.info({ rows: record.row, rowsPerSecond: Math.round(record.row / seconds), megabytes: Math.round(meter.bytes / 1e5) / 10 }, 'upload progress');
@@ -208,6 +224,7 @@ export async function ingestUpload(deps: IngestDependencies, request: UploadRequ
       }
     }
     await flush();
+    seenKeys.clear();
     if (totals.rows === 0) throw new EmptyUploadError('the upload holds no data rows');
     if (request.onError === 'reject' && totals.rejected > 0) {
       throw new RowsRejectedError(problems, totals.rejected, totals.rows);
@@ -230,7 +247,7 @@ export async function ingestUpload(deps: IngestDependencies, request: UploadRequ
       duration_ms: Math.round(performance.now() - started),
     };
     await repository.insertIngest(trx, stored);
-    await repository.insertRejectedRows(trx, rejectedRows);
+    await repository.insertRejectedRows(store, rejectedRows);
     return toReceipt(stored);
   })
     .catch((error: unknown) => {
