@@ -6,9 +6,11 @@ import type { Migration } from 'kysely';
 import * as records from './0001_records.js';
 import * as reports from './0002_reports.js';
 import * as apiKeys from './0003_api_keys.js';
+import * as contactDimensions from './0004_contact_dimensions.js';
 
 export const migrations: Record<string, Migration> = {
   '0001_records': records,
   '0002_reports': reports,
   '0003_api_keys': apiKeys,
+  '0004_contact_dimensions': contactDimensions,
 };

@@ -49,6 +49,10 @@ export interface CampaignContactsTable {
   revenue_cents: number;
   /** Whole years from birth date to contact date, derived at ingest and kept current when the birth date changes. */
   age_at_contact: number | null;
+  /** The customer's region, channel and type, copied at ingest and kept current, so campaign reports need no join. */
+  region: string;
+  channel: string;
+  customer_type: 'individual' | 'company';
   last_ingest_id: string | null;
 }
 

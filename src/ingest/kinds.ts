@@ -67,7 +67,7 @@ export const customersKind: UploadKind<CustomerRow> = {
     const earliestEvents = await repository.findEarliestEventDates(store.trx, birthDateMoves.map((item) => item.row.customer_id));
     const inserts: Database['customers'][] = [];
     const attributeInserts: Array<{ customer_id: string; name: string; value: string }> = [];
-    const birthDateChanged: string[] = [];
+    const copiedValuesChanged: string[] = [];
     for (const { row, line, rowNumber } of pending) {
       const existing = stored.get(row.customer_id);
       // Sales and contacts may not precede the birth date; a new birth date may not overtake them either.
@@ -109,12 +109,12 @@ export const customersKind: UploadKind<CustomerRow> = {
       // Also on an attribute-only change, so that last_ingest_id names the upload that changed the customer.
       await repository.updateCustomer(store, record);
       if (attributesChanged) await repository.setCustomerAttributes(store, row.customer_id, row.attributes);
-      if (existing.birth_date !== row.birth_date) birthDateChanged.push(row.customer_id);
+      if (fieldsChanged) copiedValuesChanged.push(row.customer_id);
     }
     if (write) {
       await repository.insertCustomers(store, inserts);
       await repository.insertCustomerAttributes(store, attributeInserts);
-      await repository.refreshContactAges(store.trx, birthDateChanged);
+      await repository.refreshContactCustomerValues(store.trx, copiedValuesChanged);
     }
     return outcome;
   },
@@ -131,7 +131,7 @@ export const salesKind: UploadKind<SaleRow> = {
     const stored = mayExist && write ? await repository.findSales(store, pending.map((item) => item.row.sale_id)) : new Map<string, Database['sales']>();
     const inserts: Database['sales'][] = [];
     for (const { row, line, rowNumber } of pending) {
-      const problem = checkAgainstCustomer(row.customer_id, row.sold_at, 'sold_at', birthDates);
+      const problem = checkAgainstCustomer(row.customer_id, row.sold_at, 'sold_at', birthDates.get(row.customer_id));
       if (problem) {
         outcome.rejected.push({ line, rowNumber, customerId: row.customer_id, error: problem });
         continue;
@@ -162,20 +162,23 @@ export const contactsKind: UploadKind<ContactRow> = {
     if (campaignId === null) throw new Error('a contacts upload needs its campaign id');
     const outcome = emptyOutcome();
     const customerIds = pending.map((item) => item.row.customer_id);
-    const birthDates = await repository.findBirthDates(store, customerIds);
+    const customers = await repository.findContactCustomers(store, customerIds);
     const stored = mayExist && write ? await repository.findContacts(store, campaignId, customerIds) : new Map<string, Database['campaign_contacts']>();
     const inserts: Database['campaign_contacts'][] = [];
     for (const { row, line, rowNumber } of pending) {
-      const problem = checkAgainstCustomer(row.customer_id, row.contacted_at, 'contacted_at', birthDates);
-      if (problem) {
-        outcome.rejected.push({ line, rowNumber, customerId: row.customer_id, error: problem });
+      const customer = customers.get(row.customer_id);
+      const problem = checkAgainstCustomer(row.customer_id, row.contacted_at, 'contacted_at', customer?.birth_date);
+      if (problem || customer === undefined) {
+        outcome.rejected.push({ line, rowNumber, customerId: row.customer_id, error: problem ?? unknownCustomer(row.customer_id) });
         continue;
       }
-      const birthDate = birthDates.get(row.customer_id) ?? null;
       const record = {
         campaign_id: campaignId,
         ...row,
-        age_at_contact: birthDate === null ? null : ageInYears(birthDate, row.contacted_at),
+        age_at_contact: customer.birth_date === null ? null : ageInYears(customer.birth_date, row.contacted_at),
+        region: customer.region,
+        channel: customer.channel,
+        customer_type: customer.customer_type,
         last_ingest_id: ingestId,
       };
       const existing = stored.get(row.customer_id);
@@ -198,12 +201,14 @@ export const contactsKind: UploadKind<ContactRow> = {
   },
 };
 
-function checkAgainstCustomer(customerId: string, eventDate: string, dateColumn: string, birthDates: Map<string, string | null>): RowError | null {
-  if (!birthDates.has(customerId)) {
-    return { column: 'customer_id', value: customerId, reason: `customer_id ${customerId} is not a known customer; upload the customer first` };
-  }
-  const birthDate = birthDates.get(customerId);
-  if (birthDate && eventDate < birthDate) {
+function unknownCustomer(customerId: string): RowError {
+  return { column: 'customer_id', value: customerId, reason: `customer_id ${customerId} is not a known customer; upload the customer first` };
+}
+
+/** `birthDate`: undefined when the customer is unknown, null when known without a birth date. */
+function checkAgainstCustomer(customerId: string, eventDate: string, dateColumn: string, birthDate: string | null | undefined): RowError | null {
+  if (birthDate === undefined) return unknownCustomer(customerId);
+  if (birthDate !== null && eventDate < birthDate) {
     return { column: dateColumn, value: eventDate, reason: `${dateColumn} ${eventDate} is before the customer's birth date ${birthDate}` };
   }
   return null;

@@ -210,6 +210,27 @@ export async function findBirthDates(store: UploadStore, ids: readonly string[])
   return found;
 }
 
+/** What a contact copies from its customer: the birth date (for the age at contact), region, channel and type. */
+export type ContactCustomer = Pick<CustomersTable, 'birth_date' | 'region' | 'channel' | 'customer_type'>;
+
+/** The values of the known customers among `ids` that their contacts copy. */
+export async function findContactCustomers(store: UploadStore, ids: readonly string[]): Promise<Map<string, ContactCustomer>> {
+  const found = new Map<string, ContactCustomer>();
+  if (store.sqlite !== null) {
+    const customer = prepared(store.sqlite, 'select birth_date, region, channel, customer_type from customers where customer_id = ?');
+    for (const id of ids) {
+      const row = customer.get(id) as ContactCustomer | undefined;
+      if (row !== undefined) found.set(id, row);
+    }
+    return found;
+  }
+  for (const part of chunk(ids, 1000)) {
+    const rows = await store.trx.selectFrom('customers').select(['customer_id', 'birth_date', 'region', 'channel', 'customer_type']).where('customer_id', 'in', part).execute();
+    for (const { customer_id: customerId, ...row } of rows) found.set(customerId, row);
+  }
+  return found;
+}
+
 export async function insertCustomers(store: UploadStore, rows: CustomersTable[]): Promise<void> {
   await insertMany(store, 'customers', rows);
 }
@@ -242,10 +263,13 @@ export async function insertCustomerAttributes(store: UploadStore, rows: Array<{
 }
 
 /**
- * Recomputes the stored age at contact after birth dates changed, by the same exact birthday
- * arithmetic as `ageInYears`, written in SQL that SQLite and PostgreSQL both run.
+ * Brings the values copied onto campaign contacts up to date after customers changed: the age
+ * at contact (by the same exact birthday arithmetic as `ageInYears`) and the region, channel
+ * and type, written in SQL that SQLite and PostgreSQL both run.
  */
-export async function refreshContactAges(db: Executor, customerIds: readonly string[]): Promise<void> {
+export async function refreshContactCustomerValues(db: Executor, customerIds: readonly string[]): Promise<void> {
+  const fromCustomer = (column: 'region' | 'channel' | 'customer_type') =>
+    sql<string>`(select ${sql.ref(`c.${column}`)} from customers c where c.customer_id = campaign_contacts.customer_id)`;
   for (const part of chunk(customerIds, 1000)) {
     await db
       .updateTable('campaign_contacts')
@@ -254,6 +278,9 @@ export async function refreshContactAges(db: Executor, customerIds: readonly str
           select cast(substr(campaign_contacts.contacted_at, 1, 4) as integer) - cast(substr(c.birth_date, 1, 4) as integer)
             - case when substr(campaign_contacts.contacted_at, 6, 5) < substr(c.birth_date, 6, 5) then 1 else 0 end
           from customers c where c.customer_id = campaign_contacts.customer_id)`,
+        region: fromCustomer('region'),
+        channel: fromCustomer('channel'),
+        customer_type: sql<'individual' | 'company'>`${fromCustomer('customer_type')}`,
       })
       .where('customer_id', 'in', part)
       .execute();

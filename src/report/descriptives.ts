@@ -234,15 +234,25 @@ function axisOf(entries: ReadonlyArray<{ value: number; count: number }>, histog
 export function ageValueGridAxes(ageCounts: ProfileInput['ageCounts'], valueCounts: readonly PopulationValueCount[]): AgeValueGridAxes | null {
   const histograms = populationHistograms(ageCounts, valueCounts);
   if (histograms.age === null || histograms.value === null) return null;
-  const age = axisOf(
-    ageCounts.flatMap((entry) => (entry.age === null ? [] : [{ value: entry.age, count: entry.count }])),
-    histograms.age.bins.length,
-  );
+  const age = ageGridAxis(ageCounts);
   const valueCents = axisOf(
     valueCounts.map((entry) => ({ value: entry.valueCents, count: entry.count })),
     histograms.value.bins.length,
   );
   return age === null || valueCents === null ? null : { age, valueCents };
+}
+
+/**
+ * The age axis of the age × value grid alone (as in `ageValueGridAxes`), known before the
+ * values are read; null when no age is known.
+ */
+export function ageGridAxis(ageCounts: ProfileInput['ageCounts']): GridAxis | null {
+  const histogram = populationHistograms(ageCounts, null).age;
+  if (histogram === null) return null;
+  return axisOf(
+    ageCounts.flatMap((entry) => (entry.age === null ? [] : [{ value: entry.age, count: entry.count }])),
+    histogram.bins.length,
+  );
 }
 
 /** Edge i of an axis (the last edge is the axis' high end exactly, as in `histogram`). */

@@ -8,12 +8,11 @@ import type { Dialect } from '../db/connect.js';
 import type { Database, ReportsTable, SnapshotTrigger } from '../db/tables.js';
 import type { Logger } from '../logger.js';
 import {
-  ageValueGridCounts,
-  cellAggregates,
-  populationTotals,
-  populationValueCounts,
-  shiftsFromTotals,
+  gridCountsOf,
+  shiftsAndCellAggregates,
   sourceQuality,
+  valueCountsByAgeBin,
+  valueCountsOf,
   valueDistribution,
   type AggregationRequest,
   type CellAggregate,
@@ -22,7 +21,7 @@ import {
 } from '../segments/aggregate.js';
 import { buildSnapshot, type PreviousWindow } from './compute.js';
 import { normalizeDefinition, type ReportDefinition } from './definition.js';
-import { ageValueGridAxes, isExpandable } from './descriptives.js';
+import { ageGridAxis, ageValueGridAxes, isExpandable } from './descriptives.js';
 import * as repository from './repository.js';
 import { renderSegmentTable, type RenderedTable, type SegmentTableCache, type TableFormat } from './segment-table.js';
 import type { Snapshot } from './rows.js';
@@ -169,21 +168,20 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   let transaction = deps.readDb.transaction();
   if (deps.dialect === 'postgres') transaction = transaction.setIsolationLevel('repeatable read');
   const data = await transaction.execute(async (trx) => {
-    const totals = await populationTotals(trx, source);
-    const shifts = shiftsFromTotals(totals);
-    const { cells, ageCounts, arithmetic } = await cellAggregates(trx, request, shifts);
+    const { shifts, cells, ageCounts, arithmetic } = await shiftsAndCellAggregates(trx, request);
     const valueCounts = await valueDistribution(trx, request, valueDistributionScope(cells, definition));
-    const wholeValueCounts = await populationValueCounts(trx, request);
+    const ageAxis = ageGridAxis(ageCounts);
+    const valuesByAgeBin = await valueCountsByAgeBin(trx, request, ageAxis);
+    const wholeValueCounts = valueCountsOf(valuesByAgeBin);
     const gridAxes = ageValueGridAxes(ageCounts, wholeValueCounts);
-    const ageValueGrid = gridAxes === null ? null : { axes: gridAxes, counts: await ageValueGridCounts(trx, request, gridAxes) };
+    const ageValueGrid = gridAxes === null ? null : { axes: gridAxes, counts: gridCountsOf(valuesByAgeBin, gridAxes) };
     const quality = await sourceQuality(trx, source);
     let previousWindow: PreviousWindow | null = null;
     if (source.kind === 'sales') {
       const window = precedingWindow(source.from, source.to);
       const previousSource: PopulationSource = { kind: 'sales', from: window.from, to: window.to };
-      const previousShifts = shiftsFromTotals(await populationTotals(trx, previousSource));
-      const previous = await cellAggregates(trx, { ...request, source: previousSource }, previousShifts);
-      previousWindow = { ...window, cells: previous.cells, shifts: previousShifts };
+      const previous = await shiftsAndCellAggregates(trx, { ...request, source: previousSource });
+      previousWindow = { ...window, cells: previous.cells, shifts: previous.shifts };
     }
     return { shifts, cells, arithmetic, ageCounts, valueCounts, populationValueCounts: wholeValueCounts, ageValueGrid, quality, previousWindow };
   });

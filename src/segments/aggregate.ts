@@ -4,13 +4,14 @@
  * queries group it in the database and return sufficient statistics, never raw rows:
  *
  * - `populationTotals`: one cheap pass for the counts and the shifts c (rounded means);
- * - `cellAggregates`: ONE GROUP BY over the finest cells (all dimensions together, and age)
+ * - `cellAggregates`: ONE GROUP BY over the finest cells (all dimensions together, and age;
+ *   for campaigns in the order of their covering index, so nothing is sorted)
  *   with n, conversions and the shifted sums Σ(v − c), Σ(v − c)² for both value bases; the
  *   age sums, the age distribution and the co-moments of age and value follow from it exactly;
  * - `valueDistribution`: counts per (cell, value), from which medians, quartiles and modes of
  *   the value are read;
- * - `populationValueCounts` and `ageValueGridCounts`: counts per value, and per cell of an
- *   age × value grid, over the whole population, for its histogram and binned scatter.
+ * - `valueCountsByAgeBin`: counts per value and age bin over the whole population, from which
+ *   its value histogram and its age × value grid (binned scatter) follow in code.
  *
  * The SQL is the subset SQLite and PostgreSQL share (CASE, COALESCE, SUBSTR, CAST … AS
  * INTEGER / DOUBLE PRECISION) and everything is integer arithmetic on cents and years, so
@@ -105,18 +106,21 @@ function plausibleAge(age: RawBuilder<unknown>): RawBuilder<number | null> {
   return sql<number | null>`case when ${age} between ${sql.lit(MIN_PLAUSIBLE_AGE)} and ${sql.lit(MAX_PLAUSIBLE_AGE)} then ${age} end`;
 }
 
+/** The columns a campaign report's cells are grouped by, in the order of the index `campaign_contacts_by_cell`. */
+const CONTACT_CELL_COLUMNS = ['region', 'channel', 'customer_type'] as const;
+
 /**
  * The units of the population with the columns the reports need: converted (0/1),
- * value_cents, age (plausible or null) and the raw dimension columns.
+ * value_cents, age (plausible or null), raw_age (as stored or computed, for grouping) and the
+ * dimension columns. A campaign population reads the customer's values copied onto each
+ * contact, so it never joins customers; it also offers campaign_key, and always all three
+ * customer columns, so that its cells can be grouped in the order of its covering index.
  */
 function basePopulation(source: PopulationSource, dimensions: readonly string[]): RawBuilder<unknown> {
   const attributeNames = dimensions.filter((dimension) => !isBuiltInDimension(dimension));
-  const customerColumns = (['region', 'channel', 'customer_type'] as const).filter((column) => dimensions.includes(column));
-  const needsCustomers = customerColumns.length > 0 || source.kind === 'sales';
   const customerKey = source.kind === 'campaigns' ? sql.ref('cc.customer_id') : sql.ref('cu.customer_id');
 
   const columns: Array<RawBuilder<unknown>> = [];
-  for (const column of customerColumns) columns.push(sql`${sql.ref(`cu.${column}`)} as ${sql.ref(column)}`);
   attributeNames.forEach((_name, index) => {
     columns.push(sql`coalesce(${sql.ref(`a${index}.value`)}, ${sql.lit(UNKNOWN)}) as ${sql.ref(attributeColumn(index))}`);
   });
@@ -126,19 +130,28 @@ function basePopulation(source: PopulationSource, dimensions: readonly string[])
   );
 
   if (source.kind === 'campaigns') {
-    columns.push(sql`cc.converted as converted`, sql`cc.revenue_cents as value_cents`, sql`${plausibleAge(sql.ref('cc.age_at_contact'))} as age`);
+    for (const column of CONTACT_CELL_COLUMNS) columns.push(sql`${sql.ref(`cc.${column}`)} as ${sql.ref(column)}`);
+    columns.push(
+      sql`cc.campaign_id as campaign_key`,
+      sql`cc.converted as converted`,
+      sql`cc.revenue_cents as value_cents`,
+      sql`cc.age_at_contact as raw_age`,
+      sql`${plausibleAge(sql.ref('cc.age_at_contact'))} as age`,
+    );
     return sql`select ${sql.join(columns)}
       from campaign_contacts cc
-      ${needsCustomers ? sql`join customers cu on cu.customer_id = cc.customer_id` : sql``}
       ${sql.join(attributeJoins, sql` `)}
       where cc.campaign_id in (${sql.join(source.campaignIds)})`;
   }
 
   // A sales report's unit is a customer: bought in the window or not, spend in the window, age at its end.
+  for (const column of CONTACT_CELL_COLUMNS) if (dimensions.includes(column)) columns.push(sql`${sql.ref(`cu.${column}`)} as ${sql.ref(column)}`);
+  const ageAtEnd = ageAtDateSql(sql.ref('cu.birth_date'), source.to);
   columns.push(
     sql`case when s.spend is null then 0 else 1 end as converted`,
     sql`coalesce(s.spend, 0) as value_cents`,
-    sql`${plausibleAge(ageAtDateSql(sql.ref('cu.birth_date'), source.to))} as age`,
+    sql`${ageAtEnd} as raw_age`,
+    sql`${plausibleAge(ageAtEnd)} as age`,
   );
   return sql`select ${sql.join(columns)}
     from customers cu
@@ -148,6 +161,11 @@ function basePopulation(source: PopulationSource, dimensions: readonly string[])
       group by customer_id
     ) s on s.customer_id = cu.customer_id
     ${sql.join(attributeJoins, sql` `)}`;
+}
+
+/** The age as the population's `age` column has it: the raw age when plausible, else null. */
+function plausibleAgeOf(rawAge: number | null): number | null {
+  return rawAge !== null && rawAge >= MIN_PLAUSIBLE_AGE && rawAge <= MAX_PLAUSIBLE_AGE ? rawAge : null;
 }
 
 function ageBandSql(age: RawBuilder<unknown>, edges: readonly number[]): RawBuilder<string> {
@@ -172,7 +190,7 @@ function population(request: Pick<AggregationRequest, 'source' | 'dimensions' | 
     else expression = sql.ref(`base.${attributeColumn(attributeIndex++)}`);
     return [sql`${expression} as ${sql.ref(dimensionColumn(index))}`];
   });
-  return sql`(select ${sql.join([...dimensionColumns, sql`base.converted as converted`, sql`base.value_cents as value_cents`, sql`base.age as age`])}
+  return sql`(select ${sql.join([...dimensionColumns, sql`base.converted as converted`, sql`base.value_cents as value_cents`, sql`base.age as age`, sql`base.raw_age as raw_age`])}
     from (${basePopulation(request.source, request.dimensions)}) base) population`;
 }
 
@@ -228,15 +246,27 @@ function term(expression: RawBuilder<unknown>, arithmetic: Arithmetic): RawBuild
   return arithmetic === 'exact' ? sql`(${expression})` : sql`cast(${expression} as double precision)`;
 }
 
+/**
+ * The columns the cell query groups by. A campaign population is grouped by campaign, all
+ * three customer columns and the stored age, in the order of `campaign_contacts_by_cell`, so
+ * the database reads that index front to back without sorting; the finer groups are merged
+ * into the requested cells in code. Attribute columns, when asked for, come last.
+ */
+function cellGroupColumns(request: AggregationRequest): string[] {
+  const attributes = request.dimensions.filter((dimension) => !isBuiltInDimension(dimension)).map((_name, index) => attributeColumn(index));
+  const customerColumns =
+    request.source.kind === 'campaigns' ? ['campaign_key', ...CONTACT_CELL_COLUMNS] : CONTACT_CELL_COLUMNS.filter((column) => request.dimensions.includes(column));
+  return [...customerColumns, 'raw_age', ...attributes];
+}
+
 function cellQuery(request: AggregationRequest, shifts: Shifts, arithmetic: Arithmetic): RawBuilder<Record<string, unknown>> {
-  const dimensions = request.dimensions.flatMap((dimension, index) => (dimension === 'age_band' ? [] : [sql.ref(`population.${dimensionColumn(index)}`)]));
+  const groupColumns = cellGroupColumns(request).map((column) => sql.ref(`population.${column}`));
   const unitDeviation = term(sql`${VALUE} - ${sql.lit(shifts.unitValue)}`, arithmetic);
   const convertedDeviation = term(sql`${VALUE} - ${sql.lit(shifts.convertedValue)}`, arithmetic);
   const whenConverted = (expression: RawBuilder<unknown>) => sql`sum(case when ${CONVERTED} = 1 then ${expression} else 0 end)`;
   return sql<Record<string, unknown>>`
     select ${sql.join([
-      ...dimensions,
-      sql`${AGE} as age`,
+      ...groupColumns,
       sql`count(*) as n`,
       sql`sum(${CONVERTED}) as conversions`,
       sql`sum(${unitDeviation}) as unit_sum`,
@@ -244,8 +274,18 @@ function cellQuery(request: AggregationRequest, shifts: Shifts, arithmetic: Arit
       sql`${whenConverted(convertedDeviation)} as converted_sum`,
       sql`${whenConverted(sql`${convertedDeviation} * ${convertedDeviation}`)} as converted_squares`,
     ])}
-    from ${population(request, { bandsInCode: true })}
-    group by ${sql.join([...dimensions, AGE])}`;
+    from (${basePopulation(request.source, request.dimensions)}) population
+    group by ${sql.join(groupColumns)}`;
+}
+
+/** The requested dimension values of one row of the cell query. */
+function cellValuesOf(row: Record<string, unknown>, request: AggregationRequest, age: number | null): string[] {
+  let attributeIndex = 0;
+  return request.dimensions.map((dimension) => {
+    if (dimension === 'age_band') return ageBandOf(age, request.ageEdges);
+    if (isBuiltInDimension(dimension)) return String(row[dimension]);
+    return String(row[attributeColumn(attributeIndex++)]);
+  });
 }
 
 function isOverflow(error: unknown): boolean {
@@ -281,18 +321,14 @@ function isExact(cell: CellAggregate): boolean {
 
 /**
  * The finest cells of the population with their sufficient statistics, and the count of units
- * per cell and age, from ONE GROUP BY over the cells and age. Age is part of the grouping key
+ * per cell and age, from ONE GROUP BY over the cells and age (`cellGroupColumns`). Age is part of the grouping key
  * because it costs the database little more (the rows are sorted once either way) and makes
  * every age statistic exact in code: within a group the age is one number a, so its sums are
  * n·(a − c), n·(a − c)² and, with the value, (a − c)·Σ(v − c′).
  * Runs in exact integer arithmetic, and again in floating point only if a sum overflows.
  * @throws whatever the database throws, other than an overflow
  */
-export async function cellAggregates(
-  db: Executor,
-  request: AggregationRequest,
-  shifts: Shifts,
-): Promise<{ cells: CellAggregate[]; ageCounts: AgeCount[]; arithmetic: Arithmetic }> {
+export async function cellAggregates(db: Executor, request: AggregationRequest, shifts: Shifts): Promise<CellAggregates> {
   let arithmetic: Arithmetic = 'exact';
   let rows: Array<Record<string, unknown>>;
   try {
@@ -302,11 +338,88 @@ export async function cellAggregates(
     arithmetic = 'floating';
     rows = (await cellQuery(request, shifts, 'floating').execute(db)).rows;
   }
-  const cells = new Map<string, CellAggregate>();
-  const ageCounts: AgeCount[] = [];
+  return foldCellRows(rows, request, shifts, arithmetic);
+}
+
+export interface CellAggregates {
+  cells: CellAggregate[];
+  ageCounts: AgeCount[];
+  arithmetic: Arithmetic;
+}
+
+const NO_SHIFTS: Shifts = { unitValue: 0, convertedValue: 0, age: 0 };
+const SUM_COLUMNS = ['n', 'conversions', 'unit_sum', 'unit_squares', 'converted_sum', 'converted_squares'] as const;
+
+function rawAgeOf(row: Record<string, unknown>): number | null {
+  return plausibleAgeOf(row['raw_age'] === null || row['raw_age'] === undefined ? null : toNumber(row['raw_age']));
+}
+
+/**
+ * The shifts and the finest cells of the population, in one pass of the database when that
+ * pass can be exact: the cell query runs unshifted, the population totals (and so the shifts,
+ * `shiftsFromTotals`) are summed from its rows, and each row's sums are re-centred in exact
+ * integer arithmetic: Σ(v − c) = Σv − n·c and Σ(v − c)² = Σv² − 2c·Σv + n·c². The result is
+ * the one `populationTotals` followed by `cellAggregates` gives, which is the fallback when
+ * an unshifted sum overflows in the database or is beyond 2^53 (not exact as a number here).
+ * @throws whatever the database throws, other than an overflow
+ */
+export async function shiftsAndCellAggregates(db: Executor, request: AggregationRequest): Promise<CellAggregates & { shifts: Shifts }> {
+  let rows: Array<Record<string, unknown>> | null;
+  try {
+    rows = (await cellQuery(request, NO_SHIFTS, 'exact').execute(db)).rows;
+  } catch (error) {
+    if (!isOverflow(error)) throw error;
+    rows = null;
+  }
+  if (rows === null || !rows.every((row) => SUM_COLUMNS.every((column) => Number.isSafeInteger(toNumber(row[column]))))) {
+    const shifts = shiftsFromTotals(await populationTotals(db, request.source));
+    return { shifts, ...(await cellAggregates(db, request, shifts)) };
+  }
+  const big = (row: Record<string, unknown>, column: (typeof SUM_COLUMNS)[number]) => BigInt(toNumber(row[column]));
+  let n = 0n;
+  let conversions = 0n;
+  let valueCents = 0n;
+  let convertedValueCents = 0n;
+  let agedUnits = 0n;
+  let ageTotal = 0n;
   for (const row of rows) {
-    const age = row['age'] === null || row['age'] === undefined ? null : toNumber(row['age']);
-    const values = request.dimensions.map((dimension, index) => (dimension === 'age_band' ? ageBandOf(age, request.ageEdges) : String(row[dimensionColumn(index)])));
+    n += big(row, 'n');
+    conversions += big(row, 'conversions');
+    valueCents += big(row, 'unit_sum');
+    convertedValueCents += big(row, 'converted_sum');
+    const age = rawAgeOf(row);
+    if (age !== null) {
+      agedUnits += big(row, 'n');
+      ageTotal += big(row, 'n') * BigInt(age);
+    }
+  }
+  const shifts = shiftsFromTotals({
+    n: Number(n),
+    conversions: Number(conversions),
+    valueCents: Number(valueCents),
+    convertedValueCents: Number(convertedValueCents),
+    agedUnits: Number(agedUnits),
+    ageTotal: Number(ageTotal),
+  });
+  const recentre = (count: bigint, sum: bigint, squares: bigint, shift: number) => {
+    const c = BigInt(shift);
+    return { sum: Number(sum - count * c), squares: Number(squares - 2n * c * sum + count * c * c) };
+  };
+  const centred = rows.map((row) => {
+    const unit = recentre(big(row, 'n'), big(row, 'unit_sum'), big(row, 'unit_squares'), shifts.unitValue);
+    const converted = recentre(big(row, 'conversions'), big(row, 'converted_sum'), big(row, 'converted_squares'), shifts.convertedValue);
+    return { ...row, unit_sum: unit.sum, unit_squares: unit.squares, converted_sum: converted.sum, converted_squares: converted.squares };
+  });
+  return { shifts, ...foldCellRows(centred, request, shifts, 'exact') };
+}
+
+/** Merges the rows of the cell query into the requested cells and the counts per cell and age. */
+function foldCellRows(rows: ReadonlyArray<Record<string, unknown>>, request: AggregationRequest, shifts: Shifts, arithmetic: Arithmetic): CellAggregates {
+  const cells = new Map<string, CellAggregate>();
+  const ageCounts = new Map<string, AgeCount>();
+  for (const row of rows) {
+    const age = rawAgeOf(row);
+    const values = cellValuesOf(row, request, age);
     const key = JSON.stringify(values);
     let cell = cells.get(key);
     if (!cell) cells.set(key, (cell = emptyCell(values)));
@@ -324,7 +437,10 @@ export async function cellAggregates(
       sumOfShifted: cell.convertedValue.sumOfShifted + convertedSum,
       sumOfSquaredShifted: cell.convertedValue.sumOfSquaredShifted + convertedSquares,
     };
-    ageCounts.push({ values, age, count: n });
+    const ageKey = `${key}|${age ?? ''}`;
+    const ageCount = ageCounts.get(ageKey);
+    if (ageCount) ageCount.count += n;
+    else ageCounts.set(ageKey, { values, age, count: n });
     if (age === null) continue;
     const shiftedAge = age - shifts.age;
     cell.age = { n: cell.age.n + n, sumOfShifted: cell.age.sumOfShifted + n * shiftedAge, sumOfSquaredShifted: cell.age.sumOfSquaredShifted + n * shiftedAge * shiftedAge };
@@ -341,7 +457,21 @@ export async function cellAggregates(
   const sorted = [...cells.values()].sort((left, right) => compareValueLists(left.values, right.values));
   // SQLite turns an overflowing integer product into a float without an error; a sum beyond
   // 2^53 cannot be exact in JavaScript either. Either way the result is floating point.
-  return { cells: sorted, ageCounts, arithmetic: sorted.every(isExact) ? arithmetic : 'floating' };
+  return { cells: sorted, ageCounts: [...ageCounts.values()], arithmetic: sorted.every(isExact) ? arithmetic : 'floating' };
+}
+
+/**
+ * Units in the named age bands, tested on the stored age itself rather than on the band label
+ * computed for every unit: the same units, at a fraction of the cost.
+ */
+function inAgeBands(labels: readonly string[], edges: readonly number[]): RawBuilder<unknown> {
+  const rawAge = sql.ref('population.raw_age');
+  const tests = ageBands(edges)
+    .filter((band) => labels.includes(band.label))
+    // Ages outside the plausible range are of unknown age whatever band their number falls in.
+    .map((band) => sql`${rawAge} between ${sql.lit(Math.max(band.low, MIN_PLAUSIBLE_AGE))} and ${sql.lit(Math.min(band.high, MAX_PLAUSIBLE_AGE))}`);
+  if (labels.includes(UNKNOWN)) tests.push(sql`${rawAge} is null or ${rawAge} < ${sql.lit(MIN_PLAUSIBLE_AGE)} or ${rawAge} > ${sql.lit(MAX_PLAUSIBLE_AGE)}`);
+  return tests.length === 0 ? sql`1 = 0` : sql`(${sql.join(tests, sql` or `)})`;
 }
 
 /** Count of the value metric's units per finest cell and value (in cents). */
@@ -365,7 +495,10 @@ export async function valueDistribution(db: Executor, request: AggregationReques
   const conditions: Array<RawBuilder<unknown>> = [];
   if (request.valueBasis === 'per_conversion') conditions.push(sql`${CONVERTED} = 1`);
   if (scope !== 'all') {
-    conditions.push(sql`(${sql.join(scope.map(({ dimensionIndex, values }) => sql`${dimensions[dimensionIndex]} in (${sql.join(values)})`), sql` or `)})`);
+    const inScope = scope.map(({ dimensionIndex, values }) =>
+      request.dimensions[dimensionIndex] === 'age_band' ? inAgeBands(values, request.ageEdges) : sql`${dimensions[dimensionIndex]} in (${sql.join(values)})`,
+    );
+    conditions.push(sql`(${sql.join(inScope, sql` or `)})`);
   }
   const { rows } = await sql<Record<string, unknown>>`
     select ${sql.join([...dimensions, sql`${VALUE} as value_cents`, sql`count(*) as count`])}
@@ -383,27 +516,6 @@ export async function valueDistribution(db: Executor, request: AggregationReques
 export interface PopulationValueCount {
   valueCents: number;
   count: number;
-}
-
-function valueBasisCondition(valueBasis: AggregationRequest['valueBasis']): RawBuilder<unknown> {
-  return valueBasis === 'per_conversion' ? sql`where ${CONVERTED} = 1` : sql``;
-}
-
-/**
- * Counts of the value metric's units per value (cents) over the whole population, without
- * cells: the data of the population's value histogram, complete however large the population
- * (unlike `valueDistribution`, which a caller may narrow). One GROUP BY on the value alone.
- * @throws whatever the database throws
- * @example
- * await populationValueCounts(db, request); // [{ valueCents: 0, count: 712 }, { valueCents: 1250, count: 3 }, …]
- */
-export async function populationValueCounts(db: Executor, request: Pick<AggregationRequest, 'source' | 'valueBasis'>): Promise<PopulationValueCount[]> {
-  const { rows } = await sql<Record<string, unknown>>`
-    select ${VALUE} as value_cents, count(*) as count
-    from (${basePopulation(request.source, [])}) population
-    ${valueBasisCondition(request.valueBasis)}
-    group by ${VALUE}`.execute(db);
-  return rows.map((row) => ({ valueCents: toNumber(row['value_cents']), count: toNumber(row['count']) })).sort((left, right) => left.valueCents - right.valueCents);
 }
 
 /**
@@ -429,6 +541,13 @@ export interface AgeValueBinCount {
   count: number;
 }
 
+/** Count of the value metric's units with one value (cents) in one bin of the age axis; ageBin null: age unknown. */
+export interface AgeBinValueCount {
+  ageBin: number | null;
+  valueCents: number;
+  count: number;
+}
+
 /**
  * The bin index of an integer column on an axis, in integer arithmetic only:
  * ⌊(x − low)·bins / (high − low)⌋, which is the bin whose real-valued edges hold x. Both
@@ -440,6 +559,22 @@ function binIndexSql(column: RawBuilder<unknown>, axis: GridAxis): RawBuilder<nu
     else (cast(${column} as bigint) - ${sql.lit(axis.low)}) * ${sql.lit(axis.bins)} / ${sql.lit(axis.high - axis.low)} end`;
 }
 
+/**
+ * The same bin index as `binIndexSql`, in code: exact for whole numbers, because the floored
+ * quotient is corrected against the integer products.
+ * @example binIndex(25, { low: 0, high: 100, bins: 4 }) // 1
+ */
+export function binIndex(value: number, axis: GridAxis): number {
+  if (axis.high <= axis.low || axis.bins === 1 || value <= axis.low) return 0;
+  if (value >= axis.high) return axis.bins - 1;
+  const numerator = (value - axis.low) * axis.bins;
+  const width = axis.high - axis.low;
+  let index = Math.floor(numerator / width);
+  if (index * width > numerator) index -= 1;
+  else if ((index + 1) * width <= numerator) index += 1;
+  return index;
+}
+
 function requireIntegerAxis(name: string, axis: GridAxis): void {
   if (!Number.isSafeInteger(axis.low) || !Number.isSafeInteger(axis.high) || !Number.isSafeInteger(axis.bins) || axis.bins < 1 || axis.high < axis.low) {
     throw new Error(`the ${name} axis of the grid needs whole-number bounds and a positive number of bins, got ${JSON.stringify(axis)}`);
@@ -447,29 +582,59 @@ function requireIntegerAxis(name: string, axis: GridAxis): void {
 }
 
 /**
- * Counts of the value metric's units with a known age per cell of an age × value grid, over
- * the whole population, binned in SQL with integer arithmetic (`binIndexSql`) so that SQLite
- * and PostgreSQL place every unit in the same cell. Only occupied cells are returned.
- * @throws Error when an axis does not have whole-number bounds; whatever the database throws
+ * Counts of the value metric's units per value (cents) and bin of the age axis, over the whole
+ * population, in one GROUP BY: the data of the population's value histogram (summed over the
+ * age bins, `valueCountsOf`) and of the age × value grid (binned by value once the value axis
+ * is known, `gridCountsOf`). Ages are binned in SQL with integer arithmetic (`binIndexSql`), so
+ * SQLite and PostgreSQL place every unit in the same bin; with no age axis every unit counts
+ * as of unknown age. At most (bins + 1) rows per distinct value.
+ * @throws Error when the axis does not have whole-number bounds; whatever the database throws
  * @example
- * await ageValueGridCounts(db, request, { age: { low: 18, high: 90, bins: 12 }, valueCents: { low: 0, high: 50_000, bins: 20 } });
- * // [{ ageBin: 0, valueBin: 0, count: 40 }, …]
+ * await valueCountsByAgeBin(db, request, { low: 18, high: 90, bins: 12 });
+ * // [{ ageBin: 0, valueCents: 0, count: 40 }, { ageBin: null, valueCents: 1250, count: 2 }, …]
  */
-export async function ageValueGridCounts(db: Executor, request: Pick<AggregationRequest, 'source' | 'valueBasis'>, axes: AgeValueGridAxes): Promise<AgeValueBinCount[]> {
-  requireIntegerAxis('age', axes.age);
-  requireIntegerAxis('value', axes.valueCents);
-  const converted = request.valueBasis === 'per_conversion' ? sql`and ${CONVERTED} = 1` : sql``;
+export async function valueCountsByAgeBin(db: Executor, request: Pick<AggregationRequest, 'source' | 'valueBasis'>, ageAxis: GridAxis | null): Promise<AgeBinValueCount[]> {
+  if (ageAxis !== null) requireIntegerAxis('age', ageAxis);
+  const ageBin = ageAxis === null ? sql`cast(null as integer)` : sql`case when ${AGE} is null then null else ${binIndexSql(AGE, ageAxis)} end`;
   const { rows } = await sql<Record<string, unknown>>`
-    select binned.age_bin as age_bin, binned.value_bin as value_bin, count(*) as count
+    select binned.age_bin as age_bin, binned.value_cents as value_cents, count(*) as count
     from (
-      select ${binIndexSql(AGE, axes.age)} as age_bin, ${binIndexSql(VALUE, axes.valueCents)} as value_bin
+      select ${ageBin} as age_bin, ${VALUE} as value_cents
       from (${basePopulation(request.source, [])}) population
-      where ${AGE} is not null ${converted}
+      ${request.valueBasis === 'per_conversion' ? sql`where ${CONVERTED} = 1` : sql``}
     ) binned
-    group by binned.age_bin, binned.value_bin`.execute(db);
-  return rows
-    .map((row) => ({ ageBin: toNumber(row['age_bin']), valueBin: toNumber(row['value_bin']), count: toNumber(row['count']) }))
-    .sort((left, right) => left.ageBin - right.ageBin || left.valueBin - right.valueBin);
+    group by binned.age_bin, binned.value_cents`.execute(db);
+  return rows.map((row) => ({
+    ageBin: row['age_bin'] === null || row['age_bin'] === undefined ? null : toNumber(row['age_bin']),
+    valueCents: toNumber(row['value_cents']),
+    count: toNumber(row['count']),
+  }));
+}
+
+/** Counts per value over the whole population, in value order, from `valueCountsByAgeBin`'s rows. */
+export function valueCountsOf(counts: readonly AgeBinValueCount[]): PopulationValueCount[] {
+  const byValue = new Map<number, number>();
+  for (const entry of counts) byValue.set(entry.valueCents, (byValue.get(entry.valueCents) ?? 0) + entry.count);
+  return [...byValue].map(([valueCents, count]) => ({ valueCents, count })).sort((left, right) => left.valueCents - right.valueCents);
+}
+
+/**
+ * The occupied cells of the age × value grid from `valueCountsByAgeBin`'s rows (binned on
+ * `axes.age`), the values binned on `axes.valueCents`; units of unknown age are left out.
+ * @throws Error when the value axis does not have whole-number bounds
+ */
+export function gridCountsOf(counts: readonly AgeBinValueCount[], axes: AgeValueGridAxes): AgeValueBinCount[] {
+  requireIntegerAxis('value', axes.valueCents);
+  const grid = new Map<string, AgeValueBinCount>();
+  for (const entry of counts) {
+    if (entry.ageBin === null) continue;
+    const valueBin = binIndex(entry.valueCents, axes.valueCents);
+    const key = `${entry.ageBin}|${valueBin}`;
+    const cell = grid.get(key);
+    if (cell) cell.count += entry.count;
+    else grid.set(key, { ageBin: entry.ageBin, valueBin, count: entry.count });
+  }
+  return [...grid.values()].sort((left, right) => left.ageBin - right.ageBin || left.valueBin - right.valueBin);
 }
 
 /** Data-quality counts that are not visible in the cells. */
@@ -487,9 +652,11 @@ export async function sourceQuality(db: Executor, source: PopulationSource): Pro
   let customersOutsidePopulation = 0;
   let customersWithoutAnySale = 0;
   if (source.kind === 'campaigns') {
+    // One probe per customer into the (customer, campaign) index, rather than a sort of every contact.
     const contacted = toNumber(
       (
-        await sql<{ n: unknown }>`select count(*) as n from (select distinct customer_id from campaign_contacts where campaign_id in (${sql.join(source.campaignIds)})) contacted`.execute(db)
+        await sql<{ n: unknown }>`select count(*) as n from customers c where exists (
+          select 1 from campaign_contacts cc where cc.customer_id = c.customer_id and cc.campaign_id in (${sql.join(source.campaignIds)}))`.execute(db)
       ).rows[0]?.n,
     );
     customersOutsidePopulation = customers - contacted;

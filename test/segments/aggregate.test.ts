@@ -1,12 +1,18 @@
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
 import { ageInYears } from '../../src/ingest/fields.js';
 import {
+  binIndex,
   cellAggregates,
+  gridCountsOf,
   populationTotals,
+  shiftsAndCellAggregates,
   shiftsFromTotals,
   sourceQuality,
+  valueCountsByAgeBin,
+  valueCountsOf,
   valueDistribution,
   type AggregationRequest,
+  type GridAxis,
 } from '../../src/segments/aggregate.js';
 import { ageBandOf } from '../../src/segments/dimensions.js';
 import { TEST_DIALECTS, createTestDatabase, type TestDatabase } from '../support/database.js';
@@ -50,7 +56,7 @@ async function seedCampaign(database: TestDatabase, units: Unit[], campaignId = 
   await db.insertInto('campaigns').values({ campaign_id: campaignId, created_at: NOW }).execute();
   await db
     .insertInto('campaign_contacts')
-    .values(units.map((unit) => ({ campaign_id: campaignId, customer_id: unit.customer_id, contacted_at: '2026-03-01', converted: unit.converted, revenue_cents: unit.revenue_cents, age_at_contact: unit.age_at_contact, last_ingest_id: null })))
+    .values(units.map((unit) => ({ campaign_id: campaignId, customer_id: unit.customer_id, contacted_at: '2026-03-01', converted: unit.converted, revenue_cents: unit.revenue_cents, age_at_contact: unit.age_at_contact, region: unit.region, channel: unit.channel, customer_type: 'individual' as const, last_ingest_id: null })))
     .execute();
 }
 
@@ -188,9 +194,64 @@ describe.each(TEST_DIALECTS)('aggregation in the database (%s)', (dialect) => {
       const { cells, arithmetic } = await cellAggregates(big.handle.db, { ...request, dimensions: ['region'] }, { unitValue: 0, convertedValue: 0, age: 0 });
       expect(arithmetic).toBe('floating');
       expect(cells[0]?.unitValue.sumOfSquaredShifted).toBeCloseTo(1.25e28, -14);
+      // The one-pass method cannot be exact here either, and falls back to the totals pass:
+      // shifted by the mean 5e13, the squares sum to 2 · (5e13)² = 5e27.
+      const onePass = await shiftsAndCellAggregates(big.handle.db, { ...request, dimensions: ['region'] });
+      expect(onePass.shifts.unitValue).toBe(50_000_000_000_000);
+      expect(onePass.arithmetic).toBe('floating');
+      expect(onePass.cells[0]?.unitValue.sumOfSquaredShifted).toBeCloseTo(5e27, -13);
     } finally {
       await big.destroy();
     }
+  });
+
+  test.each([
+    ['per_unit', ['age_band', 'region', 'loyalty_tier']],
+    ['per_conversion', ['age_band', 'region', 'loyalty_tier']],
+    ['per_unit', ['channel']],
+    ['per_conversion', ['customer_type', 'age_band']],
+  ] as const)('one pass gives the shifts and cells of the totals pass and the shifted pass (%s, %j)', async (valueBasis, dimensions) => {
+    const wanted = { ...request, valueBasis, dimensions: [...dimensions] };
+    const shifts = shiftsFromTotals(await populationTotals(database.handle.db, wanted.source));
+    const twoPasses = await cellAggregates(database.handle.db, wanted, shifts);
+    const onePass = await shiftsAndCellAggregates(database.handle.db, wanted);
+    expect(onePass.shifts).toEqual(shifts);
+    expect(onePass.cells).toEqual(twoPasses.cells);
+    expect(onePass.arithmetic).toBe('exact');
+    const byKey = (entries: typeof onePass.ageCounts) => [...entries].map((entry) => JSON.stringify(entry)).sort();
+    expect(byKey(onePass.ageCounts)).toEqual(byKey(twoPasses.ageCounts));
+  });
+
+  test('limiting the value distribution to age bands keeps exactly the units of those bands, unknown ages included', async () => {
+    const bands = { ...request, dimensions: ['age_band', 'region'] };
+    const everything = await valueDistribution(database.handle.db, bands);
+    const chosen = ['18-24', 'unknown'];
+    const limited = await valueDistribution(database.handle.db, bands, [{ dimensionIndex: 0, values: chosen }]);
+    const order = (entries: typeof everything) => [...entries].map((entry) => JSON.stringify(entry)).sort();
+    expect(order(limited)).toEqual(order(everything.filter((entry) => chosen.includes(entry.values[0] as string))));
+    // Units a (17), h (121) and i (no birth date) are of unknown age; b (18) and c (24) are 18-24.
+    expect(limited.reduce((sum, entry) => sum + entry.count, 0)).toBe(5);
+  });
+
+  test('value counts per age bin add up to the value counts, and the grid bins every aged unit once', async () => {
+    const ageAxis: GridAxis = { low: 18, high: 120, bins: 4 };
+    const valueAxis: GridAxis = { low: 0, high: 40000, bins: 3 };
+    const counts = await valueCountsByAgeBin(database.handle.db, request, ageAxis);
+    const plainValues = new Map<number, number>();
+    for (const unit of UNITS) plainValues.set(unit.revenue_cents, (plainValues.get(unit.revenue_cents) ?? 0) + 1);
+    expect(valueCountsOf(counts)).toEqual([...plainValues].map(([valueCents, count]) => ({ valueCents, count })).sort((a, b) => a.valueCents - b.valueCents));
+    // Worked by hand from UNITS: bin width 25.5 years and 13333⅓ cents; plausible ages only.
+    // b (18, 1250) → (0, 0); c (24, 999) → (0, 0); d (25, 0) → (0, 0); j (45, 2500) → (1, 0);
+    // e (64, 40000) → (1, 2); f (65, 0) → (1, 0); g (120, 1) → (3, 0).
+    expect(gridCountsOf(counts, { age: ageAxis, valueCents: valueAxis })).toEqual([
+      { ageBin: 0, valueBin: 0, count: 3 },
+      { ageBin: 1, valueBin: 0, count: 2 },
+      { ageBin: 1, valueBin: 2, count: 1 },
+      { ageBin: 3, valueBin: 0, count: 1 },
+    ]);
+    const withoutAxis = await valueCountsByAgeBin(database.handle.db, { ...request, valueBasis: 'per_conversion' }, null);
+    expect(withoutAxis.every((entry) => entry.ageBin === null)).toBe(true);
+    expect(withoutAxis.reduce((sum, entry) => sum + entry.count, 0)).toBe(UNITS.filter((unit) => unit.converted === 1).length);
   });
 
   test('data quality counts customers outside the population and rejected rows of the ingests involved', async () => {
@@ -259,5 +320,28 @@ describe.each(TEST_DIALECTS)('a sales window population (%s)', (dialect) => {
   test('customers without any sale are counted for data quality', async () => {
     const quality = await sourceQuality(database.handle.db, { kind: 'sales', from: '2026-01-01', to: '2026-03-31' });
     expect(quality.customersWithoutAnySale).toBe(1);
+  });
+});
+
+describe('binIndex', () => {
+  test('puts a whole number in the bin whose real-valued edges hold it, the top edge in the last bin', () => {
+    const axis: GridAxis = { low: 18, high: 81, bins: 12 };
+    for (let age = 18; age <= 81; age += 1) {
+      const width = (axis.high - axis.low) / axis.bins;
+      const expected = age === axis.high ? axis.bins - 1 : Math.floor((age - axis.low) / width + 1e-9);
+      expect(binIndex(age, axis)).toBe(expected);
+    }
+    // Values on an interior edge go up: 18 + 3 · 5.25 = 33.75 is not whole, 18 + 4 · 5.25 = 39 is.
+    expect(binIndex(39, axis)).toBe(4);
+    expect(binIndex(38, axis)).toBe(3);
+  });
+
+  test('is exact where floating-point division would round across an edge', () => {
+    // Near 2^52 the quotient (x − low) · bins / width lies within a few units in the last place of the edge 1.
+    const axis: GridAxis = { low: 0, high: 2 ** 52 - 1, bins: 2 };
+    expect(binIndex(2 ** 51 - 1, axis)).toBe(0);
+    expect(binIndex(2 ** 51, axis)).toBe(1);
+    expect(binIndex(0, { low: 5, high: 5, bins: 3 })).toBe(0);
+    expect(binIndex(7, { low: 0, high: 10, bins: 1 })).toBe(0);
   });
 });
