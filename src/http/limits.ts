@@ -41,6 +41,11 @@ export async function registerLimits(app: FastifyInstance, config: Config): Prom
   const heapLimitBytes = config.maxHeapUsedMiB > 0 ? config.maxHeapUsedMiB * 1024 * 1024 : 0.9 * v8.getHeapStatistics().heap_size_limit;
   await app.register(underPressure, {
     maxEventLoopDelay: config.maxEventLoopDelayMs,
+    // The plugin reads the mean delay over each sample window and counts a window without any
+    // sample as an infinite delay; with its default 1 s window, one synchronous step longer
+    // than a second (an upload's commit, a large report query) answered the next requests 503.
+    // Over 5 s windows only a sustained overload does.
+    sampleInterval: 5000,
     maxHeapUsedBytes: heapLimitBytes,
     retryAfter: RETRY_AFTER_SECONDS,
     pressureHandler: (request, reply, type, value) => {

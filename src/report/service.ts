@@ -168,10 +168,10 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   let transaction = deps.readDb.transaction();
   if (deps.dialect === 'postgres') transaction = transaction.setIsolationLevel('repeatable read');
   const data = await transaction.execute(async (trx) => {
-    const { shifts, cells, ageCounts, arithmetic } = await shiftsAndCellAggregates(trx, request);
+    const { shifts, cells, ageCounts, unconvertedByAge, arithmetic } = await shiftsAndCellAggregates(trx, request);
     const valueCounts = await valueDistribution(trx, request, valueDistributionScope(cells, definition));
     const ageAxis = ageGridAxis(ageCounts);
-    const valuesByAgeBin = await valueCountsByAgeBin(trx, request, ageAxis);
+    const valuesByAgeBin = await valueCountsByAgeBin(trx, request, ageAxis, unconvertedByAge);
     const wholeValueCounts = valueCountsOf(valuesByAgeBin);
     const gridAxes = ageValueGridAxes(ageCounts, wholeValueCounts);
     const ageValueGrid = gridAxes === null ? null : { axes: gridAxes, counts: gridCountsOf(valuesByAgeBin, gridAxes) };

@@ -256,24 +256,19 @@ function cellGroupColumns(request: AggregationRequest): string[] {
   const attributes = request.dimensions.filter((dimension) => !isBuiltInDimension(dimension)).map((_name, index) => attributeColumn(index));
   const customerColumns =
     request.source.kind === 'campaigns' ? ['campaign_key', ...CONTACT_CELL_COLUMNS] : CONTACT_CELL_COLUMNS.filter((column) => request.dimensions.includes(column));
-  return [...customerColumns, 'raw_age', ...attributes];
+  return [...customerColumns, 'raw_age', 'converted', ...attributes];
 }
 
+/**
+ * Per group (converted is part of the key): n, Σ(v − c) and Σ(v − c)² with c the unit-value
+ * shift. The converted units' sums about their own shift follow exactly in code
+ * (`recentre`), so the query needs no CASE per row.
+ */
 function cellQuery(request: AggregationRequest, shifts: Shifts, arithmetic: Arithmetic): RawBuilder<Record<string, unknown>> {
   const groupColumns = cellGroupColumns(request).map((column) => sql.ref(`population.${column}`));
-  const unitDeviation = term(sql`${VALUE} - ${sql.lit(shifts.unitValue)}`, arithmetic);
-  const convertedDeviation = term(sql`${VALUE} - ${sql.lit(shifts.convertedValue)}`, arithmetic);
-  const whenConverted = (expression: RawBuilder<unknown>) => sql`sum(case when ${CONVERTED} = 1 then ${expression} else 0 end)`;
+  const deviation = term(sql`${VALUE} - ${sql.lit(shifts.unitValue)}`, arithmetic);
   return sql<Record<string, unknown>>`
-    select ${sql.join([
-      ...groupColumns,
-      sql`count(*) as n`,
-      sql`sum(${CONVERTED}) as conversions`,
-      sql`sum(${unitDeviation}) as unit_sum`,
-      sql`sum(${unitDeviation} * ${unitDeviation}) as unit_squares`,
-      sql`${whenConverted(convertedDeviation)} as converted_sum`,
-      sql`${whenConverted(sql`${convertedDeviation} * ${convertedDeviation}`)} as converted_squares`,
-    ])}
+    select ${sql.join([...groupColumns, sql`count(*) as n`, sql`sum(${deviation}) as value_sum`, sql`sum(${deviation} * ${deviation}) as value_squares`])}
     from (${basePopulation(request.source, request.dimensions)}) population
     group by ${sql.join(groupColumns)}`;
 }
@@ -321,10 +316,11 @@ function isExact(cell: CellAggregate): boolean {
 
 /**
  * The finest cells of the population with their sufficient statistics, and the count of units
- * per cell and age, from ONE GROUP BY over the cells and age (`cellGroupColumns`). Age is part of the grouping key
- * because it costs the database little more (the rows are sorted once either way) and makes
- * every age statistic exact in code: within a group the age is one number a, so its sums are
- * n·(a − c), n·(a − c)² and, with the value, (a − c)·Σ(v − c′).
+ * per cell and age, from ONE GROUP BY over the cells, age and converted (`cellGroupColumns`),
+ * with the value sums shifted by `shifts`. Age is part of the grouping key because it costs the
+ * database nothing (a campaign's index is in that order; otherwise the rows are sorted once
+ * either way) and makes every age statistic exact in code: within a group the age is one
+ * number a, so its sums are n·(a − c), n·(a − c)² and, with the value, (a − c)·Σ(v − c′).
  * Runs in exact integer arithmetic, and again in floating point only if a sum overflows.
  * @throws whatever the database throws, other than an overflow
  */
@@ -338,29 +334,82 @@ export async function cellAggregates(db: Executor, request: AggregationRequest, 
     arithmetic = 'floating';
     rows = (await cellQuery(request, shifts, 'floating').execute(db)).rows;
   }
-  return foldCellRows(rows, request, shifts, arithmetic);
+  return foldCellRows(
+    rows.map((row) => groupSums(row, shifts.unitValue, shifts, arithmetic)),
+    request,
+    shifts,
+    arithmetic,
+  );
 }
 
 export interface CellAggregates {
   cells: CellAggregate[];
   ageCounts: AgeCount[];
+  /** Units that did not convert, per age (null: unknown), over the whole population. */
+  unconvertedByAge: Map<number | null, number>;
   arithmetic: Arithmetic;
 }
 
 const NO_SHIFTS: Shifts = { unitValue: 0, convertedValue: 0, age: 0 };
-const SUM_COLUMNS = ['n', 'conversions', 'unit_sum', 'unit_squares', 'converted_sum', 'converted_squares'] as const;
+
+/** One row of the cell query with its sums about the report's shifts. */
+interface GroupSums {
+  row: Record<string, unknown>;
+  age: number | null;
+  n: number;
+  conversions: number;
+  unitSum: number;
+  unitSquares: number;
+  convertedSum: number;
+  convertedSquares: number;
+}
 
 function rawAgeOf(row: Record<string, unknown>): number | null {
   return plausibleAgeOf(row['raw_age'] === null || row['raw_age'] === undefined ? null : toNumber(row['raw_age']));
 }
 
 /**
+ * Moves Σ(v − from) and Σ(v − from)² over n values to the shift `to`:
+ * Σ(v − to) = Σ(v − from) − n·d and Σ(v − to)² = Σ(v − from)² − 2d·Σ(v − from) + n·d², d = to − from.
+ * Exact in integer arithmetic (BigInt) when the inputs are exact integers, else in floating point.
+ */
+function recentre(n: number, sum: number, squares: number, from: number, to: number, arithmetic: Arithmetic): { sum: number; squares: number } {
+  if (from === to) return { sum, squares };
+  if (arithmetic === 'exact' && Number.isSafeInteger(sum) && Number.isSafeInteger(squares)) {
+    const d = BigInt(to - from);
+    const count = BigInt(n);
+    const total = BigInt(sum);
+    return { sum: Number(total - count * d), squares: Number(BigInt(squares) - 2n * d * total + count * d * d) };
+  }
+  const d = to - from;
+  return { sum: sum - n * d, squares: squares - 2 * d * sum + n * d * d };
+}
+
+/** A row of the cell query, its sums shifted by `rowShift`, as sums about the report's shifts. */
+function groupSums(row: Record<string, unknown>, rowShift: number, shifts: Shifts, arithmetic: Arithmetic): GroupSums {
+  const n = toNumber(row['n']);
+  const converted = toNumber(row['converted']) === 1;
+  const unit = recentre(n, toNumber(row['value_sum']), toNumber(row['value_squares']), rowShift, shifts.unitValue, arithmetic);
+  const convertedSums = converted ? recentre(n, toNumber(row['value_sum']), toNumber(row['value_squares']), rowShift, shifts.convertedValue, arithmetic) : { sum: 0, squares: 0 };
+  return {
+    row,
+    age: rawAgeOf(row),
+    n,
+    conversions: converted ? n : 0,
+    unitSum: unit.sum,
+    unitSquares: unit.squares,
+    convertedSum: convertedSums.sum,
+    convertedSquares: convertedSums.squares,
+  };
+}
+
+/**
  * The shifts and the finest cells of the population, in one pass of the database when that
  * pass can be exact: the cell query runs unshifted, the population totals (and so the shifts,
- * `shiftsFromTotals`) are summed from its rows, and each row's sums are re-centred in exact
- * integer arithmetic: Σ(v − c) = Σv − n·c and Σ(v − c)² = Σv² − 2c·Σv + n·c². The result is
- * the one `populationTotals` followed by `cellAggregates` gives, which is the fallback when
- * an unshifted sum overflows in the database or is beyond 2^53 (not exact as a number here).
+ * `shiftsFromTotals`) are summed from its rows, and each row's sums are re-centred exactly
+ * (`recentre`). The result is the one `populationTotals` followed by `cellAggregates` gives,
+ * which is the fallback when an unshifted sum overflows in the database or is beyond 2^53 (not
+ * exact as a number here).
  * @throws whatever the database throws, other than an overflow
  */
 export async function shiftsAndCellAggregates(db: Executor, request: AggregationRequest): Promise<CellAggregates & { shifts: Shifts }> {
@@ -371,11 +420,11 @@ export async function shiftsAndCellAggregates(db: Executor, request: Aggregation
     if (!isOverflow(error)) throw error;
     rows = null;
   }
-  if (rows === null || !rows.every((row) => SUM_COLUMNS.every((column) => Number.isSafeInteger(toNumber(row[column]))))) {
+  const exact = (row: Record<string, unknown>) => ['n', 'value_sum', 'value_squares'].every((column) => Number.isSafeInteger(toNumber(row[column])));
+  if (rows === null || !rows.every(exact)) {
     const shifts = shiftsFromTotals(await populationTotals(db, request.source));
     return { shifts, ...(await cellAggregates(db, request, shifts)) };
   }
-  const big = (row: Record<string, unknown>, column: (typeof SUM_COLUMNS)[number]) => BigInt(toNumber(row[column]));
   let n = 0n;
   let conversions = 0n;
   let valueCents = 0n;
@@ -383,14 +432,18 @@ export async function shiftsAndCellAggregates(db: Executor, request: Aggregation
   let agedUnits = 0n;
   let ageTotal = 0n;
   for (const row of rows) {
-    n += big(row, 'n');
-    conversions += big(row, 'conversions');
-    valueCents += big(row, 'unit_sum');
-    convertedValueCents += big(row, 'converted_sum');
+    const count = BigInt(toNumber(row['n']));
+    const sum = BigInt(toNumber(row['value_sum']));
+    n += count;
+    valueCents += sum;
+    if (toNumber(row['converted']) === 1) {
+      conversions += count;
+      convertedValueCents += sum;
+    }
     const age = rawAgeOf(row);
     if (age !== null) {
-      agedUnits += big(row, 'n');
-      ageTotal += big(row, 'n') * BigInt(age);
+      agedUnits += count;
+      ageTotal += count * BigInt(age);
     }
   }
   const shifts = shiftsFromTotals({
@@ -401,34 +454,19 @@ export async function shiftsAndCellAggregates(db: Executor, request: Aggregation
     agedUnits: Number(agedUnits),
     ageTotal: Number(ageTotal),
   });
-  const recentre = (count: bigint, sum: bigint, squares: bigint, shift: number) => {
-    const c = BigInt(shift);
-    return { sum: Number(sum - count * c), squares: Number(squares - 2n * c * sum + count * c * c) };
-  };
-  const centred = rows.map((row) => {
-    const unit = recentre(big(row, 'n'), big(row, 'unit_sum'), big(row, 'unit_squares'), shifts.unitValue);
-    const converted = recentre(big(row, 'conversions'), big(row, 'converted_sum'), big(row, 'converted_squares'), shifts.convertedValue);
-    return { ...row, unit_sum: unit.sum, unit_squares: unit.squares, converted_sum: converted.sum, converted_squares: converted.squares };
-  });
-  return { shifts, ...foldCellRows(centred, request, shifts, 'exact') };
+  return { shifts, ...foldCellRows(rows.map((row) => groupSums(row, 0, shifts, 'exact')), request, shifts, 'exact') };
 }
 
 /** Merges the rows of the cell query into the requested cells and the counts per cell and age. */
-function foldCellRows(rows: ReadonlyArray<Record<string, unknown>>, request: AggregationRequest, shifts: Shifts, arithmetic: Arithmetic): CellAggregates {
+function foldCellRows(groups: readonly GroupSums[], request: AggregationRequest, shifts: Shifts, arithmetic: Arithmetic): CellAggregates {
   const cells = new Map<string, CellAggregate>();
   const ageCounts = new Map<string, AgeCount>();
-  for (const row of rows) {
-    const age = rawAgeOf(row);
+  const unconvertedByAge = new Map<number | null, number>();
+  for (const { row, age, n, conversions, unitSum, unitSquares, convertedSum, convertedSquares } of groups) {
     const values = cellValuesOf(row, request, age);
     const key = JSON.stringify(values);
     let cell = cells.get(key);
     if (!cell) cells.set(key, (cell = emptyCell(values)));
-    const n = toNumber(row['n']);
-    const conversions = toNumber(row['conversions']);
-    const unitSum = toNumber(row['unit_sum']);
-    const unitSquares = toNumber(row['unit_squares']);
-    const convertedSum = toNumber(row['converted_sum']);
-    const convertedSquares = toNumber(row['converted_squares']);
     cell.n += n;
     cell.conversions += conversions;
     cell.unitValue = { n: cell.n, sumOfShifted: cell.unitValue.sumOfShifted + unitSum, sumOfSquaredShifted: cell.unitValue.sumOfSquaredShifted + unitSquares };
@@ -441,6 +479,7 @@ function foldCellRows(rows: ReadonlyArray<Record<string, unknown>>, request: Agg
     const ageCount = ageCounts.get(ageKey);
     if (ageCount) ageCount.count += n;
     else ageCounts.set(ageKey, { values, age, count: n });
+    unconvertedByAge.set(age, (unconvertedByAge.get(age) ?? 0) + n - conversions);
     if (age === null) continue;
     const shiftedAge = age - shifts.age;
     cell.age = { n: cell.age.n + n, sumOfShifted: cell.age.sumOfShifted + n * shiftedAge, sumOfSquaredShifted: cell.age.sumOfSquaredShifted + n * shiftedAge * shiftedAge };
@@ -457,7 +496,7 @@ function foldCellRows(rows: ReadonlyArray<Record<string, unknown>>, request: Agg
   const sorted = [...cells.values()].sort((left, right) => compareValueLists(left.values, right.values));
   // SQLite turns an overflowing integer product into a float without an error; a sum beyond
   // 2^53 cannot be exact in JavaScript either. Either way the result is floating point.
-  return { cells: sorted, ageCounts: [...ageCounts.values()], arithmetic: sorted.every(isExact) ? arithmetic : 'floating' };
+  return { cells: sorted, ageCounts: [...ageCounts.values()], unconvertedByAge, arithmetic: sorted.every(isExact) ? arithmetic : 'floating' };
 }
 
 /**
@@ -583,32 +622,55 @@ function requireIntegerAxis(name: string, axis: GridAxis): void {
 
 /**
  * Counts of the value metric's units per value (cents) and bin of the age axis, over the whole
- * population, in one GROUP BY: the data of the population's value histogram (summed over the
- * age bins, `valueCountsOf`) and of the age × value grid (binned by value once the value axis
- * is known, `gridCountsOf`). Ages are binned in SQL with integer arithmetic (`binIndexSql`), so
- * SQLite and PostgreSQL place every unit in the same bin; with no age axis every unit counts
- * as of unknown age. At most (bins + 1) rows per distinct value.
+ * population: the data of the population's value histogram (summed over the age bins,
+ * `valueCountsOf`) and of the age × value grid (binned by value once the value axis is known,
+ * `gridCountsOf`). Ages are binned in SQL with integer arithmetic (`binIndexSql`), so SQLite
+ * and PostgreSQL place every unit in the same bin; with no age axis every unit counts as of
+ * unknown age. At most (bins + 1) rows per distinct value.
+ *
+ * Most units of a per-unit value did not convert and are worth 0. The query leaves those out,
+ * so it sorts only the converted units and the rare unconverted ones with another value; the
+ * zeros per age bin are what remains of `unconvertedByAge` (from the cell query) after them.
  * @throws Error when the axis does not have whole-number bounds; whatever the database throws
  * @example
- * await valueCountsByAgeBin(db, request, { low: 18, high: 90, bins: 12 });
+ * await valueCountsByAgeBin(db, request, { low: 18, high: 90, bins: 12 }, cellAggregates.unconvertedByAge);
  * // [{ ageBin: 0, valueCents: 0, count: 40 }, { ageBin: null, valueCents: 1250, count: 2 }, …]
  */
-export async function valueCountsByAgeBin(db: Executor, request: Pick<AggregationRequest, 'source' | 'valueBasis'>, ageAxis: GridAxis | null): Promise<AgeBinValueCount[]> {
+export async function valueCountsByAgeBin(
+  db: Executor,
+  request: Pick<AggregationRequest, 'source' | 'valueBasis'>,
+  ageAxis: GridAxis | null,
+  unconvertedByAge: ReadonlyMap<number | null, number>,
+): Promise<AgeBinValueCount[]> {
   if (ageAxis !== null) requireIntegerAxis('age', ageAxis);
   const ageBin = ageAxis === null ? sql`cast(null as integer)` : sql`case when ${AGE} is null then null else ${binIndexSql(AGE, ageAxis)} end`;
+  const perUnit = request.valueBasis === 'per_unit';
   const { rows } = await sql<Record<string, unknown>>`
-    select binned.age_bin as age_bin, binned.value_cents as value_cents, count(*) as count
+    select binned.converted as converted, binned.age_bin as age_bin, binned.value_cents as value_cents, count(*) as count
     from (
-      select ${ageBin} as age_bin, ${VALUE} as value_cents
+      select ${CONVERTED} as converted, ${ageBin} as age_bin, ${VALUE} as value_cents
       from (${basePopulation(request.source, [])}) population
-      ${request.valueBasis === 'per_conversion' ? sql`where ${CONVERTED} = 1` : sql``}
+      where ${CONVERTED} = 1 ${perUnit ? sql`or ${VALUE} <> 0` : sql``}
     ) binned
-    group by binned.age_bin, binned.value_cents`.execute(db);
-  return rows.map((row) => ({
-    ageBin: row['age_bin'] === null || row['age_bin'] === undefined ? null : toNumber(row['age_bin']),
-    valueCents: toNumber(row['value_cents']),
-    count: toNumber(row['count']),
-  }));
+    group by binned.converted, binned.age_bin, binned.value_cents`.execute(db);
+  const binOf = (age: number | null) => (age === null || ageAxis === null ? null : binIndex(age, ageAxis));
+  const counts: AgeBinValueCount[] = [];
+  const zeros = new Map<number | null, number>();
+  if (perUnit) for (const [age, count] of unconvertedByAge) zeros.set(binOf(age), (zeros.get(binOf(age)) ?? 0) + count);
+  for (const row of rows) {
+    const entry = {
+      ageBin: row['age_bin'] === null || row['age_bin'] === undefined ? null : toNumber(row['age_bin']),
+      valueCents: toNumber(row['value_cents']),
+      count: toNumber(row['count']),
+    };
+    if (toNumber(row['converted']) !== 1) zeros.set(entry.ageBin, (zeros.get(entry.ageBin) ?? 0) - entry.count);
+    counts.push(entry);
+  }
+  for (const [ageBin, count] of zeros) {
+    if (count < 0) throw new Error(`the unconverted units of age bin ${ageBin} do not add up (${count}): the data changed between two reads`);
+    if (count > 0) counts.push({ ageBin, valueCents: 0, count });
+  }
+  return counts;
 }
 
 /** Counts per value over the whole population, in value order, from `valueCountsByAgeBin`'s rows. */

@@ -236,7 +236,8 @@ describe.each(TEST_DIALECTS)('aggregation in the database (%s)', (dialect) => {
   test('value counts per age bin add up to the value counts, and the grid bins every aged unit once', async () => {
     const ageAxis: GridAxis = { low: 18, high: 120, bins: 4 };
     const valueAxis: GridAxis = { low: 0, high: 40000, bins: 3 };
-    const counts = await valueCountsByAgeBin(database.handle.db, request, ageAxis);
+    const { unconvertedByAge } = await shiftsAndCellAggregates(database.handle.db, request);
+    const counts = await valueCountsByAgeBin(database.handle.db, request, ageAxis, unconvertedByAge);
     const plainValues = new Map<number, number>();
     for (const unit of UNITS) plainValues.set(unit.revenue_cents, (plainValues.get(unit.revenue_cents) ?? 0) + 1);
     expect(valueCountsOf(counts)).toEqual([...plainValues].map(([valueCents, count]) => ({ valueCents, count })).sort((a, b) => a.valueCents - b.valueCents));
@@ -249,9 +250,31 @@ describe.each(TEST_DIALECTS)('aggregation in the database (%s)', (dialect) => {
       { ageBin: 1, valueBin: 2, count: 1 },
       { ageBin: 3, valueBin: 0, count: 1 },
     ]);
-    const withoutAxis = await valueCountsByAgeBin(database.handle.db, { ...request, valueBasis: 'per_conversion' }, null);
+    const withoutAxis = await valueCountsByAgeBin(database.handle.db, { ...request, valueBasis: 'per_conversion' }, null, unconvertedByAge);
     expect(withoutAxis.every((entry) => entry.ageBin === null)).toBe(true);
     expect(withoutAxis.reduce((sum, entry) => sum + entry.count, 0)).toBe(UNITS.filter((unit) => unit.converted === 1).length);
+  });
+
+  test('an unconverted unit with a value other than 0 is counted at its value, not among the zeros', async () => {
+    // Ingest refuses such a contact (revenue above 0 needs converted = 1); stored directly here,
+    // it checks that the zeros are what remains of the unconverted units, not all of them.
+    const odd = await createTestDatabase(dialect);
+    try {
+      await seedCampaign(odd, [
+        { ...UNITS[0]!, customer_id: 'p', age_at_contact: 30, converted: 0, revenue_cents: 0 },
+        { ...UNITS[0]!, customer_id: 'q', age_at_contact: 30, converted: 0, revenue_cents: 700 },
+        { ...UNITS[0]!, customer_id: 'r', age_at_contact: 70, converted: 1, revenue_cents: 700 },
+        { ...UNITS[0]!, customer_id: 's', age_at_contact: null, converted: 0, revenue_cents: 0 },
+      ]);
+      const oddRequest = { ...request, dimensions: ['region'] };
+      const { unconvertedByAge } = await shiftsAndCellAggregates(odd.handle.db, oddRequest);
+      const counts = await valueCountsByAgeBin(odd.handle.db, oddRequest, { low: 30, high: 70, bins: 2 }, unconvertedByAge);
+      const merged = new Map<string, number>();
+      for (const entry of counts) merged.set(`${entry.ageBin}|${entry.valueCents}`, (merged.get(`${entry.ageBin}|${entry.valueCents}`) ?? 0) + entry.count);
+      expect(Object.fromEntries(merged)).toEqual({ '0|0': 1, '0|700': 1, '1|700': 1, 'null|0': 1 });
+    } finally {
+      await odd.destroy();
+    }
   });
 
   test('data quality counts customers outside the population and rejected rows of the ingests involved', async () => {
