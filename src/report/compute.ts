@@ -463,8 +463,9 @@ function populationFigures(input: SnapshotInput, total: GroupStats, definition: 
   const rate = total.n > 0 ? valueOf(wilsonInterval(total.conversions, total.n, definition.confidence)) : null;
   const valueSummaryOfTotal = valueSummary(total, definition.value_basis);
   const valueInterval = valueOf(tInterval(valueSummaryOfTotal, definition.confidence));
-  const descriptives = populationDescriptives(input.ageCounts, input.valueCounts, valueSummaryOfTotal, total.age);
-  const histograms = populationHistograms(input.ageCounts, wholePopulationValueCounts(input, valueSummaryOfTotal.n));
+  const wholeValueCounts = wholePopulationValueCounts(input, valueSummaryOfTotal.n);
+  const descriptives = populationDescriptives(input.ageCounts, wholeValueCounts, valueSummaryOfTotal, total.age);
+  const histograms = populationHistograms(input.ageCounts, wholeValueCounts);
   const source = definition.source;
   return {
     unit: 'campaign_ids' in source ? 'contact' : 'customer',

@@ -1,22 +1,18 @@
 /**
  * Per-dimension profiles: the frequency table of each dimension (Pareto order), the
  * descriptive statistics of value and age for each of its values, and the age–value
- * correlation. Distributions arrive as grouped counts (value, count) from SQL; the statistics
- * core reads lists of values, so a group's counts are expanded into a list only while the
- * group is at most `MAX_EXPANDED_VALUES` units. Beyond that the figures that need the whole
- * distribution (median, quartiles, modes, skewness) are null with the reason stated, and the
- * mean and standard deviation still come from the exact sufficient statistics.
+ * correlation. Distributions arrive as grouped counts (value, count) from SQL and are
+ * described as counts (`describeCounts`), never expanded into lists. The value counts of a
+ * group are read from the database only while the group is at most `MAX_EXPANDED_VALUES`
+ * units (reading them costs a sort of the group's units); beyond that the figures that need
+ * the whole distribution (median, quartiles, modes, skewness) are null with the reason stated,
+ * and the mean and standard deviation still come from the exact sufficient statistics.
  */
 import {
-  coefficientOfVariation,
+  describeCounts,
   frequencyTable,
   histogramOfCounts,
-  mean,
-  modes,
   pearsonCorrelationFromMoments,
-  quartiles,
-  skewness,
-  standardDeviation,
   summaryFromShiftedSums,
   summaryVariance,
   type Histogram,
@@ -27,7 +23,7 @@ import type { AgeValueBinCount, AgeValueGridAxes, GridAxis, PairedShiftedSums, P
 import type { Group } from '../segments/rollup.js';
 import type { AgeValueGridCell, Correlation, Descriptives, DimensionProfile, DimensionValueProfile, HistogramFigure } from './rows.js';
 
-/** Largest group whose grouped counts are expanded into a list of values for the statistics core. */
+/** Largest group whose value counts are read from the database, to be described value by value. */
 export const MAX_EXPANDED_VALUES = 100_000;
 
 export interface WeightedValue {
@@ -59,22 +55,19 @@ export function describeDistribution(counts: readonly WeightedValue[] | null, su
   if (summary.n === 0) {
     return { n: 0, mean: null, median: null, modes: null, standard_deviation: null, coefficient_of_variation: null, skewness: null, q1: null, q3: null, notes: ['There are no values.'] };
   }
-  if (counts !== null && isExpandable(summary.n)) {
+  if (counts !== null) {
     const total = counts.reduce((sum, entry) => sum + entry.count, 0);
     if (total !== summary.n) throw new Error(`grouped counts (${total}) and summary (${summary.n}) disagree`);
-    const values: number[] = [];
-    for (const entry of [...counts].sort((left, right) => left.value - right.value)) {
-      for (let copy = 0; copy < entry.count; copy += 1) values.push(entry.value);
-    }
-    const quartileValues = valueOrNull(quartiles(values), notes);
+    const described = describeCounts(counts);
+    const quartileValues = valueOrNull(described.quartiles, notes);
     return {
       n: summary.n,
-      mean: valueOrNull(mean(values), notes),
+      mean: described.summary.mean,
       median: quartileValues?.median ?? null,
-      modes: modes(values),
-      standard_deviation: valueOrNull(standardDeviation(values), notes),
-      coefficient_of_variation: valueOrNull(coefficientOfVariation(values), notes),
-      skewness: valueOrNull(skewness(values), notes),
+      modes: described.modes,
+      standard_deviation: valueOrNull(described.standardDeviation, notes),
+      coefficient_of_variation: valueOrNull(described.coefficientOfVariation, notes),
+      skewness: valueOrNull(described.skewness, notes),
       q1: quartileValues?.q1 ?? null,
       q3: quartileValues?.q3 ?? null,
       notes,
@@ -172,20 +165,22 @@ export function dimensionProfiles(input: ProfileInput): DimensionProfile[] {
   });
 }
 
-/** Descriptives of the whole population, from all grouped counts. */
+/**
+ * Descriptives of the whole population: ages from the age counts, values from the value counts
+ * of every unit of the value metric (null when they were not read: then the figures that need
+ * the distribution are null with the reason stated).
+ */
 export function populationDescriptives(
   ageCounts: ProfileInput['ageCounts'],
-  valueCounts: ProfileInput['valueCounts'],
+  wholeValueCounts: readonly PopulationValueCount[] | null,
   valueSummary: Summary,
   ageSummary: Summary,
 ): { value: Descriptives; age: Descriptives } {
   const ages = new Map<number, number>();
   for (const entry of ageCounts) if (entry.age !== null) ages.set(entry.age, (ages.get(entry.age) ?? 0) + entry.count);
-  const values = new Map<number, number>();
-  for (const entry of valueCounts) values.set(entry.valueCents / 100, (values.get(entry.valueCents / 100) ?? 0) + entry.count);
-  return { value: describeDistribution(countsIfExpandable(values, valueSummary.n), valueSummary), age: describeDistribution(toWeighted(ages), ageSummary) };
+  const values = wholeValueCounts === null ? null : wholeValueCounts.map((entry) => ({ value: entry.valueCents / 100, count: entry.count }));
+  return { value: describeDistribution(values, valueSummary), age: describeDistribution(toWeighted(ages), ageSummary) };
 }
-
 
 /** Largest number of bins on either axis of the age × value grid (so at most 20 × 20 cells). */
 export const MAX_GRID_BINS = 20;

@@ -6,8 +6,8 @@
 import { StatsInputError } from './errors.js';
 import { computed, notComputable } from './result.js';
 import type { Outcome } from './result.js';
-import { readVarianceBasis, summarize, summaryVariance } from './summary.js';
-import type { VarianceBasis } from './summary.js';
+import { emptySummary, readVarianceBasis, summarize, summaryVariance } from './summary.js';
+import type { Summary, VarianceBasis } from './summary.js';
 import { requireClosedUnitInterval, requireCount, requireFiniteValues } from './validate.js';
 
 /** Options of the dispersion and shape statistics. */
@@ -458,4 +458,93 @@ export function histogramOfCounts(counts: ReadonlyArray<{ readonly value: number
   if (total === 0) return notComputable(`The histogram is undefined: ${EMPTY_REASON}.`);
   const entries = [...merged].map(([value, count]) => ({ value, count })).sort((left, right) => left.value - right.value);
   return binEntries(entries, total, options);
+}
+
+/** Every descriptive statistic of `describeCounts`, each undefined (with a reason) as its list counterpart. */
+export interface CountsDescription {
+  readonly summary: Summary;
+  readonly quartiles: Outcome<Quartiles>;
+  readonly modes: number[];
+  readonly standardDeviation: Outcome<number>;
+  readonly coefficientOfVariation: Outcome<number>;
+  readonly skewness: Outcome<number>;
+}
+
+/**
+ * The descriptive statistics of a list given as (value, count) pairs, without expanding it:
+ * equal, up to rounding in the last digits of the sums, to `summarize`, `quartiles`, `modes`,
+ * `standardDeviation`, `coefficientOfVariation` and `skewness` (sample basis) of the list in
+ * which each value appears `count` times. The quartiles (Hyndman & Fan type 7) are read off the
+ * cumulative counts at the same order statistics; the sums run over the distinct values,
+ * weighted, in the same corrected two-pass form (Chan, Golub & LeVeque 1983). A value may
+ * appear in several entries (their counts add); entries with count 0 are ignored.
+ * @throws StatsInputError when a value is not finite or a count is not a non-negative integer
+ * @example
+ * describeCounts([{ value: 0, count: 3 }, { value: 10, count: 1 }]);
+ * // summary { n: 4, mean: 2.5, … }, quartiles { q1: 0, median: 0, q3: 2.5 }, modes [0], …
+ */
+export function describeCounts(counts: ReadonlyArray<{ readonly value: number; readonly count: number }>): CountsDescription {
+  requireFiniteValues(
+    'values',
+    counts.map((entry) => entry.value),
+  );
+  for (const entry of counts) requireCount('count', entry.count);
+  const merged = new Map<number, number>();
+  for (const entry of counts) if (entry.count > 0) merged.set(entry.value, (merged.get(entry.value) ?? 0) + entry.count);
+  const entries = [...merged].map(([value, count]) => ({ value, count })).sort((left, right) => left.value - right.value);
+  const summary = summarizeEntries(entries);
+  const empty = (what: string) => notComputable(`The ${what} ${what === 'quartiles' ? 'are' : 'is'} undefined: ${EMPTY_REASON}.`);
+  const quartileValues: Outcome<Quartiles> =
+    summary.n === 0
+      ? empty('quartiles')
+      : computed({
+          q1: quantileOfEntries(entries, summary.n, 0.25),
+          median: quantileOfEntries(entries, summary.n, 0.5),
+          q3: quantileOfEntries(entries, summary.n, 0.75),
+        });
+  const variance = summaryVariance(summary);
+  const deviation: Outcome<number> = variance.ok ? computed(Math.sqrt(variance.value)) : variance;
+  let coefficient: Outcome<number> = deviation;
+  if (deviation.ok) {
+    coefficient =
+      summary.mean <= 0
+        ? notComputable(`The coefficient of variation is undefined: it needs a positive mean, got ${summary.mean}.`)
+        : computed(deviation.value / summary.mean);
+  }
+  return { summary, quartiles: quartileValues, modes: modesOfEntries(entries), standardDeviation: deviation, coefficientOfVariation: coefficient, skewness: skewnessOfEntries(entries, summary) };
+}
+
+function summarizeEntries(entries: readonly WeightedEntry[]): Summary {
+  let n = 0;
+  let total = 0;
+  for (const { value, count } of entries) {
+    n += count;
+    total += value * count;
+  }
+  if (n === 0) return emptySummary();
+  const firstPassMean = total / n;
+  let deviationSum = 0;
+  let squaredDeviationSum = 0;
+  for (const { value, count } of entries) {
+    const deviation = value - firstPassMean;
+    deviationSum += deviation * count;
+    squaredDeviationSum += deviation * deviation * count;
+  }
+  return { n, mean: firstPassMean + deviationSum / n, sumSquaredDeviations: Math.max(0, squaredDeviationSum - (deviationSum * deviationSum) / n) };
+}
+
+/** As `modes`: the most frequent values if any occurs more than once, else none. */
+function modesOfEntries(entries: readonly WeightedEntry[]): number[] {
+  const highest = entries.reduce((most, entry) => Math.max(most, entry.count), 0);
+  return highest > 1 ? entries.filter((entry) => entry.count === highest).map((entry) => entry.value) : [];
+}
+
+/** As `skewness` on the sample basis (adjusted Fisher–Pearson G₁; Joanes & Gill 1998). */
+function skewnessOfEntries(entries: readonly WeightedEntry[], summary: Summary): Outcome<number> {
+  if (summary.n < 3) return notComputable(`The sample skewness is undefined: it needs at least 3 values, got ${summary.n}.`);
+  if (summary.sumSquaredDeviations === 0) return notComputable('The skewness is undefined: all values are equal, so there is no spread.');
+  let cubedDeviationSum = 0;
+  for (const { value, count } of entries) cubedDeviationSum += count * (value - summary.mean) ** 3;
+  const populationSkewness = cubedDeviationSum / summary.n / (summary.sumSquaredDeviations / summary.n) ** 1.5;
+  return computed((populationSkewness * Math.sqrt(summary.n * (summary.n - 1))) / (summary.n - 2));
 }

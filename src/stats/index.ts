@@ -52,6 +52,7 @@ export {
   frequencyTable,
   histogram,
   histogramOfCounts,
+  describeCounts,
   mean,
   median,
   modes,
@@ -64,6 +65,7 @@ export {
 export type {
   BasisOptions,
   BinRule,
+  CountsDescription,
   FrequencyRow,
   Histogram,
   HistogramBin,

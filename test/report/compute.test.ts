@@ -1,7 +1,7 @@
 import { describe, expect, test } from 'vitest';
 import { buildSnapshot, rankSegments, type SnapshotInput } from '../../src/report/compute.js';
 import type { ReportDefinition } from '../../src/report/definition.js';
-import { describeDistribution, correlationFromSums, MAX_EXPANDED_VALUES } from '../../src/report/descriptives.js';
+import { describeDistribution, correlationFromSums, MAX_EXPANDED_VALUES, populationDescriptives } from '../../src/report/descriptives.js';
 import { findReversals } from '../../src/report/reversals.js';
 import type { SnapshotSegment } from '../../src/report/rows.js';
 import { cellStats } from '../../src/segments/rollup.js';
@@ -171,13 +171,40 @@ describe('descriptives from grouped counts', () => {
     expect(described.skewness).toBeCloseTo(skew.value, 12);
   });
 
-  test('a group larger than the expansion limit keeps mean and deviation and states why the rest is missing', () => {
+  test('a group whose value counts were not read (larger than the limit) keeps mean and deviation and states why the rest is missing', () => {
     const summary = { n: MAX_EXPANDED_VALUES + 1, mean: 3, sumSquaredDeviations: 4 * MAX_EXPANDED_VALUES };
-    const described = describeDistribution([{ value: 1, count: MAX_EXPANDED_VALUES - 1 }, { value: 5, count: 2 }], summary);
+    const described = describeDistribution(null, summary);
     expect(described).toMatchObject({ n: MAX_EXPANDED_VALUES + 1, mean: 3, median: null, modes: null, skewness: null, q1: null, q3: null });
     expect(described.standard_deviation).toBeCloseTo(2, 12);
     expect(described.coefficient_of_variation).toBeCloseTo(2 / 3, 12);
     expect(described.notes.join(' ')).toMatch(/not computed for groups of more than/);
+  });
+
+  test('counts of any size are described as counts: a million ages give their median and quartiles', () => {
+    // 400,000 units aged 30, 600,000 aged 50: type 7 positions 249,999.75, 499,999.5 and
+    // 749,999.25 (0-based) fall at 30, 50 and 50.
+    const counts = [
+      { value: 30, count: 400_000 },
+      { value: 50, count: 600_000 },
+    ];
+    const described = describeDistribution(counts, summarize([...Array<number>(4).fill(30), ...Array<number>(6).fill(50)].flatMap((age) => Array<number>(100_000).fill(age))));
+    expect(described).toMatchObject({ n: 1_000_000, median: 50, q1: 30, q3: 50, modes: [50] });
+    expect(described.mean).toBeCloseTo(42, 10);
+  });
+
+  test("the population's value descriptives come from the whole-population counts, however large", () => {
+    // 150,000 units worth 0 and 50,000 worth 25.00: type 7 q3 at position 149,999.25 (0-based)
+    // lies a quarter of the way from 0 to 25 (worked by hand); the mean is 6.25.
+    const whole = [
+      { valueCents: 0, count: 150_000 },
+      { valueCents: 2500, count: 50_000 },
+    ];
+    const summary = { n: 200_000, mean: 6.25, sumSquaredDeviations: 200_000 * (0.25 * 625 - 6.25 ** 2) };
+    const ageSummary = summarize([]);
+    const described = populationDescriptives([], whole, summary, ageSummary).value;
+    expect(described).toMatchObject({ n: 200_000, median: 0, q1: 0, q3: 6.25, modes: [0] });
+    expect(described.mean).toBeCloseTo(6.25, 12);
+    expect(populationDescriptives([], null, summary, ageSummary).value).toMatchObject({ median: null, q3: null, modes: null });
   });
 
   test('counts that disagree with the summary are a programming error', () => {
