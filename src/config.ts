@@ -43,6 +43,8 @@ export interface Config {
   maxEventLoopDelayMs: number;
   /** Heap use above which new requests get 503 with Retry-After, in MiB; 0 turns the check off. */
   maxHeapUsedMiB: number;
+  /** Milliseconds over which the event-loop delay and heap use are sampled for those two checks. */
+  loadSampleIntervalMs: number;
   /** Origins allowed to call the API from a browser; empty means CORS stays off. */
   corsOrigins: string[];
 }
@@ -77,6 +79,7 @@ export function loadConfig(env: Environment = process.env): Config {
     requestTimeoutMs: readInteger(env, 'REQUEST_TIMEOUT_MS', 600_000, { min: 1000, max: 3_600_000 }),
     maxEventLoopDelayMs: readInteger(env, 'MAX_EVENT_LOOP_DELAY_MS', 2000, { min: 0, max: 600_000 }),
     maxHeapUsedMiB: readInteger(env, 'MAX_HEAP_USED_MIB', 0, { min: 0, max: 1_000_000 }),
+    loadSampleIntervalMs: readInteger(env, 'LOAD_SAMPLE_INTERVAL_MS', 5000, { min: 10, max: 600_000 }),
     corsOrigins: readOrigins(env, 'CORS_ORIGINS'),
   };
 }

@@ -44,8 +44,8 @@ export async function registerLimits(app: FastifyInstance, config: Config): Prom
     // The plugin reads the mean delay over each sample window and counts a window without any
     // sample as an infinite delay; with its default 1 s window, one synchronous step longer
     // than a second (an upload's commit, a large report query) answered the next requests 503.
-    // Over 5 s windows only a sustained overload does.
-    sampleInterval: 5000,
+    // Over 5 s windows (the default here) only a sustained overload does.
+    sampleInterval: config.loadSampleIntervalMs,
     maxHeapUsedBytes: heapLimitBytes,
     retryAfter: RETRY_AFTER_SECONDS,
     pressureHandler: (request, reply, type, value) => {

@@ -52,8 +52,8 @@ describe('protective limits', () => {
   });
 
   it('answers 503 with Retry-After when memory use is past its limit', async () => {
-    testApp = await createTestApp('sqlite', { maxHeapUsedMiB: 1 });
-    // under-pressure samples once a second; wait for a sample that sees the heap.
+    testApp = await createTestApp('sqlite', { maxHeapUsedMiB: 1, loadSampleIntervalMs: 1000 });
+    // Samples once a second here; wait for a sample that sees the heap.
     await new Promise((resolve) => setTimeout(resolve, 1200));
     const response = await testApp.app.inject({ method: 'GET', url: '/v1/ingests/none' });
     expect(response.statusCode).toBe(503);

@@ -14,8 +14,8 @@ describe('health check under load', () => {
   });
 
   it('answers /healthz under load with 503 problem details rather than a 500', async () => {
-    testApp = await createTestApp('sqlite', { maxHeapUsedMiB: 1 });
-    // under-pressure samples once a second; wait for a sample that sees the heap over 1 MiB.
+    testApp = await createTestApp('sqlite', { maxHeapUsedMiB: 1, loadSampleIntervalMs: 1000 });
+    // Samples once a second here; wait for a sample that sees the heap over 1 MiB.
     await new Promise((resolve) => setTimeout(resolve, 1200));
     const response = await testApp.app.inject({ method: 'GET', url: '/healthz' });
     expect(response.statusCode, response.body).toBe(503);
