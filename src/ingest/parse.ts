@@ -4,7 +4,7 @@
  * and NDJSON (one object per line). Each record carries its 1-based row number and the line
  * of the upload on which it starts, so every later error can point at it.
  */
-import { Readable } from 'node:stream';
+import { finished, Readable } from 'node:stream';
 import { CsvError, parse as parseCsv } from 'csv-parse';
 import { normalizeColumnName } from './columns.js';
 import { showValue } from './fields.js';
@@ -70,54 +70,210 @@ export function parseRecords(body: Readable, format: UploadFormat, limits: Parse
 }
 
 async function* parseCsvRecords(body: Readable, limits: ParseLimits): AsyncGenerator<ParsedRecord> {
-  const text = Readable.from(decodeUtf8(body, 'CSV'));
+  const recordLines = new CsvRecordLines();
+  const text = Readable.from(decodeUtf8(body, 'CSV', recordLines));
   const parser = text.pipe(
     parseCsv({
       bom: true,
       skip_empty_lines: true,
       relax_column_count: true,
-      raw: true,
       max_record_size: limits.maxRecordChars,
     }),
   );
   // A failure of the source stream does not travel through pipe(); hand it to the parser.
   text.once('error', (error) => parser.destroy(error));
+  const records = new ReadyItems<string[]>(parser);
   let header: string[] | null = null;
   let row = 0;
-  // Lines are counted here from each record's raw text: csv-parse's own counter counts a CRLF
-  // inside a quoted field as two lines, and a record's raw text begins with the empty lines
-  // skipped before it. Raw text keeps a lone \r for a CRLF record end, so \r\n, \r and \n each
-  // count as one line break.
-  let nextLine = 1;
   try {
-    for await (const item of parser as AsyncIterable<{ record: string[]; raw: string }>) {
-      const skippedEmptyLines = countLineBreaks(LEADING_LINE_BREAKS.exec(item.raw)?.[0] ?? '');
-      const line = nextLine + skippedEmptyLines;
-      nextLine += countLineBreaks(item.raw);
+    for (;;) {
+      const values = records.read();
+      if (values === null) {
+        if (await records.more()) continue;
+        break;
+      }
+      const line = recordLines.next();
       if (header === null) {
-        header = readHeader(item.record, line, limits);
+        header = readHeader(values, line, limits);
         continue;
       }
       row += 1;
       const fields = new Map<string, unknown>();
-      header.forEach((name, index) => {
-        const value = item.record[index];
-        if (value !== undefined) fields.set(name, value);
-      });
-      const record: ParsedRecord = { row, line, fields };
-      if (item.record.length !== header.length) {
-        record.defect = {
-          column: null,
-          value: null,
-          reason: `row has ${item.record.length} fields but the header names ${header.length} columns`,
-        };
+      const filled = Math.min(values.length, header.length);
+      for (let index = 0; index < filled; index++) fields.set(header[index] as string, values[index]);
+      if (values.length === header.length) {
+        yield { row, line, fields };
+      } else {
+        const reason = `row has ${values.length} fields but the header names ${header.length} columns`;
+        yield { row, line, fields, defect: { column: null, value: null, reason } };
       }
-      yield record;
     }
   } catch (error) {
     throw toMalformed(error, 'CSV');
+  } finally {
+    parser.destroy();
   }
   if (header === null) throw new MalformedBodyError('the upload is empty: a CSV upload needs a header row', 1);
+}
+
+/**
+ * Reads what an object stream has ready without a promise per item: `for await` settles one
+ * for every CSV record, which cost as much as a sixth of parsing a contacts upload. Like
+ * `for await`, a failed or destroyed stream hands over nothing more, and its failure is
+ * thrown once what it had ready is exhausted.
+ */
+class ReadyItems<Item> {
+  /** undefined while the stream may still give items, null once it has ended, else its failure. */
+  private outcome: Error | null | undefined = undefined;
+  private wake: () => void = () => {};
+
+  constructor(private readonly stream: Readable) {
+    stream.on('readable', () => this.wake());
+    finished(stream, { writable: false }, (error) => {
+      this.outcome = error ?? null;
+      this.wake();
+    });
+  }
+
+  /** The next item, or null when none is ready yet. */
+  read(): Item | null {
+    return this.stream.destroyed ? null : (this.stream.read() as Item | null);
+  }
+
+  /** Waits until more may be ready; false once the stream has ended. */
+  async more(): Promise<boolean> {
+    if (this.outcome === null) return false;
+    if (this.outcome !== undefined) throw this.outcome;
+    await new Promise<void>((resolve) => {
+      this.wake = resolve;
+    });
+    return true;
+  }
+}
+
+const CARRIAGE_RETURN = 0x0d;
+const LINE_FEED = 0x0a;
+const BYTE_ORDER_MARK = 0xfeff;
+const QUOTE_OR_LINE_BREAK = /["\r\n]/g;
+
+/**
+ * The line on which each CSV record starts, found by reading the same text csv-parse reads
+ * and following its record boundaries: csv-parse's own line counter counts a CRLF inside a
+ * quoted field as two lines, and asking it for each record's raw text costs a copy of every
+ * byte. Like csv-parse, the record delimiter is the first line break outside quotes (\r\n,
+ * \n or \r), and a line holding nothing is skipped. Lines are counted the way a reader would:
+ * \r\n, \r and \n are one line break each, except that a \r delimiter followed by \n counts
+ * both, as the \n then belongs to the next record. A record's line is that of its first
+ * character other than a line break. Quotes are followed only as far as input that csv-parse
+ * accepts: text it refuses fails the upload, and the lines of its records are never asked for.
+ */
+class CsvRecordLines {
+  /** Lines of the records read but not yet handed over by csv-parse: slots nextStart to startCount. */
+  private readonly starts: number[] = [];
+  private nextStart = 0;
+  private startCount = 0;
+  private line = 1;
+  private recordDelimiter: '' | '\r\n' | '\n' | '\r' = '';
+  private quoting = false;
+  /** Whether the record being read holds anything (a character, a comma or quotes), so it is not an empty line. */
+  private recordHasContent = false;
+  /** Whether everything read since the previous record's delimiter is line breaks. */
+  private onlyLineBreaks = true;
+  private recordLine = 1;
+  private afterCarriageReturn = false;
+  private startOfText = true;
+  /** A \r ending a chunk outside quotes, whose meaning waits on the character after it. */
+  private heldCarriageReturn = false;
+
+  read(chunk: string): void {
+    let text = chunk;
+    if (this.heldCarriageReturn) {
+      text = `\r${text}`;
+      this.heldCarriageReturn = false;
+    }
+    let index = 0;
+    if (this.startOfText) {
+      this.startOfText = false;
+      // csv-parse drops a byte order mark at the start of what it reads.
+      if (text.charCodeAt(0) === BYTE_ORDER_MARK) index = 1;
+    }
+    const end = text.length;
+    for (; index < end; index++) {
+      const code = text.charCodeAt(index);
+      if (code === CARRIAGE_RETURN) {
+        if (!this.quoting && index === end - 1) {
+          this.heldCarriageReturn = true;
+          return;
+        }
+        index += this.lineBreak(code, text.charCodeAt(index + 1));
+      } else if (code === LINE_FEED) {
+        index += this.lineBreak(code, Number.NaN);
+      } else {
+        if (code === QUOTE) this.quoting = !this.quoting;
+        if (this.onlyLineBreaks) {
+          this.onlyLineBreaks = false;
+          this.recordLine = this.line;
+        }
+        this.recordHasContent = true;
+        this.afterCarriageReturn = false;
+        // The characters up to the next quote or line break change nothing more.
+        QUOTE_OR_LINE_BREAK.lastIndex = index + 1;
+        index = QUOTE_OR_LINE_BREAK.test(text) ? QUOTE_OR_LINE_BREAK.lastIndex - 2 : end - 1;
+      }
+    }
+  }
+
+  /** Called once the text has ended, before csv-parse hands over its last record. */
+  finish(): void {
+    if (this.heldCarriageReturn) {
+      this.heldCarriageReturn = false;
+      this.lineBreak(CARRIAGE_RETURN, Number.NaN);
+    }
+    if (this.recordHasContent && !this.quoting) this.endRecord();
+  }
+
+  /** Line of the next record csv-parse hands over. */
+  next(): number {
+    const line = this.starts[this.nextStart] as number;
+    this.nextStart += 1;
+    if (this.nextStart === this.startCount) {
+      // Emptied: later lines overwrite the slots in place, so the array is not grown anew.
+      this.nextStart = 0;
+      this.startCount = 0;
+    }
+    return line;
+  }
+
+  /** Reads a \r or \n; returns how many characters after it the record delimiter also took. */
+  private lineBreak(code: number, nextCode: number): number {
+    if (code === CARRIAGE_RETURN || !this.afterCarriageReturn) this.line += 1;
+    this.afterCarriageReturn = code === CARRIAGE_RETURN;
+    if (this.quoting) return 0;
+    if (this.recordDelimiter === '') {
+      this.recordDelimiter = code === LINE_FEED ? '\n' : nextCode === LINE_FEED ? '\r\n' : '\r';
+    }
+    let taken: number;
+    if (this.recordDelimiter === '\r\n') {
+      taken = code === CARRIAGE_RETURN && nextCode === LINE_FEED ? 1 : -1;
+    } else {
+      taken = (code === CARRIAGE_RETURN) === (this.recordDelimiter === '\r') ? 0 : -1;
+    }
+    if (taken === -1) {
+      // A line break that is not the record delimiter is part of a field.
+      this.recordHasContent = true;
+      return 0;
+    }
+    if (this.recordHasContent) this.endRecord();
+    return taken;
+  }
+
+  private endRecord(): void {
+    this.starts[this.startCount] = this.onlyLineBreaks ? this.line : this.recordLine;
+    this.startCount += 1;
+    this.recordHasContent = false;
+    this.onlyLineBreaks = true;
+    this.afterCarriageReturn = false;
+  }
 }
 
 function readHeader(names: string[], line: number, limits: ParseLimits): string[] {
@@ -381,25 +537,26 @@ async function* splitJsonArray(body: Readable, limits: ParseLimits): AsyncGenera
 }
 
 /** Decodes strictly: text that is not UTF-8 (UTF-16, binary) is refused rather than turned into replacement characters. */
-async function* decodeUtf8(body: Readable, format: string): AsyncGenerator<string> {
+async function* decodeUtf8(body: Readable, format: string, recordLines: CsvRecordLines): AsyncGenerator<string> {
   const decoder = new TextDecoder('utf-8', { fatal: true, ignoreBOM: false });
   try {
     for await (const chunk of body as AsyncIterable<Buffer>) {
       const text = decoder.decode(chunk, { stream: true });
       if (text.includes('\u0000')) throw new MalformedBodyError(`the ${format} body contains NUL bytes; is it binary or UTF-16?`, null);
-      if (text !== '') yield text;
+      if (text !== '') {
+        recordLines.read(text);
+        yield text;
+      }
     }
     const rest = decoder.decode();
-    if (rest !== '') yield rest;
+    if (rest !== '') {
+      recordLines.read(rest);
+      yield rest;
+    }
+    recordLines.finish();
   } catch (error) {
     throw toMalformed(error, format);
   }
-}
-
-const LEADING_LINE_BREAKS = /^(?:\r\n|\r|\n)+/;
-
-function countLineBreaks(text: string): number {
-  return text.match(/\r\n|\r|\n/g)?.length ?? 0;
 }
 
 function toMalformed(error: unknown, format: string, line: number | null = null): Error {

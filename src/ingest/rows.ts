@@ -87,13 +87,17 @@ class FieldCollector {
   }
 }
 
+// Made once rather than for every row.
+const readShortLabel = (raw: unknown) => readLabel(raw);
+const readCustomerType = (raw: unknown) => readChoice(raw, CUSTOMER_TYPES);
+
 export function checkCustomerFields(fields: Map<string, unknown>, today: string): RowCheck<CustomerRow> {
   const collect = new FieldCollector(fields);
   const customerId = collect.take('customer_id', readIdentifier);
   const birthDate = collect.takeOptional('birth_date', readDate);
-  const region = collect.take('region', (raw) => readLabel(raw));
-  const channel = collect.take('channel', (raw) => readLabel(raw));
-  const customerType = collect.take('customer_type', (raw) => readChoice(raw, CUSTOMER_TYPES));
+  const region = collect.take('region', readShortLabel);
+  const channel = collect.take('channel', readShortLabel);
+  const customerType = collect.take('customer_type', readCustomerType);
   if (birthDate) {
     if (birthDate > today) {
       collect.errors.push({ column: 'birth_date', value: birthDate, reason: `birth_date ${birthDate} is in the future` });
@@ -101,27 +105,8 @@ export function checkCustomerFields(fields: Map<string, unknown>, today: string)
       collect.errors.push({ column: 'birth_date', value: birthDate, reason: `birth_date ${birthDate} gives an age over ${MAX_AGE_YEARS}` });
     }
   }
-  const attributes = new Map<string, string | null>();
-  for (const [name, raw] of fields) {
-    if ((CUSTOMER_COLUMNS as readonly string[]).includes(name)) continue;
-    if (!ATTRIBUTE_NAME.test(name) || RESERVED_ATTRIBUTE_NAMES.has(name)) {
-      collect.errors.push({
-        column: name,
-        value: showValue(raw),
-        reason: RESERVED_ATTRIBUTE_NAMES.has(name)
-          ? `column ${name} is a reserved name and cannot be an extra attribute`
-          : `column name "${name}" must start with a letter and hold only letters, digits and _ (at most 63)`,
-      });
-      continue;
-    }
-    if (isBlank(raw)) {
-      attributes.set(name, null);
-      continue;
-    }
-    const value = readLabel(raw, 200);
-    if (value.ok) attributes.set(name, value.value);
-    else collect.errors.push({ column: name, value: showValue(raw), reason: `${name} ${value.reason}` });
-  }
+  // Most uploads have no extra columns, and then the fields need not be walked a second time.
+  const attributes = hasExtraColumns(fields) ? readAttributes(fields, collect.errors) : new Map<string, string | null>();
   if (attributes.size > MAX_ATTRIBUTES) {
     collect.errors.push({ column: null, value: null, reason: `at most ${MAX_ATTRIBUTES} extra attribute columns are accepted` });
   }
@@ -137,6 +122,38 @@ export function checkCustomerFields(fields: Map<string, unknown>, today: string)
       attributes,
     },
   };
+}
+
+function hasExtraColumns(fields: Map<string, unknown>): boolean {
+  let customerColumns = 0;
+  for (const name of CUSTOMER_COLUMNS) if (fields.has(name)) customerColumns += 1;
+  return fields.size > customerColumns;
+}
+
+/** The extra columns of a customer row as attributes; their problems are added to `errors`. */
+function readAttributes(fields: Map<string, unknown>, errors: RowError[]): Map<string, string | null> {
+  const attributes = new Map<string, string | null>();
+  for (const [name, raw] of fields) {
+    if ((CUSTOMER_COLUMNS as readonly string[]).includes(name)) continue;
+    if (!ATTRIBUTE_NAME.test(name) || RESERVED_ATTRIBUTE_NAMES.has(name)) {
+      errors.push({
+        column: name,
+        value: showValue(raw),
+        reason: RESERVED_ATTRIBUTE_NAMES.has(name)
+          ? `column ${name} is a reserved name and cannot be an extra attribute`
+          : `column name "${name}" must start with a letter and hold only letters, digits and _ (at most 63)`,
+      });
+      continue;
+    }
+    if (isBlank(raw)) {
+      attributes.set(name, null);
+      continue;
+    }
+    const value = readLabel(raw, 200);
+    if (value.ok) attributes.set(name, value.value);
+    else errors.push({ column: name, value: showValue(raw), reason: `${name} ${value.reason}` });
+  }
+  return attributes;
 }
 
 export function checkSaleFields(fields: Map<string, unknown>, today: string): RowCheck<SaleRow> {

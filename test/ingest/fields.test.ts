@@ -7,6 +7,10 @@ import { describe, expect, it } from 'vitest';
 import { ageInYears, daysInMonth, isBlank, readChoice, readDate, readFlag, readIdentifier, readLabel, readMoneyCents, showValue } from '../../src/ingest/fields.js';
 
 describe('readDate', () => {
+  it('refuses digits other than ASCII', () => {
+    expect(readDate('٢٠٢٤-٠٣-٠١')).toEqual({ ok: false, reason: 'must be a date written YYYY-MM-DD' });
+  });
+
   it('accepts a calendar date written YYYY-MM-DD', () => {
     expect(readDate('2024-03-01')).toEqual({ ok: true, value: '2024-03-01' });
   });
@@ -75,6 +79,14 @@ describe('readDate', () => {
 describe('daysInMonth', () => {
   it('gives 29 for February of a leap year and 28 otherwise', () => {
     expect([daysInMonth(2024, 2), daysInMonth(2023, 2), daysInMonth(2000, 2), daysInMonth(2100, 2)]).toEqual([29, 28, 29, 28]);
+  });
+
+  it('agrees with the calendar for every month from 1800 to 2400', () => {
+    for (let year = 1800; year <= 2400; year++) {
+      for (let month = 1; month <= 12; month++) {
+        expect(daysInMonth(year, month), `${year}-${month}`).toBe(new Date(Date.UTC(year, month, 0)).getUTCDate());
+      }
+    }
   });
 });
 
@@ -207,6 +219,26 @@ describe('readMoneyCents', () => {
   it('refuses a boolean', () => {
     expect(readMoneyCents(true)).toEqual({ ok: false, reason: 'must be a number' });
   });
+
+  it('reads leading zeros', () => {
+    expect(readMoneyCents('007.5')).toEqual({ ok: true, value: 750 });
+  });
+
+  it('refuses a point without digits on both sides', () => {
+    const reason = 'must be a plain number such as 12.50 (no currency signs or thousands separators)';
+    expect([readMoneyCents('5.'), readMoneyCents('.5')]).toEqual([
+      { ok: false, reason },
+      { ok: false, reason },
+    ]);
+  });
+
+  it('refuses digits other than ASCII', () => {
+    expect(readMoneyCents('١٢')).toMatchObject({ ok: false, reason: expect.stringContaining('plain number') });
+  });
+
+  it('calls a run of digits past 2^53 too large', () => {
+    expect(readMoneyCents('9'.repeat(40))).toEqual({ ok: false, reason: 'is too large' });
+  });
 });
 
 describe('readFlag', () => {
@@ -259,6 +291,18 @@ describe('readIdentifier', () => {
 
   it('refuses more than 200 characters', () => {
     expect(readIdentifier('x'.repeat(201))).toEqual({ ok: false, reason: 'must be at most 200 characters' });
+  });
+
+  it('accepts a character outside the Basic Multilingual Plane (a whole surrogate pair)', () => {
+    expect(readIdentifier('C😀1')).toEqual({ ok: true, value: 'C😀1' });
+  });
+
+  it.each(['C\ud8001', 'C\udc001', 'C\udc00\ud800'])('refuses half of a surrogate pair in %j', (raw) => {
+    expect(readIdentifier(raw)).toEqual({ ok: false, reason: 'must be valid Unicode text (it holds half of a surrogate pair)' });
+  });
+
+  it('names a control character before half of a surrogate pair that precedes it', () => {
+    expect(readIdentifier('C\ud800\u007f')).toEqual({ ok: false, reason: 'must not contain control characters' });
   });
 });
 

@@ -150,6 +150,38 @@ describe('CSV parsing', () => {
     expect(whole[0]?.fields['a']).toBe('é, \r\n"q"');
   });
 
+  it('counts a \n after a lone-CR record end as a line of the next record, which it begins', async () => {
+    const body = 'a,b\r1,2\r\n3,4\r5,6';
+    const records = await parse(body, 'csv');
+    expect(await parse(body, 'csv', 1)).toEqual(records);
+    expect(records.map((record) => [record.line, record.fields['a']])).toEqual([
+      [2, '1'],
+      [4, '\n3'],
+      [5, '5'],
+    ]);
+  });
+
+  it('counts a line break inside an unquoted field that is not the record delimiter', async () => {
+    for (const [body, expected] of [
+      ['a,b\r\n1\n2,3\r\n4,5\r\n', [[2, '1\n2'], [4, '4']]],
+      ['a,b\n1\r,2\n3,4\n', [[2, '1\r'], [4, '3']]],
+    ] as const) {
+      const records = await parse(body, 'csv');
+      expect(await parse(body, 'csv', 1)).toEqual(records);
+      expect(records.map((record) => [record.line, record.fields['a']])).toEqual(expected);
+    }
+  });
+
+  it('follows escaped quotes when telling a quoted line break from a record end', async () => {
+    const body = 'a,b\n"x""\n""y",1\n\n2,3\n';
+    const records = await parse(body, 'csv');
+    expect(await parse(body, 'csv', 1)).toEqual(records);
+    expect(records.map((record) => [record.line, record.fields['a']])).toEqual([
+      [2, 'x"\n"y'],
+      [5, '2'],
+    ]);
+  });
+
   it('normalizes header names', async () => {
     const records = await parse('Customer ID, Birth Date ,REGION\nC1,1990-01-01,North\n', 'csv');
     expect(Object.keys(records[0]?.fields ?? {})).toEqual(['customer_id', 'birth_date', 'region']);
