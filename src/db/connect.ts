@@ -37,22 +37,23 @@ const pgTypes = {
 };
 
 /**
- * The better-sqlite3 writer connection behind each SQLite `Kysely` instance this module opened.
- * The upload path runs its per-row statements on it directly, as cached prepared statements
- * inside the same transaction kysely opened (see src/ingest/repository.ts); everything else
- * goes through kysely. Kept beside the instance rather than in `DatabaseHandle` so that code
- * holding only `Kysely<Database>` (the ingest service) can find it.
+ * The better-sqlite3 connection behind each SQLite `Kysely` instance this module opened (the
+ * writer and the reader). The upload path runs its per-row statements on the writer directly,
+ * as cached prepared statements inside the same transaction kysely opened (see
+ * src/ingest/repository.ts), and the BI pull resolves the latest snapshot on the reader the
+ * same way; everything else goes through kysely. Kept beside the instance rather than in
+ * `DatabaseHandle` so that code holding only `Kysely<Database>` can find it.
  */
-const sqliteWriters = new WeakMap<Kysely<Database>, SqliteDatabase.Database>();
+const sqliteConnections = new WeakMap<Kysely<Database>, SqliteDatabase.Database>();
 
 /**
- * The raw SQLite writer connection behind `db`, or null when `db` is PostgreSQL (or was not
+ * The raw SQLite connection behind `db`, or null when `db` is PostgreSQL (or was not
  * opened by `openDatabase`). Throws nothing.
  *
  * @example sqliteConnectionOf(handle.db) // → the better-sqlite3 Database on SQLite, null on PostgreSQL
  */
 export function sqliteConnectionOf(db: Kysely<Database>): SqliteDatabase.Database | null {
-  return sqliteWriters.get(db) ?? null;
+  return sqliteConnections.get(db) ?? null;
 }
 
 export async function openDatabase(settings: DatabaseSettings, logger?: Logger): Promise<DatabaseHandle> {
@@ -79,7 +80,7 @@ function openSqlite(file: string, log: ((event: LogEvent) => void) | undefined):
   // holds them: a bare insert of 1,000,000 contacts took 11.2 s instead of 18.4 s.
   writer.pragma(`cache_size = -${PAGE_CACHE_KIB}`);
   const db = new Kysely<Database>({ dialect: new SqliteDialect({ database: writer }), ...(log ? { log } : {}) });
-  sqliteWriters.set(db, writer);
+  sqliteConnections.set(db, writer);
   if (inMemory) {
     return { dialect: 'sqlite', db, readDb: db, close: () => db.destroy() };
   }
@@ -89,6 +90,7 @@ function openSqlite(file: string, log: ((event: LogEvent) => void) | undefined):
   // sort stays in memory at a million rows and runs about a fifth faster.
   reader.pragma(`cache_size = -${PAGE_CACHE_KIB}`);
   const readDb = new Kysely<Database>({ dialect: new SqliteDialect({ database: reader }), ...(log ? { log } : {}) });
+  sqliteConnections.set(readDb, reader);
   return {
     dialect: 'sqlite',
     db,

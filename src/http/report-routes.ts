@@ -71,7 +71,7 @@ function matchesIfNoneMatch(header: string | undefined, tag: string): boolean {
 }
 
 /** Sends `body` with a strong entity tag over its exact bytes (RFC 9110 §8.8.3), or 304 when the client has it. */
-function sendWithEntityTag(request: FastifyRequest, reply: FastifyReply, body: string, contentType: string, tag: string = entityTag(body)): FastifyReply {
+function sendWithEntityTag(request: FastifyRequest, reply: FastifyReply, body: string | Buffer, contentType: string, tag: string = entityTag(body)): FastifyReply {
   reply.header('etag', tag).header('cache-control', 'private, no-cache').header('vary', 'Accept');
   if (matchesIfNoneMatch(request.headers['if-none-match'], tag)) return reply.code(304).send();
   return reply.code(200).type(contentType).send(body);
@@ -207,9 +207,9 @@ export function reportRoutes(routeDeps: ReportRouteDependencies) {
         }
         if (representation === 'csv') {
           reply.header('content-disposition', `attachment; filename="segments-${table.snapshotId}.csv"`);
-          return sendWithEntityTag(request, reply, table.body, 'text/csv; charset=utf-8; header=present', table.entityTag);
+          return sendWithEntityTag(request, reply, table.bytes, 'text/csv; charset=utf-8; header=present', table.entityTag);
         }
-        return sendWithEntityTag(request, reply, table.body, 'application/json; charset=utf-8', table.entityTag);
+        return sendWithEntityTag(request, reply, table.bytes, 'application/json; charset=utf-8', table.entityTag);
       },
     );
   };

@@ -272,7 +272,7 @@ export async function segmentTable(
   snapshotId: string,
   format: TableFormat,
 ): Promise<RenderedTable | undefined> {
-  const resolvedId = snapshotId === 'latest' ? (await repository.latestSnapshotMeta(deps.readDb, reportId))?.snapshot_id : snapshotId;
+  const resolvedId = snapshotId === 'latest' ? await repository.latestSnapshotId(deps.readDb, reportId) : snapshotId;
   if (resolvedId === undefined) return undefined;
   const cached = cache.get(reportId, resolvedId, format);
   if (cached) return cached;

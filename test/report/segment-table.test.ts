@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { SegmentTableCache, entityTag, type RenderedTable } from '../../src/report/segment-table.js';
 
-const table = (snapshotId: string): RenderedTable => ({ snapshotId, body: `body of ${snapshotId}`, entityTag: entityTag(`body of ${snapshotId}`) });
+const table = (snapshotId: string): RenderedTable => ({ snapshotId, body: `body of ${snapshotId}`, bytes: Buffer.from(`body of ${snapshotId}`), entityTag: entityTag(`body of ${snapshotId}`) });
 
 describe('SegmentTableCache', () => {
   it('returns a stored table for the same report, snapshot and format only', () => {
