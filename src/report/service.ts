@@ -169,7 +169,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   if (deps.dialect === 'postgres') transaction = transaction.setIsolationLevel('repeatable read');
   const data = await transaction.execute(async (trx) => {
     const { shifts, cells, ageCounts, unconvertedByAge, arithmetic } = await shiftsAndCellAggregates(trx, request);
-    const valueCounts = await valueDistribution(trx, request, valueDistributionScope(cells, definition));
+    const valueCounts = await valueDistribution(trx, request, valueDistributionScope(cells, definition), cells);
     const ageAxis = ageGridAxis(ageCounts);
     const valuesByAgeBin = await valueCountsByAgeBin(trx, request, ageAxis, unconvertedByAge);
     const wholeValueCounts = valueCountsOf(valuesByAgeBin);

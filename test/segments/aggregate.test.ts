@@ -233,6 +233,18 @@ describe.each(TEST_DIALECTS)('aggregation in the database (%s)', (dialect) => {
     expect(limited.reduce((sum, entry) => sum + entry.count, 0)).toBe(5);
   });
 
+  test.each([
+    ['per_unit', 'all'],
+    ['per_unit', [{ dimensionIndex: 0, values: ['18-24', 'unknown'] }]],
+    ['per_conversion', 'all'],
+  ] as const)('the value distribution read with the cells (zeros counted from them) is the full read (%s, %j)', async (valueBasis, scope) => {
+    const wanted = { ...request, valueBasis, dimensions: ['age_band', 'region'] };
+    const { cells } = await shiftsAndCellAggregates(database.handle.db, wanted);
+    const order = (entries: Awaited<ReturnType<typeof valueDistribution>>) => entries.map((entry) => JSON.stringify(entry)).sort();
+    const full = await valueDistribution(database.handle.db, wanted, scope === 'all' ? 'all' : [...scope]);
+    expect(order(await valueDistribution(database.handle.db, wanted, scope === 'all' ? 'all' : [...scope], cells))).toEqual(order(full));
+  });
+
   test('value counts per age bin add up to the value counts, and the grid bins every aged unit once', async () => {
     const ageAxis: GridAxis = { low: 18, high: 120, bins: 4 };
     const valueAxis: GridAxis = { low: 0, high: 40000, bins: 3 };
@@ -272,6 +284,9 @@ describe.each(TEST_DIALECTS)('aggregation in the database (%s)', (dialect) => {
       const merged = new Map<string, number>();
       for (const entry of counts) merged.set(`${entry.ageBin}|${entry.valueCents}`, (merged.get(`${entry.ageBin}|${entry.valueCents}`) ?? 0) + entry.count);
       expect(Object.fromEntries(merged)).toEqual({ '0|0': 1, '0|700': 1, '1|700': 1, 'null|0': 1 });
+      const { cells } = await shiftsAndCellAggregates(odd.handle.db, oddRequest);
+      const order = (entries: Awaited<ReturnType<typeof valueDistribution>>) => entries.map((entry) => JSON.stringify(entry)).sort();
+      expect(order(await valueDistribution(odd.handle.db, oddRequest, 'all', cells))).toEqual(order(await valueDistribution(odd.handle.db, oddRequest)));
     } finally {
       await odd.destroy();
     }
