@@ -521,7 +521,7 @@ export interface ValueCount {
 }
 
 /** Which units the value distribution is read for: all of them, or those in the listed dimension values. */
-export type ValueDistributionScope = 'all' | Array<{ dimensionIndex: number; values: string[] }>;
+export type ValueDistributionScope = 'all' | ReadonlyArray<{ dimensionIndex: number; values: readonly string[] }>;
 
 /**
  * Counts of the value metric's units per finest cell and value. Reading every value costs a

@@ -1,20 +1,7 @@
 import fc from 'fast-check';
 import { describe, expect, test } from 'vitest';
 import { coefficientOfVariation, describeCounts, modes, quartiles, skewness, standardDeviation, StatsInputError, summarize } from '../../src/stats/index.js';
-
-/** The list in which each value appears `count` times. */
-function expand(counts: ReadonlyArray<{ value: number; count: number }>): number[] {
-  return counts.flatMap((entry) => Array.from({ length: entry.count }, () => entry.value));
-}
-
-const SKEWED = [
-  { value: 0, count: 40 },
-  { value: 12.5, count: 7 },
-  { value: 19.99, count: 3 },
-  { value: 20, count: 5 },
-  { value: 55, count: 2 },
-  { value: 240.1, count: 1 },
-];
+import { SKEWED, expand } from './weighted-lists.js';
 
 describe('describeCounts', () => {
   test('matches NumPy and SciPy on a skewed list given as counts', () => {

@@ -1,19 +1,6 @@
 import { describe, expect, test } from 'vitest';
 import { histogram, histogramOfCounts, StatsInputError } from '../../src/stats/index.js';
-
-/** The list in which each value appears `count` times. */
-function expand(counts: ReadonlyArray<{ value: number; count: number }>): number[] {
-  return counts.flatMap((entry) => Array.from({ length: entry.count }, () => entry.value));
-}
-
-const SKEWED = [
-  { value: 0, count: 40 },
-  { value: 12.5, count: 7 },
-  { value: 19.99, count: 3 },
-  { value: 20, count: 5 },
-  { value: 55, count: 2 },
-  { value: 240.1, count: 1 },
-];
+import { SKEWED, expand } from './weighted-lists.js';
 
 describe('histogramOfCounts', () => {
   test('gives the bins of the worked example of histogram for the same values as counts', () => {
