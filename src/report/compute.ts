@@ -60,11 +60,11 @@ export interface SnapshotInput {
   ageCounts: AgeCount[];
   valueCounts: ValueCount[];
   /**
-   * Value counts over the whole population (`populationValueCounts`), for its histogram.
+   * Value counts over the whole population (`valueCountsOf(valueCountsByAgeBin(…))`), for its histogram and descriptives.
    * Absent: the cell value counts are used when they cover every unit of the value metric.
    */
   populationValueCounts?: PopulationValueCount[];
-  /** Counts of the age × value grid (`ageValueGridCounts`) with the axes they were binned on; null or absent: no grid. */
+  /** Counts of the age × value grid (`gridCountsOf`) with the axes they were binned on; null or absent: no grid. */
   ageValueGrid?: { axes: AgeValueGridAxes; counts: AgeValueBinCount[] } | null;
   quality: SourceQuality;
   /** sales reports: the window of the same length just before this one */
