@@ -13,6 +13,7 @@ import os from 'node:os';
 import path from 'node:path';
 import { parseArgs } from 'node:util';
 import { writeBenchFiles } from './data.js';
+import { cpuSeconds, median, residentMiB } from './process-readings.js';
 import { postFile, startServiceProcess, type RunningService } from '../test/support/service-process.js';
 
 const { values: options, positionals } = parseArgs({
@@ -28,27 +29,6 @@ const campaigns = Math.max(1, Number(options.campaigns));
 const runs = Math.max(1, Number(options.runs));
 const files = writeBenchFiles(path.resolve('bench/out'), { customers, campaigns, contactsPerCampaign, seed: 7 });
 
-// Linux reports a process's CPU time in clock ticks of 1/100 s (getconf CLK_TCK).
-const CLOCK_TICKS_PER_SECOND = 100;
-
-/** User plus system CPU seconds the process has used so far, from /proc/<pid>/stat. */
-function cpuSeconds(service: RunningService): number {
-  const stat = fs.readFileSync(`/proc/${service.child.pid}/stat`, 'utf8');
-  // The command name in parentheses may hold spaces; the fields after it are space-separated.
-  const fields = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
-  return (Number(fields[11]) + Number(fields[12])) / CLOCK_TICKS_PER_SECOND;
-}
-
-function residentMiB(service: RunningService): number {
-  const status = fs.readFileSync(`/proc/${service.child.pid}/status`, 'utf8');
-  return Number(/VmRSS:\s+(\d+) kB/.exec(status)?.[1] ?? Number.NaN) / 1024;
-}
-
-function median(values: number[]): number {
-  const sorted = [...values].sort((a, b) => a - b);
-  const middle = Math.floor(sorted.length / 2);
-  return sorted.length % 2 === 1 ? (sorted[middle] as number) : ((sorted[middle - 1] as number) + (sorted[middle] as number)) / 2;
-}
 
 interface Timed {
   seconds: number;

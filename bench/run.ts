@@ -27,6 +27,7 @@ import { parseArgs } from 'node:util';
 import autocannon from 'autocannon';
 import SqliteDatabase from 'better-sqlite3';
 import { writeBenchFiles, type BenchFiles } from './data.js';
+import { cpuSeconds, median, residentMiB } from './process-readings.js';
 import { openDatabase } from '../src/db/connect.js';
 import { migrateToLatest } from '../src/db/migrate.js';
 import { postFile, startServiceProcess, type RunningService } from '../test/support/service-process.js';
@@ -52,11 +53,6 @@ const postgresUrl = /^postgres(ql)?:\/\//.test(process.env['DATABASE_URL'] ?? ''
 const dialect = postgresUrl ? 'postgres' : 'sqlite';
 const CAMPAIGNS = 4;
 
-function median(values: number[]): number {
-  const sorted = [...values].sort((a, b) => a - b);
-  const middle = Math.floor(sorted.length / 2);
-  return sorted.length % 2 === 1 ? (sorted[middle] as number) : ((sorted[middle - 1] as number) + (sorted[middle] as number)) / 2;
-}
 
 const seconds = (value: number) => `${value.toFixed(3)} s`;
 const perSecond = (rows: number, time: number) => `${Math.round(rows / time).toLocaleString('en-US')} rows/s`;
@@ -95,22 +91,6 @@ function resetPeak(service: RunningService): void {
   } catch {
     // not permitted: the peak then covers the whole process life, an upper bound
   }
-}
-
-// Linux reports a process's CPU time in clock ticks of 1/100 s (getconf CLK_TCK).
-const CLOCK_TICKS_PER_SECOND = 100;
-
-/** User plus system CPU seconds the service has used so far, from /proc/<pid>/stat. */
-function cpuSeconds(service: RunningService): number {
-  const stat = fs.readFileSync(`/proc/${service.child.pid}/stat`, 'utf8');
-  // The command name in parentheses may hold spaces; the fields after it are space-separated.
-  const fields = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
-  return (Number(fields[11]) + Number(fields[12])) / CLOCK_TICKS_PER_SECOND;
-}
-
-function currentRssMiB(service: RunningService): number {
-  const status = fs.readFileSync(`/proc/${service.child.pid}/status`, 'utf8');
-  return Number(/VmRSS:\s+(\d+) kB/.exec(status)?.[1] ?? Number.NaN) / 1024;
 }
 
 async function uploadAll(service: RunningService, files: BenchFiles): Promise<{ customers: number; contacts: number; customersCpu: number; contactsCpu: number }> {
@@ -279,7 +259,7 @@ async function benchSize(contacts: number): Promise<SizeResult> {
       // The pull needs one snapshot; the refresh step times several.
       const refreshRuns = steps.has('refresh') ? Math.max(runs, 5) : 1;
       for (let run = 1; run <= refreshRuns; run++) {
-        const before = currentRssMiB(service);
+        const before = residentMiB(service);
         resetPeak(service);
         const started = performance.now();
         const snapshot = await json(await fetch(`${service.url}/v1/reports/${reportId}/refresh`, { method: 'POST' }));

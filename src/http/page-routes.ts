@@ -15,6 +15,7 @@ import { TREND_SNAPSHOTS } from '../view/charts/trend.js';
 import type { ChartFigure } from '../view/figure.js';
 import { renderReportPage, reportCharts } from '../view/page.js';
 import { Problem } from './problems.js';
+import { reportIdParams } from './schemas.js';
 
 export interface PageRouteDependencies {
   config: Config;
@@ -29,12 +30,6 @@ export const PICKER_SNAPSHOTS = 100;
 const LISTING_LIMIT = 1000;
 /** Pages whose charts are kept: drawing them takes most of a page's time, and a snapshot never changes. */
 const CACHED_CHART_SETS = 16;
-
-const pageParams = {
-  type: 'object',
-  required: ['report_id'],
-  properties: { report_id: { type: 'string', minLength: 1, maxLength: 200 } },
-} as const;
 
 const pageQuery = {
   type: 'object',
@@ -74,7 +69,7 @@ export function pageRoutes(routeDeps: PageRouteDependencies) {
 
     app.get(
       '/reports/:report_id',
-      { schema: { params: pageParams, querystring: pageQuery }, helmet: { enableCSPNonces: true } },
+      { schema: { params: reportIdParams, querystring: pageQuery }, helmet: { enableCSPNonces: true } },
       async (request, reply) => {
         const { report_id: reportId } = request.params as { report_id: string };
         const { snapshot: snapshotId } = request.query as { snapshot: string };

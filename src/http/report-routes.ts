@@ -23,6 +23,7 @@ import {
 } from '../report/service.js';
 import { startRefreshSchedule, type RefreshSchedule } from '../schedule/weekly.js';
 import { Problem } from './problems.js';
+import { reportIdParams } from './schemas.js';
 
 export interface ReportRouteDependencies {
   config: Config;
@@ -30,12 +31,6 @@ export interface ReportRouteDependencies {
   logger: Logger;
   now: () => Date;
 }
-
-const reportParams = {
-  type: 'object',
-  required: ['report_id'],
-  properties: { report_id: { type: 'string', minLength: 1, maxLength: 200 } },
-} as const;
 
 const snapshotParams = {
   type: 'object',
@@ -141,12 +136,12 @@ export function reportRoutes(routeDeps: ReportRouteDependencies) {
 
     app.get('/v1/reports', { schema: { response: { 200: reportListSchema } } }, async () => ({ reports: await listReports(deps) }));
 
-    app.get('/v1/reports/:report_id', { schema: { params: reportParams, response: { 200: reportSchema } } }, async (request) => {
+    app.get('/v1/reports/:report_id', { schema: { params: reportIdParams, response: { 200: reportSchema } } }, async (request) => {
       const { report_id: reportId } = request.params as { report_id: string };
       return handle(() => getReport(deps, reportId));
     });
 
-    app.post('/v1/reports/:report_id/refresh', { schema: { params: reportParams } }, async (request, reply) => {
+    app.post('/v1/reports/:report_id/refresh', { schema: { params: reportIdParams } }, async (request, reply) => {
       const { report_id: reportId } = request.params as { report_id: string };
       const snapshot = await handle(() => refreshReport({ ...deps, logger: request.log }, reportId, 'manual'));
       return reply
@@ -160,7 +155,7 @@ export function reportRoutes(routeDeps: ReportRouteDependencies) {
       '/v1/reports/:report_id/snapshots',
       {
         schema: {
-          params: reportParams,
+          params: reportIdParams,
           querystring: {
             type: 'object',
             additionalProperties: false,
@@ -189,7 +184,7 @@ export function reportRoutes(routeDeps: ReportRouteDependencies) {
       '/v1/reports/:report_id/segments',
       {
         schema: {
-          params: reportParams,
+          params: reportIdParams,
           querystring: {
             type: 'object',
             additionalProperties: false,

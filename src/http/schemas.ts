@@ -51,3 +51,10 @@ export const healthSchema = {
   required: ['status', 'database'],
   properties: { status: { type: 'string', enum: ['ok', 'unavailable'] }, database: { type: 'string' } },
 } as const;
+
+/** Path parameters of every route under /v1/reports/:report_id and /reports/:report_id. */
+export const reportIdParams = {
+  type: 'object',
+  required: ['report_id'],
+  properties: { report_id: { type: 'string', minLength: 1, maxLength: 200 } },
+} as const;

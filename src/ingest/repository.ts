@@ -14,6 +14,7 @@
  */
 import type SqliteDatabase from 'better-sqlite3';
 import { sql, type Kysely, type Transaction } from 'kysely';
+import { prepared } from '../db/prepared.js';
 import type { CampaignContactsTable, CustomersTable, Database, IngestsTable, RejectedRowsTable, SalesTable } from '../db/tables.js';
 
 export type Executor = Kysely<Database> | Transaction<Database>;
@@ -30,27 +31,6 @@ function chunk<T>(items: readonly T[], size: number): T[][] {
   const chunks: T[][] = [];
   for (let start = 0; start < items.length; start += size) chunks.push(items.slice(start, start + size));
   return chunks;
-}
-
-// Prepared statements live as long as their connection; the texts are few and fixed (one per
-// statement and column set), so the cache stays small.
-const preparedStatements = new WeakMap<SqliteDatabase.Database, Map<string, SqliteDatabase.Statement>>();
-
-function prepared(connection: SqliteDatabase.Database, text: string, mode: 'rows' | 'values' | 'first column' = 'rows'): SqliteDatabase.Statement {
-  let cache = preparedStatements.get(connection);
-  if (cache === undefined) {
-    cache = new Map();
-    preparedStatements.set(connection, cache);
-  }
-  const key = `${mode}\u0000${text}`;
-  let statement = cache.get(key);
-  if (statement === undefined) {
-    statement = connection.prepare(text);
-    if (mode === 'values') statement.raw(true);
-    if (mode === 'first column') statement.pluck(true);
-    cache.set(key, statement);
-  }
-  return statement;
 }
 
 /** Inserts rows that all have the same columns, which the first row's keys name. */

@@ -2,9 +2,9 @@
  * Every SQL statement about report definitions and snapshots. Snapshots are written once and
  * never updated; their body is the whole snapshot as JSON text.
  */
-import type SqliteDatabase from 'better-sqlite3';
 import type { Kysely, Transaction } from 'kysely';
 import { sqliteConnectionOf } from '../db/connect.js';
+import { prepared } from '../db/prepared.js';
 import type { Database, ReportSnapshotsTable, ReportsTable } from '../db/tables.js';
 
 export type Executor = Kysely<Database> | Transaction<Database>;
@@ -97,8 +97,6 @@ export async function latestSnapshotMeta(db: Executor, reportId: string): Promis
   return row ? toMeta(row) : undefined;
 }
 
-const latestIdStatements = new WeakMap<SqliteDatabase.Database, SqliteDatabase.Statement>();
-
 /**
  * The id of a report's newest snapshot, or undefined when it has none. Asked on every BI pull
  * of `latest`: on SQLite it runs as one cached prepared statement (through kysely it was
@@ -107,12 +105,7 @@ const latestIdStatements = new WeakMap<SqliteDatabase.Database, SqliteDatabase.S
 export async function latestSnapshotId(db: Kysely<Database>, reportId: string): Promise<string | undefined> {
   const connection = sqliteConnectionOf(db);
   if (connection === null) return (await latestSnapshotMeta(db, reportId))?.snapshot_id;
-  let statement = latestIdStatements.get(connection);
-  if (statement === undefined) {
-    statement = connection.prepare('select snapshot_id from report_snapshots where report_id = ? order by sequence desc limit 1').pluck(true);
-    latestIdStatements.set(connection, statement);
-  }
-  return statement.get(reportId) as string | undefined;
+  return prepared(connection, 'select snapshot_id from report_snapshots where report_id = ? order by sequence desc limit 1', 'first column').get(reportId) as string | undefined;
 }
 
 /** The body of one snapshot (`latest` for the newest); undefined when there is none. */
