@@ -10,7 +10,7 @@ import type { Config } from '../config.js';
 import type { DatabaseHandle } from '../db/connect.js';
 import type { Logger } from '../logger.js';
 import type { Snapshot } from '../report/rows.js';
-import { ReportNotFoundError, getSnapshotBody, listSnapshots, type ReportDependencies } from '../report/service.js';
+import { ReportNotFoundError, getSnapshotBody, listSnapshots, reportDependencies } from '../report/service.js';
 import { TREND_SNAPSHOTS } from '../view/charts/trend.js';
 import type { ChartFigure } from '../view/figure.js';
 import { renderReportPage, reportCharts } from '../view/page.js';
@@ -39,13 +39,7 @@ const pageQuery = {
 
 export function pageRoutes(routeDeps: PageRouteDependencies) {
   return async function plugin(app: FastifyInstance): Promise<void> {
-    const deps: ReportDependencies = {
-      dialect: routeDeps.database.dialect,
-      db: routeDeps.database.db,
-      readDb: routeDeps.database.readDb,
-      logger: routeDeps.logger,
-      now: routeDeps.now,
-    };
+    const deps = reportDependencies(routeDeps.database, routeDeps.logger, routeDeps.now);
 
     // Keyed by the shown snapshot and the snapshots of its trend; the oldest entry goes first.
     const chartCache = new Map<string, Promise<ChartFigure[]>>();

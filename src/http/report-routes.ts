@@ -19,7 +19,7 @@ import {
   listReports,
   listSnapshots,
   refreshReport,
-  type ReportDependencies,
+  reportDependencies,
 } from '../report/service.js';
 import { startRefreshSchedule, type RefreshSchedule } from '../schedule/weekly.js';
 import { Problem } from './problems.js';
@@ -102,13 +102,7 @@ function negotiateFormat(format: TableFormat | undefined, accept: string | undef
  */
 export function reportRoutes(routeDeps: ReportRouteDependencies) {
   return async function plugin(app: FastifyInstance): Promise<void> {
-    const deps: ReportDependencies = {
-      dialect: routeDeps.database.dialect,
-      db: routeDeps.database.db,
-      readDb: routeDeps.database.readDb,
-      logger: routeDeps.logger,
-      now: routeDeps.now,
-    };
+    const deps = reportDependencies(routeDeps.database, routeDeps.logger, routeDeps.now);
 
     if (routeDeps.config.scheduleEnabled) {
       let schedule: RefreshSchedule | null = null;

@@ -4,7 +4,7 @@
  */
 import { randomUUID } from 'node:crypto';
 import type { Kysely } from 'kysely';
-import type { Dialect } from '../db/connect.js';
+import type { DatabaseHandle, Dialect } from '../db/connect.js';
 import type { Database, ReportsTable, SnapshotTrigger } from '../db/tables.js';
 import type { Logger } from '../logger.js';
 import {
@@ -34,6 +34,11 @@ export interface ReportDependencies {
   readDb: Kysely<Database>;
   logger: Logger;
   now: () => Date;
+}
+
+/** The dependencies of the report functions, from an open database, a logger and a clock. */
+export function reportDependencies(database: DatabaseHandle, logger: Logger, now: () => Date): ReportDependencies {
+  return { dialect: database.dialect, db: database.db, readDb: database.readDb, logger, now };
 }
 
 /** A saved report as the API returns it: its definition, id, creation time and latest snapshot. */

@@ -14,6 +14,7 @@ import { openDatabase } from '../db/connect.js';
 import { migrateToLatest } from '../db/migrate.js';
 import { createLogger } from '../logger.js';
 import { listReports } from '../report/repository.js';
+import { reportDependencies } from '../report/service.js';
 import { runWeeklyRefresh } from './weekly.js';
 
 export const EXIT_LOCKED = 75;
@@ -33,7 +34,7 @@ export async function runRefreshCommand(args: string[], config: Config): Promise
   const database = await openDatabase(config.database, logger);
   try {
     await migrateToLatest(database.db, config.database);
-    const deps = { dialect: database.dialect, db: database.db, readDb: database.readDb, logger, now: () => new Date() };
+    const deps = reportDependencies(database, logger, () => new Date());
     const reportIds = args.includes('--all') ? (await listReports(database.db)).map((report) => report.report_id) : args.length > 0 ? args : undefined;
     const result = await runWeeklyRefresh(deps, { trigger: 'command', ...(reportIds === undefined ? {} : { reportIds }) });
     if (!result.ran) {
