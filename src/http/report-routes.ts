@@ -7,8 +7,8 @@ import type { FastifyInstance, FastifyReply, FastifyRequest } from 'fastify';
 import type { Config } from '../config.js';
 import type { DatabaseHandle } from '../db/connect.js';
 import type { Logger } from '../logger.js';
-import { InvalidDefinitionError } from '../report/definition.js';
-import { SegmentTableCache, entityTag, type TableFormat } from '../report/segment-table.js';
+import { InvalidDefinitionError } from '../report/definition/index.js';
+import { SegmentTableCache, entityTag, type TableFormat } from '../present/index.js';
 import { reportListSchema, reportSchema, snapshotListSchema } from '../report/schemas.js';
 import {
   segmentTable,
@@ -20,7 +20,7 @@ import {
   listSnapshots,
   refreshReport,
   reportDependencies,
-} from '../report/service.js';
+} from '../report/snapshot/index.js';
 import { startRefreshSchedule, type RefreshSchedule } from '../schedule/weekly.js';
 import { Problem } from './problems.js';
 import { reportIdParams } from './schemas.js';

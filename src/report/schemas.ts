@@ -2,7 +2,7 @@
  * JSON Schemas of the report resources, used as fastify response schemas (so no field leaks
  * out unlisted) and as the source of their OpenAPI components.
  */
-import { SEGMENT_ROW_FIELDS, VERDICTS } from './rows.js';
+import { SEGMENT_ROW_FIELDS, VERDICTS } from './shapes/index.js';
 
 const nullableNumber = { type: ['number', 'null'] } as const;
 const nullableInteger = { type: ['integer', 'null'] } as const;

@@ -13,8 +13,8 @@ import type { Config } from '../config.js';
 import { openDatabase } from '../db/connect.js';
 import { migrateToLatest } from '../db/migrate.js';
 import { createLogger } from '../logger.js';
-import { listReports } from '../report/repository.js';
-import { reportDependencies } from '../report/service.js';
+import { listReports } from '../report/store/index.js';
+import { reportDependencies } from '../report/snapshot/index.js';
 import { runWeeklyRefresh } from './weekly.js';
 
 export const EXIT_LOCKED = 75;

@@ -10,8 +10,8 @@
  */
 import { randomUUID } from 'node:crypto';
 import { Cron } from 'croner';
-import { listReportIdsByRefresh } from '../report/repository.js';
-import { refreshReport, type ReportDependencies } from '../report/service.js';
+import { listReportIdsByRefresh } from '../report/store/index.js';
+import { refreshReport, type ReportDependencies } from '../report/snapshot/index.js';
 import type { SnapshotTrigger } from '../db/tables.js';
 import { acquireLock, lastRunAt, releaseLock, renewLock } from './lock.js';
 

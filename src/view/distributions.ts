@@ -6,9 +6,8 @@
  * they existed) gets the descriptive figures in a table instead, and the page says which
  * charts are missing and why; nothing is drawn from data the snapshot does not hold.
  */
-import { formatCount, formatMoney } from '../report/format.js';
-import type { Descriptives, Snapshot } from '../report/rows.js';
-import { vocabulary } from '../report/wording.js';
+import { formatCount, formatMoney, vocabulary } from '../report/wording/index.js';
+import type { Descriptives, Snapshot } from '../report/shapes/index.js';
 import { histogramChart, type HistogramData } from './charts/histogram.js';
 import { correlationSentence, scatterChart, type ScatterCell } from './charts/scatter.js';
 import type { ChartFigure } from './figure.js';

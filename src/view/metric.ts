@@ -3,10 +3,9 @@
  * how a difference is written. Rates are drawn in percentage points, money in major units;
  * the words use the same formatters as the report's sentences.
  */
-import type { ReportDefinition } from '../report/definition.js';
-import { formatConfidence, formatMoney, formatPercent, formatPoints, formatSignedMoney } from '../report/format.js';
-import type { SnapshotSegment } from '../report/rows.js';
-import { vocabulary } from '../report/wording.js';
+import type { ReportDefinition } from '../report/definition/index.js';
+import { formatConfidence, formatMoney, formatPercent, formatPoints, formatSignedMoney, vocabulary } from '../report/wording/index.js';
+import type { SnapshotSegment } from '../report/shapes/index.js';
 
 export interface MetricDisplay {
   /** e.g. "conversion rate" or "revenue per contacted customer" */

@@ -4,8 +4,8 @@
  * Nothing is fetched from elsewhere; the only script and stylesheet are inline and carry the
  * response's CSP nonces. Every piece of data goes through the escaping `html` template.
  */
-import { formatConfidence, formatCount, formatMoney, formatPercent } from '../report/format.js';
-import type { Snapshot } from '../report/rows.js';
+import { formatConfidence, formatCount, formatMoney, formatPercent, vocabulary } from '../report/wording/index.js';
+import type { Snapshot } from '../report/shapes/index.js';
 import { distributionCharts, distributionFallback } from './distributions.js';
 import { intervalChart, intervalRows } from './charts/interval.js';
 import { paretoChart } from './charts/pareto.js';
@@ -13,7 +13,6 @@ import { trendChart } from './charts/trend.js';
 import { figureHtml, type ChartFigure } from './figure.js';
 import { html, trusted, type SafeHtml } from './html.js';
 import { rankingMetric } from './metric.js';
-import { vocabulary } from '../report/wording.js';
 import { PAGE_SCRIPT } from './page-script.js';
 import { PAGE_STYLE } from './page-style.js';
 import { rankedTable } from './table.js';

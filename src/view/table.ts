@@ -5,8 +5,8 @@
  * sorting moves the two together. Each cell carries a plain sort key, so the page's script
  * sorts without parsing formatted text.
  */
-import { formatCount, formatMoney, formatPercent, formatPoints, formatPValue, formatRatio, formatSignedMoney } from '../report/format.js';
-import type { Snapshot, SnapshotSegment } from '../report/rows.js';
+import { formatCount, formatMoney, formatPercent, formatPoints, formatPValue, formatRatio, formatSignedMoney } from '../report/wording/index.js';
+import type { Snapshot, SnapshotSegment } from '../report/shapes/index.js';
 import { html, joinHtml, type SafeHtml } from './html.js';
 import { VERDICT_STYLES } from './verdicts.js';
 

@@ -5,7 +5,7 @@
  * practice for colour-blind-safe charts); its orange is darkened here so a hollow mark keeps
  * its contrast on white, and the rest are greys.
  */
-import type { Verdict } from '../report/rows.js';
+import type { Verdict } from '../report/shapes/index.js';
 
 export interface VerdictStyle {
   /** the verdict in words, as the page and the charts print it */

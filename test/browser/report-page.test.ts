@@ -10,7 +10,7 @@ import path from 'node:path';
 import { chromium, type Browser, type BrowserContext, type Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
 import { createKey } from '../../src/auth/keys.js';
-import type { Snapshot } from '../../src/report/rows.js';
+import type { Snapshot } from '../../src/report/shapes/index.js';
 import { OPEN_MODE_BANNER } from '../../src/view/page.js';
 import { DEFAULT_DEMO_OPTIONS, generateDemoData } from '../../seed/generate.js';
 import { loadDemoData } from '../../seed/load.js';

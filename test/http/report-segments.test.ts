@@ -1,7 +1,7 @@
 import { parse } from 'csv-parse/sync';
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
-import { segmentsCsv } from '../../src/report/csv.js';
-import { SEGMENT_ROW_FIELDS, type SegmentRow, type Snapshot } from '../../src/report/rows.js';
+import { segmentsCsv } from '../../src/present/index.js';
+import { SEGMENT_ROW_FIELDS, type SegmentRow, type Snapshot } from '../../src/report/shapes/index.js';
 import { TEST_DIALECTS } from '../support/database.js';
 import { createTestApp, type TestApp } from '../support/app.js';
 import { createReport, generateDataset, refresh, upload, uploadDataset, REPORT_TEST_SETTINGS } from '../report/fixtures.js';

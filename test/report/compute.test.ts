@@ -1,9 +1,8 @@
 import { describe, expect, test } from 'vitest';
-import { buildSnapshot, rankSegments, type SnapshotInput } from '../../src/report/compute.js';
-import type { ReportDefinition } from '../../src/report/definition.js';
-import { describeDistribution, correlationFromSums, MAX_EXPANDED_VALUES, populationDescriptives } from '../../src/report/descriptives.js';
-import { findReversals } from '../../src/report/reversals.js';
-import type { SnapshotSegment } from '../../src/report/rows.js';
+import { buildSnapshot, rankSegments, type SnapshotInput, describeDistribution, correlationFromSums, MAX_EXPANDED_VALUES, populationDescriptives } from '../../src/report/snapshot/index.js';
+import type { ReportDefinition } from '../../src/report/definition/index.js';
+import { findReversals } from '../../src/report/analysis/index.js';
+import type { SnapshotSegment } from '../../src/report/shapes/index.js';
 import { cellStats } from '../../src/segments/rollup.js';
 import { median, modes, newcombeDifferenceInterval, pearsonCorrelation, quartiles, skewness, summarize } from '../../src/stats/index.js';
 import { ZERO_SHIFTS, block, cellsFromUnits, countsFromUnits, type TestUnit } from './cells.js';

@@ -1,5 +1,5 @@
 import { describe, expect, test } from 'vitest';
-import { plainNumber, textCell } from '../../src/report/csv.js';
+import { plainNumber, textCell } from '../../src/present/index.js';
 
 describe('CSV cells', () => {
   test('ordinary numbers are written as JavaScript writes them', () => {

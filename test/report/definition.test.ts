@@ -1,5 +1,5 @@
 import { describe, expect, test } from 'vitest';
-import { InvalidDefinitionError, normalizeDefinition, type DefinitionLookup } from '../../src/report/definition.js';
+import { InvalidDefinitionError, normalizeDefinition, type DefinitionLookup } from '../../src/report/definition/index.js';
 
 const lookup: DefinitionLookup = {
   missingCampaigns: async (ids) => ids.filter((id) => id !== 'spring' && id !== 'autumn'),

@@ -3,7 +3,7 @@
  * aggregation is exact integer arithmetic on both engines and every ordering is made in code.
  */
 import { describe, expect, test } from 'vitest';
-import type { Snapshot } from '../../src/report/rows.js';
+import type { Snapshot } from '../../src/report/shapes/index.js';
 import { TEST_DIALECTS } from '../support/database.js';
 import { createTestApp } from '../support/app.js';
 import { createReport, generateContacts, generateCustomers, refresh, seededRandom, upload, REPORT_TEST_SETTINGS } from './fixtures.js';

@@ -4,8 +4,8 @@
  * bins are worked out by hand below.
  */
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
-import type { Snapshot } from '../../src/report/rows.js';
-import { ageValueGridAxes, ageValueGridCells, populationHistograms } from '../../src/report/descriptives.js';
+import type { Snapshot } from '../../src/report/shapes/index.js';
+import { ageValueGridAxes, ageValueGridCells, populationHistograms } from '../../src/report/snapshot/index.js';
 import { distributionCharts, distributionFallback } from '../../src/view/distributions.js';
 import { createTestApp, type TestApp } from '../support/app.js';
 import { TEST_DIALECTS } from '../support/database.js';

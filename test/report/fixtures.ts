@@ -5,7 +5,7 @@
  */
 import type { FastifyInstance } from 'fastify';
 import { expect } from 'vitest';
-import type { Snapshot } from '../../src/report/rows.js';
+import type { Snapshot } from '../../src/report/shapes/index.js';
 
 /**
  * Mulberry32, a small seeded generator (Tommy Ettinger's public-domain mulberry32 — common

@@ -9,7 +9,7 @@ import {
   formatPValue,
   formatRatio,
   formatSignedMoney,
-} from '../../src/report/format.js';
+} from '../../src/report/wording/index.js';
 
 describe('the number formatter of sentences', () => {
   test('counts get thousands separators', () => {

@@ -4,7 +4,7 @@
  * 16% against 10% for everyone else, channels and age bands have no effect at all.
  */
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
-import type { Snapshot } from '../../src/report/rows.js';
+import type { Snapshot } from '../../src/report/shapes/index.js';
 import { TEST_DIALECTS } from '../support/database.js';
 import { createTestApp, type TestApp } from '../support/app.js';
 import { createReport, generateContacts, generateCustomers, refresh, upload, type GeneratedCustomer, REPORT_TEST_SETTINGS } from './fixtures.js';

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { SegmentTableCache, entityTag, type RenderedTable } from '../../src/report/segment-table.js';
+import { SegmentTableCache, entityTag, type RenderedTable } from '../../src/present/index.js';
 
 const table = (snapshotId: string): RenderedTable => ({ snapshotId, body: `body of ${snapshotId}`, bytes: Buffer.from(`body of ${snapshotId}`), entityTag: entityTag(`body of ${snapshotId}`) });
 

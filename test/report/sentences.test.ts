@@ -5,6 +5,7 @@
  */
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
 import {
+  describeSegment,
   formatConfidence,
   formatCount,
   formatMoney,
@@ -15,9 +16,8 @@ import {
   formatRank,
   formatRatio,
   formatSignedMoney,
-} from '../../src/report/format.js';
-import type { Snapshot, SnapshotSegment } from '../../src/report/rows.js';
-import { describeSegment } from '../../src/report/wording.js';
+} from '../../src/report/wording/index.js';
+import type { Snapshot, SnapshotSegment } from '../../src/report/shapes/index.js';
 import { TEST_DIALECTS } from '../support/database.js';
 import { createTestApp, type TestApp } from '../support/app.js';
 import { createReport, generateContacts, generateCustomers, refresh, seededRandom, upload, REPORT_TEST_SETTINGS } from './fixtures.js';

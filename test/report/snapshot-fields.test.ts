@@ -11,7 +11,7 @@ import pcorrtest from '@stdlib/stats-pcorrtest';
 import ttest from '@stdlib/stats-ttest';
 import ttest2 from '@stdlib/stats-ttest2';
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
-import type { Snapshot, SnapshotSegment } from '../../src/report/rows.js';
+import type { Snapshot, SnapshotSegment } from '../../src/report/shapes/index.js';
 import {
   adjustPValues,
   cohensH,

@@ -1,5 +1,5 @@
 import { describe, expect, test } from 'vitest';
-import { decideVerdict, type VerdictInput } from '../../src/report/verdict.js';
+import { decideVerdict, type VerdictInput } from '../../src/report/analysis/index.js';
 
 const base: VerdictInput = {
   tested: true,

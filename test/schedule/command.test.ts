@@ -1,8 +1,8 @@
 import pino from 'pino';
 import { afterAll, afterEach, beforeAll, describe, expect, test, vi } from 'vitest';
 import { loadConfig, type Config } from '../../src/config.js';
-import { listSnapshots } from '../../src/report/repository.js';
-import { createReport, type ReportDependencies } from '../../src/report/service.js';
+import { listSnapshots } from '../../src/report/store/index.js';
+import { createReport, type ReportDependencies } from '../../src/report/snapshot/index.js';
 import { EXIT_LOCKED, runRefreshCommand } from '../../src/schedule/command.js';
 import { acquireLock, lastRunAt, releaseLock } from '../../src/schedule/lock.js';
 import { WEEKLY_REFRESH_JOB } from '../../src/schedule/weekly.js';

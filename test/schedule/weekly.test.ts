@@ -1,8 +1,7 @@
 import pino from 'pino';
 import { afterAll, afterEach, beforeAll, beforeEach, describe, expect, test, vi } from 'vitest';
-import { createReport as saveReport } from '../../src/report/service.js';
-import type { ReportDependencies } from '../../src/report/service.js';
-import { listSnapshots } from '../../src/report/repository.js';
+import { createReport as saveReport, type ReportDependencies } from '../../src/report/snapshot/index.js';
+import { listSnapshots } from '../../src/report/store/index.js';
 import { acquireLock, lastRunAt, releaseLock } from '../../src/schedule/lock.js';
 import {
   WEEKLY_REFRESH_JOB,

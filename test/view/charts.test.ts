@@ -6,7 +6,7 @@ import { correlationSentence, scatterChart, scatterSpec, type ScatterCell } from
 import { trendChart, trendChartSpec, trendPoints } from '../../src/view/charts/trend.js';
 import { renderChart } from '../../src/view/render-chart.js';
 import { distributionCharts, distributionFallback, readGrid, readHistogram } from '../../src/view/distributions.js';
-import type { Snapshot } from '../../src/report/rows.js';
+import type { Snapshot } from '../../src/report/shapes/index.js';
 import { knownSnapshot } from './snapshot-fixture.js';
 import { markGroup } from './svg-reading.js';
 

@@ -3,8 +3,8 @@
  * tested segments (one of each tested verdict), one segment too small to test, and segment
  * names that try to break out of HTML. Its figures are made up; the view only draws them.
  */
-import type { ReportDefinition } from '../../src/report/definition.js';
-import type { Descriptives, Snapshot, SnapshotSegment, Verdict } from '../../src/report/rows.js';
+import type { ReportDefinition } from '../../src/report/definition/index.js';
+import type { Descriptives, Snapshot, SnapshotSegment, Verdict } from '../../src/report/shapes/index.js';
 
 export const HOSTILE_SCRIPT = '<script>alert("segment")</script>';
 export const HOSTILE_IMAGE = '"><img src=x onerror=alert(1)>';

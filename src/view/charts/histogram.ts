@@ -3,7 +3,7 @@
  * edge to its high edge, with the rule that chose the bins stated in the caption.
  */
 import type { TopLevelSpec } from 'vega-lite';
-import { formatCount } from '../../report/format.js';
+import { formatCount } from '../../report/wording/index.js';
 import type { ChartFigure } from '../figure.js';
 import { html } from '../html.js';
 import { renderChart } from '../render-chart.js';

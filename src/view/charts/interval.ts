@@ -4,8 +4,8 @@
  * word and colour, and the segment's n beside it.
  */
 import type { TopLevelSpec } from 'vega-lite';
-import { formatCount, formatPValue } from '../../report/format.js';
-import type { Snapshot, Verdict } from '../../report/rows.js';
+import { formatCount, formatPValue } from '../../report/wording/index.js';
+import type { Snapshot, Verdict } from '../../report/shapes/index.js';
 import type { ChartFigure } from '../figure.js';
 import { html } from '../html.js';
 import { confidenceLabel, rankingMetric } from '../metric.js';

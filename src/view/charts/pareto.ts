@@ -3,8 +3,8 @@
  * population, the cumulative share as a line on a second axis, and the 80 % mark on that axis.
  */
 import type { TopLevelSpec } from 'vega-lite';
-import { formatCount, formatPercent } from '../../report/format.js';
-import type { DimensionProfile } from '../../report/rows.js';
+import { formatCount, formatPercent } from '../../report/wording/index.js';
+import type { DimensionProfile } from '../../report/shapes/index.js';
 import type { ChartFigure } from '../figure.js';
 import { html } from '../html.js';
 import { renderChart } from '../render-chart.js';

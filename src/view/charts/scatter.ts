@@ -5,8 +5,8 @@
  * its Fisher-z interval from the snapshot.
  */
 import type { TopLevelSpec } from 'vega-lite';
-import { formatConfidence, formatCount, formatPValue } from '../../report/format.js';
-import type { Correlation } from '../../report/rows.js';
+import { formatConfidence, formatCount, formatPValue } from '../../report/wording/index.js';
+import type { Correlation } from '../../report/shapes/index.js';
 import type { ChartFigure } from '../figure.js';
 import { html } from '../html.js';
 import { renderChart } from '../render-chart.js';

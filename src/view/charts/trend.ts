@@ -4,7 +4,7 @@
  * its own shade, so the lines stay apart in greyscale.
  */
 import type { TopLevelSpec } from 'vega-lite';
-import type { Snapshot } from '../../report/rows.js';
+import type { Snapshot } from '../../report/shapes/index.js';
 import type { ChartFigure } from '../figure.js';
 import { html } from '../html.js';
 import { rankingMetric } from '../metric.js';

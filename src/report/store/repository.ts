@@ -3,9 +3,9 @@
  * never updated; their body is the whole snapshot as JSON text.
  */
 import type { Kysely, Transaction } from 'kysely';
-import { sqliteConnectionOf } from '../db/connect.js';
-import { prepared } from '../db/prepared.js';
-import type { Database, ReportSnapshotsTable, ReportsTable } from '../db/tables.js';
+import { sqliteConnectionOf } from '../../db/connect.js';
+import { prepared } from '../../db/prepared.js';
+import type { Database, ReportSnapshotsTable, ReportsTable } from '../../db/tables.js';
 
 export type Executor = Kysely<Database> | Transaction<Database>;
 

@@ -4,7 +4,7 @@
  * thousands separators, no exponent), null as an empty cell, and text that a spreadsheet
  * would run as a formula neutralised with a leading single quote.
  */
-import { SEGMENT_ROW_FIELDS, type SegmentRow } from './rows.js';
+import { SEGMENT_ROW_FIELDS, type SegmentRow } from '../report/shapes/index.js';
 
 // Cells starting with these characters are read as formulas by common spreadsheet programs
 // (OWASP "CSV injection" guidance — common practice).

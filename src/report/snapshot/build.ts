@@ -13,7 +13,7 @@ import {
   wilsonInterval,
   type Outcome,
   type Summary,
-} from '../stats/index.js';
+} from '../../stats/index.js';
 import {
   compareText,
   compareValueLists,
@@ -25,15 +25,13 @@ import {
   type Shifts,
   type SourceQuality,
   type ValueCount,
-} from '../segments/aggregate.js';
-import { cellStats, groupBy, rollUp, subtractGroup, type Group, type GroupStats } from '../segments/rollup.js';
-import { analyzeSegment, valueSummary, type SegmentStatistics } from './analysis.js';
-import type { ReportDefinition } from './definition.js';
-import { ageValueGridCells, correlationFromSums, dimensionProfiles, populationDescriptives, populationHistograms } from './descriptives.js';
-import { findReversals } from './reversals.js';
-import { VERDICTS, type Comparison, type DataQuality, type PopulationFigures, type Reversal, type SegmentChange, type Snapshot, type SnapshotSegment, type Verdict } from './rows.js';
-import { decideVerdict } from './verdict.js';
-import { CAUTIONS, reportSummary, reversalSentence, segmentSummary, vocabulary, type SentenceContext } from './wording.js';
+} from '../../segments/aggregate.js';
+import { cellStats, groupBy, rollUp, subtractGroup, type Group, type GroupStats } from '../../segments/rollup.js';
+import { analyzeSegment, decideVerdict, findReversals, valueSummary, type SegmentStatistics } from '../analysis/index.js';
+import type { ReportDefinition } from '../definition/index.js';
+import { ageValueGridCells, correlationFromSums, dimensionProfiles, populationDescriptives, populationHistograms } from './profiles.js';
+import { VERDICTS, type Comparison, type DataQuality, type PopulationFigures, type Reversal, type SegmentChange, type Snapshot, type SnapshotSegment, type Verdict } from '../shapes/index.js';
+import { CAUTIONS, reportSummary, reversalSentence, segmentSummary, vocabulary, type SentenceContext } from '../wording/index.js';
 
 export interface SnapshotIdentity {
   snapshotId: string;

@@ -3,7 +3,7 @@
  * the fixed order of the design; a snapshot's segments carry those fields first and the
  * detail (rest, effect sizes, change) after them.
  */
-import type { ReportDefinition } from './definition.js';
+import type { ReportDefinition } from '../definition/index.js';
 
 export const SEGMENT_ROW_FIELDS = [
   'rank',

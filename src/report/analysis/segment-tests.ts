@@ -22,9 +22,9 @@ import {
   type Outcome,
   type Summary,
   type TwoSampleTTestResult,
-} from '../stats/index.js';
-import type { GroupStats } from '../segments/rollup.js';
-import type { ValueBasis } from './definition.js';
+} from '../../stats/index.js';
+import type { GroupStats } from '../../segments/rollup.js';
+import type { ValueBasis } from '../definition/index.js';
 
 /** Planning power of the minimum detectable difference: 80 %, the convention of Cohen (1988). */
 export const PLANNING_POWER = 0.8;

@@ -5,7 +5,7 @@
  */
 import { createHash } from 'node:crypto';
 import { segmentsCsv } from './csv.js';
-import { SEGMENT_ROW_FIELDS, toSegmentRow, type Snapshot } from './rows.js';
+import { SEGMENT_ROW_FIELDS, toSegmentRow, type Snapshot } from '../report/shapes/index.js';
 
 export type TableFormat = 'json' | 'csv';
 

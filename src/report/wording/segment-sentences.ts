@@ -16,8 +16,8 @@ import {
   formatRatio,
   formatSignedMoney,
 } from './format.js';
-import type { ReportDefinition } from './definition.js';
-import type { Reversal, SnapshotSegment, Verdict } from './rows.js';
+import type { ReportDefinition } from '../definition/index.js';
+import type { Reversal, SnapshotSegment, Verdict } from '../shapes/index.js';
 
 /** The words for a report's unit, outcome and value. */
 export interface Vocabulary {

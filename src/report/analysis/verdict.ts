@@ -16,7 +16,7 @@
  * Absence of evidence is never reported as evidence of absence (Altman & Bland 1995, BMJ 311,
  * 485 — from memory); the MDD rule follows the power conventions of Cohen (1988).
  */
-import type { Verdict } from './rows.js';
+import type { Verdict } from '../shapes/index.js';
 
 export interface VerdictInput {
   tested: boolean;

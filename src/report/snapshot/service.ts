@@ -4,9 +4,9 @@
  */
 import { randomUUID } from 'node:crypto';
 import type { Kysely } from 'kysely';
-import type { DatabaseHandle, Dialect } from '../db/connect.js';
-import type { Database, ReportsTable, SnapshotTrigger } from '../db/tables.js';
-import type { Logger } from '../logger.js';
+import type { DatabaseHandle, Dialect } from '../../db/connect.js';
+import type { Database, ReportsTable, SnapshotTrigger } from '../../db/tables.js';
+import type { Logger } from '../../logger.js';
 import {
   gridCountsOf,
   shiftsAndCellAggregates,
@@ -18,13 +18,13 @@ import {
   type CellAggregate,
   type PopulationSource,
   type ValueDistributionScope,
-} from '../segments/aggregate.js';
-import { buildSnapshot, type PreviousWindow } from './compute.js';
-import { normalizeDefinition, type ReportDefinition } from './definition.js';
-import { ageGridAxis, ageValueGridAxes, isExpandable } from './descriptives.js';
-import * as repository from './repository.js';
-import { renderSegmentTable, type RenderedTable, type SegmentTableCache, type TableFormat } from './segment-table.js';
-import type { Snapshot } from './rows.js';
+} from '../../segments/aggregate.js';
+import { buildSnapshot, type PreviousWindow } from './build.js';
+import { normalizeDefinition, type ReportDefinition } from '../definition/index.js';
+import { ageGridAxis, ageValueGridAxes, isExpandable } from './profiles.js';
+import * as repository from '../store/index.js';
+import { renderSegmentTable, type RenderedTable, type SegmentTableCache, type TableFormat } from '../../present/index.js';
+import type { Snapshot } from '../shapes/index.js';
 
 export interface ReportDependencies {
   dialect: Dialect;
