@@ -1,7 +1,7 @@
 import { describe, expect, test } from 'vitest';
-import { buildSnapshot, rankSegments, type SnapshotInput, describeDistribution, correlationFromSums, MAX_EXPANDED_VALUES, populationDescriptives } from '../../src/report/snapshot/index.js';
+import { buildSnapshot, type SnapshotInput, describeDistribution, correlationFromSums, MAX_EXPANDED_VALUES, populationDescriptives } from '../../src/report/snapshot/index.js';
 import type { ReportDefinition } from '../../src/report/definition/index.js';
-import { findReversals } from '../../src/report/analysis/index.js';
+import { findReversals, rankSegments } from '../../src/report/analysis/index.js';
 import type { SnapshotSegment } from '../../src/report/shapes/index.js';
 import { cellStats } from '../../src/segments/rollup.js';
 import { median, modes, newcombeDifferenceInterval, pearsonCorrelation, quartiles, skewness, summarize } from '../../src/stats/index.js';

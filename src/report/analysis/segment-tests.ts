@@ -184,3 +184,26 @@ export function analyzeSegment(
     valueMdd,
   };
 }
+
+/**
+ * Why figures of a segment could not be computed, in plain words, each reason once, in the
+ * order of the figures. The comparisons an untested segment skips are left out:
+ * `untestedReason` already says why they are missing.
+ */
+export function statisticNotes(statistics: SegmentStatistics): string[] {
+  const compared = statistics.tested;
+  const outcomes: Array<Outcome<unknown>> = [
+    statistics.rate,
+    ...(compared ? [statistics.difference, statistics.lift, statistics.rateTest] : []),
+    statistics.valueMean,
+    ...(compared ? [statistics.valueComparison, statistics.hedgesG] : []),
+    statistics.rateMdd.increase,
+    statistics.rateMdd.decrease,
+    statistics.valueMdd,
+  ];
+  const notes: string[] = [];
+  for (const outcome of outcomes) {
+    if (!outcome.ok && !notes.includes(outcome.reason)) notes.push(outcome.reason);
+  }
+  return notes;
+}

@@ -16,7 +16,10 @@
  * Absence of evidence is never reported as evidence of absence (Altman & Bland 1995, BMJ 311,
  * 485 — from memory); the MDD rule follows the power conventions of Cohen (1988).
  */
-import type { Verdict } from '../shapes/index.js';
+import type { ReportDefinition } from '../definition/index.js';
+import type { SnapshotSegment, Verdict } from '../shapes/index.js';
+import { valueOrNull } from './outcome.js';
+import type { SegmentStatistics } from './segment-tests.js';
 
 export interface VerdictInput {
   tested: boolean;
@@ -46,4 +49,37 @@ export function decideVerdict(input: VerdictInput): Verdict {
   if (input.mddIncrease === null || input.mddDecrease === null) return 'inconclusive';
   if (input.difference.low > -input.mddDecrease && input.difference.high < input.mddIncrease) return 'no_detectable_difference';
   return 'inconclusive';
+}
+
+/**
+ * The verdict of one segment on the report's ranking metric, from its adjusted p-value and
+ * the minimum detectable differences of that metric.
+ */
+export function segmentVerdict(segment: SnapshotSegment, statistics: SegmentStatistics, definition: ReportDefinition): Verdict {
+  const alpha = 1 - definition.confidence;
+  if (definition.rank_by === 'conversion_rate') {
+    return decideVerdict({
+      tested: segment.tested,
+      difference:
+        segment.rate_diff === null || segment.rate_diff_ci_low === null || segment.rate_diff_ci_high === null
+          ? null
+          : { estimate: segment.rate_diff, low: segment.rate_diff_ci_low, high: segment.rate_diff_ci_high },
+      adjustedPValue: segment.rate_p_adjusted,
+      alpha,
+      mddIncrease: valueOrNull(statistics.rateMdd.increase),
+      mddDecrease: valueOrNull(statistics.rateMdd.decrease),
+    });
+  }
+  const mdd = valueOrNull(statistics.valueMdd);
+  return decideVerdict({
+    tested: segment.tested,
+    difference:
+      segment.value_diff === null || segment.value_diff_ci_low === null || segment.value_diff_ci_high === null
+        ? null
+        : { estimate: segment.value_diff, low: segment.value_diff_ci_low, high: segment.value_diff_ci_high },
+    adjustedPValue: segment.value_p_adjusted,
+    alpha,
+    mddIncrease: mdd,
+    mddDecrease: mdd,
+  });
 }

@@ -1,22 +1,19 @@
 /**
- * Snapshots: built purely from the aggregates (`buildSnapshot`), and made, stored and read
- * through the report service.
+ * Snapshots: built purely from the aggregates (`buildSnapshot`) with the profiles and
+ * population figures that go into them, and made, stored and read through the report service.
  */
-export { buildSnapshot, fingerprintOf, rankSegments, type PreviousWindow, type SnapshotIdentity, type SnapshotInput } from './build.js';
+export { buildSnapshot } from './build.js';
+export { fingerprintOf } from './fingerprint.js';
+export type { SnapshotIdentity, SnapshotInput } from './input.js';
 export {
   MAX_EXPANDED_VALUES,
   MAX_GRID_BINS,
-  ageGridAxis,
   ageValueGridAxes,
   ageValueGridCells,
   correlationFromSums,
   describeDistribution,
-  dimensionProfiles,
-  isExpandable,
   populationDescriptives,
   populationHistograms,
-  type ProfileInput,
-  type WeightedValue,
 } from './profiles.js';
 export {
   ReportNotFoundError,

@@ -19,7 +19,8 @@ import {
   type PopulationSource,
   type ValueDistributionScope,
 } from '../../segments/aggregate.js';
-import { buildSnapshot, type PreviousWindow } from './build.js';
+import type { PreviousWindow } from '../analysis/index.js';
+import { buildSnapshot } from './build.js';
 import { normalizeDefinition, type ReportDefinition } from '../definition/index.js';
 import { ageGridAxis, ageValueGridAxes, isExpandable } from './profiles.js';
 import * as repository from '../store/index.js';

@@ -11,18 +11,13 @@ export {
   formatRatio,
   formatSignedMoney,
 } from './format.js';
+export { comparisonNote, reportSummary, reversalSentence, snapshotCautions, type ReportSummaryInput } from './report-sentences.js';
 export {
-  CAUTIONS,
   JUMP_PLACES,
   LITTLE_DATA_MULTIPLE_OF_MIN_N,
   TOP_RANKS_WATCHED,
-  describeSegment,
   jumpedOnLittleData,
-  reportSummary,
-  reversalSentence,
   segmentSummary,
-  vocabulary,
-  type ReportSummaryInput,
   type SentenceContext,
-  type Vocabulary,
 } from './segment-sentences.js';
+export { describeSegment, vocabulary, type Vocabulary } from './vocabulary.js';

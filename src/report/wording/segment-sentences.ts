@@ -4,70 +4,11 @@
  * Sentences carry no number that is not a field (or a definition setting), so a reader can
  * always find the figure a sentence quotes.
  */
-import {
-  formatConfidence,
-  formatCount,
-  formatMoney,
-  formatPercent,
-  formatPoints,
-  formatPointsMagnitude,
-  formatPValue,
-  formatRank,
-  formatRatio,
-  formatSignedMoney,
-} from './format.js';
+import { formatConfidence, formatCount, formatPoints, formatPValue, formatRank, formatRatio, formatSignedMoney } from './format.js';
 import type { ReportDefinition } from '../definition/index.js';
-import type { Reversal, SnapshotSegment, Verdict } from '../shapes/index.js';
-
-/** The words for a report's unit, outcome and value. */
-export interface Vocabulary {
-  /** plural noun of the unit */
-  units: string;
-  /** the outcome rate */
-  rateName: string;
-  /** the value metric */
-  valueName: string;
-  /** plural noun of the units the value metric averages over */
-  valueUnits: string;
-}
-
-/**
- * The nouns of a report's sentences, from its source and value basis.
- * @example
- * vocabulary(definition).rateName; // 'conversion rate' for a campaign report
- */
-export function vocabulary(definition: ReportDefinition): Vocabulary {
-  const campaign = 'campaign_ids' in definition.source;
-  if (campaign) {
-    return {
-      units: 'contacted customers',
-      rateName: 'conversion rate',
-      valueName: definition.value_basis === 'per_unit' ? 'revenue per contacted customer' : 'revenue per converting customer',
-      valueUnits: definition.value_basis === 'per_unit' ? 'contacted customers' : 'converting customers',
-    };
-  }
-  return {
-    units: 'customers',
-    rateName: 'purchase rate',
-    valueName: definition.value_basis === 'per_unit' ? 'spend per customer' : 'spend per buying customer',
-    valueUnits: definition.value_basis === 'per_unit' ? 'customers' : 'buying customers',
-  };
-}
-
-/** Cautions every report shows, whatever its data (see DESIGN.md, "Cautions the product itself shows"). */
-export const CAUTIONS: readonly string[] = [
-  'Targeting or excluding people by age, sex or similar traits is restricted in some industries and places, among them housing, credit, employment and insurance advertising. Check local law and take advice from qualified counsel before acting on these segments.',
-  'Birth dates are personal data: keep only what this analysis needs, and erase a customer on request (DELETE /v1/customers/{customer_id} removes every row about them).',
-  'These comparisons describe the customers as recorded; a segment that does better is associated with the outcome, which does not show that targeting it will cause more of it.',
-  'Verdicts allow for the number of segments tested; the smallest detectable differences are those a comparison finds 80% of the time at the stated confidence.',
-];
-
-/** "region North", "age band 25-34 and channel web". */
-export function describeSegment(values: Record<string, string>): string {
-  return Object.entries(values)
-    .map(([dimension, value]) => `${dimension.replace(/_/g, ' ')} ${value}`)
-    .join(' and ');
-}
+import type { SnapshotSegment, Verdict } from '../shapes/index.js';
+import { metricView, type MetricView } from './metric-view.js';
+import { describeSegment, type Vocabulary } from './vocabulary.js';
 
 function capitalize(text: string): string {
   return text.charAt(0).toUpperCase() + text.slice(1);
@@ -81,62 +22,6 @@ export interface SentenceContext {
   /** whether a previous snapshot exists (for rank movement) */
   hasPreviousSnapshot: boolean;
 }
-
-/** The ranking metric of a segment, seen through one interface whichever metric it is. */
-interface MetricView {
-  name: string;
-  estimate: number | null;
-  low: number | null;
-  high: number | null;
-  rest: number | null;
-  difference: number | null;
-  differenceLow: number | null;
-  differenceHigh: number | null;
-  adjustedP: number | null;
-  mdd: number | null;
-  level(value: number): string;
-  signed(value: number): string;
-  magnitude(value: number): string;
-  unit: string;
-}
-
-function metricView(segment: SnapshotSegment, metric: ReportDefinition['rank_by'], words: Vocabulary): MetricView {
-  if (metric === 'conversion_rate') {
-    return {
-      name: words.rateName,
-      estimate: segment.conversion_rate,
-      low: segment.conversion_rate_ci_low,
-      high: segment.conversion_rate_ci_high,
-      rest: segment.rest.conversion_rate,
-      difference: segment.rate_diff,
-      differenceLow: segment.rate_diff_ci_low,
-      differenceHigh: segment.rate_diff_ci_high,
-      adjustedP: segment.rate_p_adjusted,
-      mdd: segment.min_detectable_diff,
-      level: formatPercent,
-      signed: formatPoints,
-      magnitude: formatPointsMagnitude,
-      unit: ' percentage points',
-    };
-  }
-  return {
-    name: words.valueName,
-    estimate: segment.value_mean,
-    low: segment.value_ci_low,
-    high: segment.value_ci_high,
-    rest: segment.rest.value_mean,
-    difference: segment.value_diff,
-    differenceLow: segment.value_diff_ci_low,
-    differenceHigh: segment.value_diff_ci_high,
-    adjustedP: segment.value_p_adjusted,
-    mdd: segment.min_detectable_diff,
-    level: formatMoney,
-    signed: formatSignedMoney,
-    magnitude: (value) => formatMoney(Math.abs(value)),
-    unit: '',
-  };
-}
-
 function levelWithInterval(view: MetricView, confidence: string): string {
   if (view.estimate === null) return `a ${view.name} that cannot be computed`;
   const interval = view.low !== null && view.high !== null ? ` (${confidence} CI ${view.level(view.low)} to ${view.level(view.high)})` : '';
@@ -298,77 +183,4 @@ function rankSentence(segment: SnapshotSegment, context: SentenceContext): strin
  */
 export function segmentSummary(segment: SnapshotSegment, context: SentenceContext): string {
   return `${mainSentence(segment, context)}${secondarySentence(segment, context)}${changeSentence(segment, context)}${rankSentence(segment, context)}`;
-}
-
-export interface ReportSummaryInput {
-  definition: ReportDefinition;
-  vocabulary: Vocabulary;
-  population: { n: number; conversion_rate: number | null; value_mean: number | null };
-  counts: Record<Verdict, number>;
-  /** tests of the ranking metric that could be computed */
-  familySize: number;
-  top: SnapshotSegment | null;
-  reversals: number;
-}
-
-const ADJUSTMENT_NAMES: Record<ReportDefinition['adjustment'], string> = {
-  bh: 'the Benjamini-Hochberg false discovery rate',
-  holm: "Holm's correction",
-  none: 'no correction for the number of tests',
-};
-
-/**
- * The short paragraph at the top of a report.
- * @example
- * reportSummary(input); // 'The population holds 12,400 contacted customers with a conversion rate of 11.2% …'
- */
-export function reportSummary(input: ReportSummaryInput): string {
-  const { definition, vocabulary: words, counts } = input;
-  if (input.population.n === 0) {
-    return `The population is empty: no ${words.units} match this report's source, so there is nothing to compare yet.`;
-  }
-  const confidence = formatConfidence(definition.confidence);
-  const metric = definition.rank_by === 'conversion_rate' ? words.rateName : words.valueName;
-  const overall =
-    definition.rank_by === 'conversion_rate'
-      ? input.population.conversion_rate === null
-        ? ''
-        : ` with a ${words.rateName} of ${formatPercent(input.population.conversion_rate)}`
-      : input.population.value_mean === null
-        ? ''
-        : ` with a ${words.valueName} of ${formatMoney(input.population.value_mean)}`;
-  const segments = counts.better + counts.worse + counts.no_detectable_difference + counts.inconclusive + counts.too_small;
-  const parts = [
-    `The population holds ${formatCount(input.population.n)} ${words.units}${overall}.`,
-    ` Of ${formatCount(segments)} segments, ${formatCount(input.familySize)} were tested against the rest on ${metric}, using ${ADJUSTMENT_NAMES[definition.adjustment]} at ${confidence} confidence:`,
-    ` ${formatCount(counts.better)} do better, ${formatCount(counts.worse)} do worse, ${formatCount(counts.no_detectable_difference)} show no detectable difference and ${formatCount(counts.inconclusive)} are inconclusive;`,
-    ` ${formatCount(counts.too_small)} have fewer than ${formatCount(definition.min_n)} ${words.units} (or leave fewer than that outside) and were not tested.`,
-  ];
-  if (input.top !== null && input.top.rank === 1) {
-    const view = metricView(input.top, definition.rank_by, words);
-    if (view.estimate !== null) {
-      parts.push(` First in the ranking is ${describeSegment(input.top.values)} with ${view.level(view.estimate)}${input.top.verdict === 'better' ? ', reliably above the rest' : ', though not reliably different from the rest'}.`);
-    }
-  }
-  if (input.reversals > 0) parts.push(' Some comparisons reverse within the levels of another dimension; see the reversal notes before reading the one-way segments alone.');
-  return parts.join('');
-}
-
-/**
- * A reversal (Simpson's paradox) in words: which way the overall comparison goes, and that
- * it goes the other way within every compared level of another dimension.
- * @example
- * reversalSentence(reversal, words, 'conversion_rate', 30);
- */
-export function reversalSentence(
-  reversal: Omit<Reversal, 'sentence'>,
-  words: Vocabulary,
-  metric: ReportDefinition['rank_by'],
-  minN: number,
-): string {
-  const level = metric === 'conversion_rate' ? formatPercent : formatMoney;
-  const name = metric === 'conversion_rate' ? words.rateName : words.valueName;
-  const dimension = reversal.dimension.replace(/_/g, ' ');
-  const within = reversal.within.replace(/_/g, ' ');
-  return `Overall, ${dimension} ${reversal.higher_overall} has a higher ${name} than ${dimension} ${reversal.lower_overall} (${level(reversal.higher_overall_metric)} against ${level(reversal.lower_overall_metric)}), but within each of the ${formatCount(reversal.levels_compared)} levels of ${within} where both have at least ${formatCount(minN)} ${words.units} it is the other way round. The overall order comes from how the two are spread over ${within} (Simpson's paradox): compare them within ${within}, not overall.`;
 }

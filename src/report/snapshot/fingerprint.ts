@@ -1,0 +1,33 @@
+/** The fingerprint of a snapshot's inputs, to tell whether two snapshots were computed from the same data. */
+import { createHash } from 'node:crypto';
+import { compareValueLists } from '../../segments/aggregate.js';
+import type { SnapshotInput } from './input.js';
+
+function sortedCounts<T extends { values: string[] }>(rows: readonly T[], tail: (row: T) => number | null): T[] {
+  return [...rows].sort((left, right) => compareValueLists(left.values, right.values) || (tail(left) ?? -1) - (tail(right) ?? -1));
+}
+
+/**
+ * A SHA-256 over everything the snapshot was computed from: the definition, the shifts and
+ * every cell aggregate and grouped count (sorted), and the previous window's cells. Equal data
+ * give an equal fingerprint on either database engine.
+ */
+export function fingerprintOf(input: SnapshotInput): string {
+  const hash = createHash('sha256');
+  hash.update(JSON.stringify({ definition: input.definition, shifts: input.shifts, arithmetic: input.arithmetic }));
+  for (const cell of input.cells) hash.update(JSON.stringify(cell));
+  for (const entry of sortedCounts(input.ageCounts, (row) => row.age)) hash.update(JSON.stringify(entry));
+  for (const entry of sortedCounts(input.valueCounts, (row) => row.valueCents)) hash.update(JSON.stringify(entry));
+  if (input.populationValueCounts) {
+    for (const entry of [...input.populationValueCounts].sort((left, right) => left.valueCents - right.valueCents)) hash.update(JSON.stringify(entry));
+  }
+  if (input.ageValueGrid) {
+    hash.update(JSON.stringify(input.ageValueGrid.axes));
+    for (const entry of [...input.ageValueGrid.counts].sort((left, right) => left.ageBin - right.ageBin || left.valueBin - right.valueBin)) hash.update(JSON.stringify(entry));
+  }
+  if (input.previousWindow) {
+    hash.update(JSON.stringify({ from: input.previousWindow.from, to: input.previousWindow.to, shifts: input.previousWindow.shifts }));
+    for (const cell of input.previousWindow.cells) hash.update(JSON.stringify(cell));
+  }
+  return hash.digest('hex');
+}

@@ -1,0 +1,43 @@
+/** What a snapshot is built from: the aggregates of the database and who the snapshot is. */
+import type {
+  AgeCount,
+  AgeValueBinCount,
+  AgeValueGridAxes,
+  CellAggregate,
+  PopulationValueCount,
+  Shifts,
+  SourceQuality,
+  ValueCount,
+} from '../../segments/aggregate.js';
+import type { PreviousWindow } from '../analysis/index.js';
+import type { ReportDefinition } from '../definition/index.js';
+import type { Snapshot } from '../shapes/index.js';
+
+export interface SnapshotIdentity {
+  snapshotId: string;
+  reportId: string;
+  reportName: string;
+  sequence: number;
+  createdAt: string;
+  trigger: Snapshot['trigger'];
+}
+export interface SnapshotInput {
+  identity: SnapshotIdentity;
+  definition: ReportDefinition;
+  shifts: Shifts;
+  arithmetic: 'exact' | 'floating';
+  cells: CellAggregate[];
+  ageCounts: AgeCount[];
+  valueCounts: ValueCount[];
+  /**
+   * Value counts over the whole population (`valueCountsOf(valueCountsByAgeBin(…))`), for its histogram and descriptives.
+   * Absent: the cell value counts are used when they cover every unit of the value metric.
+   */
+  populationValueCounts?: PopulationValueCount[];
+  /** Counts of the age × value grid (`gridCountsOf`) with the axes they were binned on; null or absent: no grid. */
+  ageValueGrid?: { axes: AgeValueGridAxes; counts: AgeValueBinCount[] } | null;
+  quality: SourceQuality;
+  /** sales reports: the window of the same length just before this one */
+  previousWindow: PreviousWindow | null;
+  previousSnapshot: Snapshot | null;
+}

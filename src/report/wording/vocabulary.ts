@@ -1,0 +1,43 @@
+/** The nouns a report's sentences use, and how a segment is named in them. */
+import type { ReportDefinition } from '../definition/index.js';
+
+/** The words for a report's unit, outcome and value. */
+export interface Vocabulary {
+  /** plural noun of the unit */
+  units: string;
+  /** the outcome rate */
+  rateName: string;
+  /** the value metric */
+  valueName: string;
+  /** plural noun of the units the value metric averages over */
+  valueUnits: string;
+}
+
+/**
+ * The nouns of a report's sentences, from its source and value basis.
+ * @example
+ * vocabulary(definition).rateName; // 'conversion rate' for a campaign report
+ */
+export function vocabulary(definition: ReportDefinition): Vocabulary {
+  const campaign = 'campaign_ids' in definition.source;
+  if (campaign) {
+    return {
+      units: 'contacted customers',
+      rateName: 'conversion rate',
+      valueName: definition.value_basis === 'per_unit' ? 'revenue per contacted customer' : 'revenue per converting customer',
+      valueUnits: definition.value_basis === 'per_unit' ? 'contacted customers' : 'converting customers',
+    };
+  }
+  return {
+    units: 'customers',
+    rateName: 'purchase rate',
+    valueName: definition.value_basis === 'per_unit' ? 'spend per customer' : 'spend per buying customer',
+    valueUnits: definition.value_basis === 'per_unit' ? 'customers' : 'buying customers',
+  };
+}
+/** "region North", "age band 25-34 and channel web". */
+export function describeSegment(values: Record<string, string>): string {
+  return Object.entries(values)
+    .map(([dimension, value]) => `${dimension.replace(/_/g, ' ')} ${value}`)
+    .join(' and ');
+}
