@@ -6,7 +6,7 @@
  * they existed) gets the descriptive figures in a table instead, and the page says which
  * charts are missing and why; nothing is drawn from data the snapshot does not hold.
  */
-import { formatCount, formatMoney, vocabulary } from '../report/wording/index.js';
+import { formatCoefficient, formatCount, formatMoney, formatYears, vocabulary } from '../report/wording/index.js';
 import type { Descriptives, Snapshot } from '../report/shapes/index.js';
 import { histogramChart, type HistogramData } from './charts/histogram.js';
 import { correlationSentence, scatterChart, type ScatterCell } from './charts/scatter.js';
@@ -90,7 +90,7 @@ function listInWords(items: readonly string[]): string {
 
 function descriptiveRow(name: string, figures: Descriptives, format: (value: number) => string): SafeHtml {
   const cell = (value: number | null) => (value === null ? '—' : format(value));
-  return html`<tr><th scope="row">${name}</th><td class="num">${formatCount(figures.n)}</td><td class="num">${cell(figures.mean)}</td><td class="num">${cell(figures.median)}</td><td class="num">${cell(figures.q1)}</td><td class="num">${cell(figures.q3)}</td><td class="num">${cell(figures.standard_deviation)}</td><td class="num">${figures.skewness === null ? '—' : figures.skewness.toFixed(2)}</td></tr>`;
+  return html`<tr><th scope="row">${name}</th><td class="num">${formatCount(figures.n)}</td><td class="num">${cell(figures.mean)}</td><td class="num">${cell(figures.median)}</td><td class="num">${cell(figures.q1)}</td><td class="num">${cell(figures.q3)}</td><td class="num">${cell(figures.standard_deviation)}</td><td class="num">${figures.skewness === null ? '—' : formatCoefficient(figures.skewness)}</td></tr>`;
 }
 
 /**
@@ -110,7 +110,7 @@ export function distributionFallback(snapshot: Snapshot): SafeHtml | '' {
 <h3>Distributions of age and value</h3>
 <p>This snapshot does not hold the binned counts that ${listInWords(missing)} would be drawn from, so ${missing.length === 1 ? 'that chart is' : 'those charts are'} left out rather than drawn from anything else. Its descriptive figures:</p>
 <div class="table-wrap"><table class="segments"><thead><tr><th scope="col"></th><th scope="col" class="num">n</th><th scope="col" class="num">mean</th><th scope="col" class="num">median</th><th scope="col" class="num">lower quartile</th><th scope="col" class="num">upper quartile</th><th scope="col" class="num">standard deviation</th><th scope="col" class="num">skewness</th></tr></thead>
-<tbody>${descriptiveRow('age (years)', population.age_descriptives, (value) => value.toFixed(1))}${descriptiveRow(words.valueName, population.value_descriptives, formatMoney)}</tbody></table></div>
+<tbody>${descriptiveRow('age (years)', population.age_descriptives, formatYears)}${descriptiveRow(words.valueName, population.value_descriptives, formatMoney)}</tbody></table></div>
 <p>Age and ${words.valueName}: ${correlationSentence(population.age_value_correlation, snapshot.definition.confidence)}</p>
 </div>`;
 }

@@ -5,7 +5,7 @@
  * sorting moves the two together. Each cell carries a plain sort key, so the page's script
  * sorts without parsing formatted text.
  */
-import { formatCount, formatMoney, formatPercent, formatPoints, formatPValue, formatRatio, formatSignedMoney } from '../report/wording/index.js';
+import { formatCount, formatMoney, formatPercent, formatPoints, formatPValue, formatRank, formatRatio, formatSignedMoney } from '../report/wording/index.js';
 import type { Snapshot, SnapshotSegment } from '../report/shapes/index.js';
 import { html, joinHtml, type SafeHtml } from './html.js';
 import { VERDICT_STYLES } from './verdicts.js';
@@ -33,7 +33,7 @@ function withInterval(estimate: number | null, low: number | null, high: number 
 }
 
 const COLUMNS: readonly Column[] = [
-  { heading: 'Rank', type: 'number', numeric: true, cell: (segment) => ({ text: segment.rank === null ? '—' : String(segment.rank), sortKey: keyOf(segment.rank) }) },
+  { heading: 'Rank', type: 'number', numeric: true, cell: (segment) => ({ text: segment.rank === null ? '—' : formatRank(segment.rank), sortKey: keyOf(segment.rank) }) },
   {
     heading: 'Segment',
     type: 'text',

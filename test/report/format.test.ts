@@ -1,5 +1,6 @@
 import { describe, expect, test } from 'vitest';
 import {
+  formatCoefficient,
   formatConfidence,
   formatCount,
   formatMoney,
@@ -9,6 +10,7 @@ import {
   formatPValue,
   formatRatio,
   formatSignedMoney,
+  formatYears,
 } from '../../src/report/wording/index.js';
 
 describe('the number formatter of sentences', () => {
@@ -49,5 +51,13 @@ describe('the number formatter of sentences', () => {
     expect(formatConfidence(0.95)).toBe('95%');
     expect(formatConfidence(0.975)).toBe('97.5%');
     expect(formatConfidence(0.9)).toBe('90%');
+  });
+
+  test('ages have one decimal; coefficients two, keeping the sign of one that rounds to zero', () => {
+    expect(formatYears(41.26)).toBe('41.3');
+    expect(formatYears(0)).toBe('0.0');
+    expect(formatCoefficient(0.1234)).toBe('0.12');
+    expect(formatCoefficient(-0.456)).toBe('-0.46');
+    expect(formatCoefficient(-0.004)).toBe('-0.00');
   });
 });

@@ -88,6 +88,27 @@ export function formatRatio(ratio: number): string {
 }
 
 /**
+ * An age, or a spread of ages, in years with one decimal.
+ * @example
+ * formatYears(41.26); // '41.3'
+ */
+export function formatYears(years: number): string {
+  return grouped(fixed(years, 1));
+}
+
+/**
+ * A coefficient (a correlation, a skewness) with two decimals. Unlike a difference, a
+ * coefficient that rounds to zero keeps its sign: -0.00 still tells which way a tiny
+ * association or asymmetry goes.
+ * @example
+ * formatCoefficient(0.1234); // '0.12'
+ * formatCoefficient(-0.004); // '-0.00'
+ */
+export function formatCoefficient(coefficient: number): string {
+  return coefficient.toFixed(2);
+}
+
+/**
  * A p-value with two significant digits, or `< 0.001` below that.
  * @example
  * formatPValue(0.03456); // '0.035'

@@ -1,5 +1,6 @@
 /** Every sentence of a report, and the one formatter of the numbers in them. */
 export {
+  formatCoefficient,
   formatConfidence,
   formatCount,
   formatMoney,
@@ -10,6 +11,7 @@ export {
   formatRank,
   formatRatio,
   formatSignedMoney,
+  formatYears,
 } from './format.js';
 export { comparisonNote, reportSummary, reversalSentence, snapshotCautions, type ReportSummaryInput } from './report-sentences.js';
 export {

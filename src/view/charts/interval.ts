@@ -4,7 +4,7 @@
  * word and colour, and the segment's n beside it.
  */
 import type { TopLevelSpec } from 'vega-lite';
-import { formatCount, formatPValue } from '../../report/wording/index.js';
+import { formatCount, formatPValue, formatRank } from '../../report/wording/index.js';
 import type { Snapshot, Verdict } from '../../report/shapes/index.js';
 import type { ChartFigure } from '../figure.js';
 import { html } from '../html.js';
@@ -187,7 +187,7 @@ export async function intervalChart(snapshot: Snapshot): Promise<ChartFigure> {
         const adjustedP = segment ? (definition.rank_by === 'conversion_rate' ? segment.rate_p_adjusted : segment.value_p_adjusted) : null;
         const text = (value: number | null) => (value === null ? 'not computed' : metric.difference(value));
         return [
-          String(row.rank),
+          formatRank(row.rank),
           row.segment,
           formatCount(row.n),
           text(difference.estimate),

@@ -5,7 +5,7 @@
  * its Fisher-z interval from the snapshot.
  */
 import type { TopLevelSpec } from 'vega-lite';
-import { formatConfidence, formatCount, formatPValue } from '../../report/wording/index.js';
+import { formatCoefficient, formatConfidence, formatCount, formatPValue } from '../../report/wording/index.js';
 import type { Correlation } from '../../report/shapes/index.js';
 import type { ChartFigure } from '../figure.js';
 import { html } from '../html.js';
@@ -31,9 +31,9 @@ export interface ScatterSubject {
 export function correlationSentence(correlation: Correlation, confidence: number): string {
   if (correlation.r === null) return `The correlation is not computed: ${correlation.note ?? 'no reason was recorded'}`;
   const interval =
-    correlation.ci_low !== null && correlation.ci_high !== null ? ` (${formatConfidence(confidence)} CI ${correlation.ci_low.toFixed(2)} to ${correlation.ci_high.toFixed(2)}, Fisher z)` : '';
+    correlation.ci_low !== null && correlation.ci_high !== null ? ` (${formatConfidence(confidence)} CI ${formatCoefficient(correlation.ci_low)} to ${formatCoefficient(correlation.ci_high)}, Fisher z)` : '';
   const test = correlation.p_value === null ? '' : `, p ${correlation.p_value < 0.001 ? '' : '= '}${formatPValue(correlation.p_value)}`;
-  return `Pearson's r = ${correlation.r.toFixed(2)}${interval}${test}, over ${formatCount(correlation.n)} units with both an age and a value.`;
+  return `Pearson's r = ${formatCoefficient(correlation.r)}${interval}${test}, over ${formatCount(correlation.n)} units with both an age and a value.`;
 }
 
 export function scatterSpec(cells: readonly ScatterCell[], subject: ScatterSubject): TopLevelSpec {
