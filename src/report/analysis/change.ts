@@ -13,7 +13,7 @@ import { segmentLabel } from './segment-row.js';
 import { valueSummary } from './segment-tests.js';
 
 /** The counts and value summary of one segment at the earlier time. */
-export interface PreviousFigures {
+interface PreviousFigures {
   n: number;
   conversions: number;
   value: Summary;

@@ -3,11 +3,9 @@
  * population figures that go into them, and made, stored and read through the report service.
  */
 export { buildSnapshot } from './build.js';
-export { fingerprintOf } from './fingerprint.js';
-export type { SnapshotIdentity, SnapshotInput } from './input.js';
+export type { SnapshotInput } from './input.js';
 export {
   MAX_EXPANDED_VALUES,
-  MAX_GRID_BINS,
   ageValueGridAxes,
   ageValueGridCells,
   correlationFromSums,
@@ -22,11 +20,8 @@ export {
   getSnapshotBody,
   listReports,
   listSnapshots,
-  precedingWindow,
   refreshReport,
   reportDependencies,
   segmentTable,
-  valueDistributionScope,
   type ReportDependencies,
-  type ReportResource,
 } from './service.js';

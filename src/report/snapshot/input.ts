@@ -13,7 +13,7 @@ import type { PreviousWindow } from '../analysis/index.js';
 import type { ReportDefinition } from '../definition/index.js';
 import type { Snapshot } from '../shapes/index.js';
 
-export interface SnapshotIdentity {
+interface SnapshotIdentity {
   snapshotId: string;
   reportId: string;
   reportName: string;
@@ -21,6 +21,7 @@ export interface SnapshotIdentity {
   createdAt: string;
   trigger: Snapshot['trigger'];
 }
+
 export interface SnapshotInput {
   identity: SnapshotIdentity;
   definition: ReportDefinition;

@@ -1,4 +1,7 @@
-/** The figures of the population as a whole: its rate and value with intervals, its descriptives and histograms, and the quality of its data. */
+/**
+ * The figures of the population as a whole: its rate and value with intervals, its
+ * descriptives and histograms, and the quality of its data.
+ */
 import { tInterval, wilsonInterval } from '../../stats/index.js';
 import type { PopulationValueCount } from '../../segments/aggregate.js';
 import type { GroupStats } from '../../segments/rollup.js';

@@ -13,6 +13,4 @@ export {
   missingAttributes,
   missingCampaigns,
   nextSnapshotSequence,
-  type Executor,
-  type SnapshotMeta,
 } from './repository.js';

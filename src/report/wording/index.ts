@@ -13,13 +13,6 @@ export {
   formatSignedMoney,
   formatYears,
 } from './format.js';
-export { comparisonNote, reportSummary, reversalSentence, snapshotCautions, type ReportSummaryInput } from './report-sentences.js';
-export {
-  JUMP_PLACES,
-  LITTLE_DATA_MULTIPLE_OF_MIN_N,
-  TOP_RANKS_WATCHED,
-  jumpedOnLittleData,
-  segmentSummary,
-  type SentenceContext,
-} from './segment-sentences.js';
-export { describeSegment, vocabulary, type Vocabulary } from './vocabulary.js';
+export { comparisonNote, reportSummary, reversalSentence, snapshotCautions } from './report-sentences.js';
+export { segmentSummary, type SentenceContext } from './segment-sentences.js';
+export { describeSegment, vocabulary } from './vocabulary.js';
