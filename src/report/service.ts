@@ -25,6 +25,7 @@ import { ageGridAxis, ageValueGridAxes, isExpandable } from './descriptives.js';
 import * as repository from './repository.js';
 import { renderSegmentTable, type RenderedTable, type SegmentTableCache, type TableFormat } from './segment-table.js';
 import type { Snapshot } from './rows.js';
+import type { Report } from './schemas.js';
 
 export interface ReportDependencies {
   dialect: Dialect;
@@ -42,11 +43,7 @@ export function reportDependencies(database: DatabaseHandle, logger: Logger, now
 }
 
 /** A saved report as the API returns it: its definition, id, creation time and latest snapshot. */
-export interface ReportResource extends ReportDefinition {
-  report_id: string;
-  created_at: string;
-  latest_snapshot: { snapshot_id: string; sequence: number; created_at: string } | null;
-}
+export type ReportResource = Report;
 
 export class ReportNotFoundError extends Error {
   override name = 'ReportNotFoundError';
