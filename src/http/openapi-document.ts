@@ -23,7 +23,7 @@ import {
 import { Report, ReportList, SegmentTable, SnapshotList, SnapshotMeta } from '../report/schemas.js';
 import { Health, Receipt, RejectedRowsPage } from './schemas.js';
 
-export const OPENAPI_SOURCE_PATH = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../../openapi/source.yaml');
+const OPENAPI_SOURCE_PATH = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../../openapi/source.yaml');
 
 /** The generated components, by name, in the order they are written. */
 const COMPONENTS: Record<string, object> = {

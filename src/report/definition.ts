@@ -35,12 +35,12 @@ const CHOICES = {
 
 const SOURCE_HINT = 'give either {"campaign_ids": ["…"]} or {"sales_from": "YYYY-MM-DD", "sales_to": "YYYY-MM-DD"}';
 
-export const CampaignSource = Type.Object(
+const CampaignSource = Type.Object(
   { campaign_ids: Type.Array(Type.String(), CAMPAIGN_IDS) },
   { additionalProperties: false },
 );
 
-export const SalesWindow = Type.Object(
+const SalesWindow = Type.Object(
   {
     sales_from: Type.String({ format: 'date', description: 'first day of the window' }),
     sales_to: Type.String({ format: 'date', description: 'last day of the window' }),
