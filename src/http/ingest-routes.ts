@@ -10,7 +10,7 @@ import { formatFromContentType } from '../ingest/parse.js';
 import * as repository from '../ingest/repository.js';
 import { ingestUpload, toReceipt, type IngestDependencies } from '../ingest/service.js';
 import { Problem } from './problems.js';
-import { receiptSchema, rejectedRowsPageSchema } from './schemas.js';
+import { Receipt, RejectedRowsPage } from './schemas.js';
 
 const uploadQuerySchema = {
   type: 'object',
@@ -68,7 +68,7 @@ export function ingestRoutes(deps: IngestDependencies) {
       );
     };
 
-    const uploadResponses = { 200: receiptSchema, 201: receiptSchema };
+    const uploadResponses = { 200: Receipt, 201: Receipt };
 
     app.post('/v1/customers', { schema: { querystring: uploadQuerySchema, response: uploadResponses } }, async (request, reply) => {
       const { receipt, replayed } = await upload(request, 'customers', null);
@@ -100,7 +100,7 @@ export function ingestRoutes(deps: IngestDependencies) {
 
     app.get(
       '/v1/ingests/:ingest_id',
-      { schema: { params: { type: 'object', properties: { ingest_id: { type: 'string' } }, required: ['ingest_id'] }, response: { 200: receiptSchema } } },
+      { schema: { params: { type: 'object', properties: { ingest_id: { type: 'string' } }, required: ['ingest_id'] }, response: { 200: Receipt } } },
       async (request) => {
         const { ingest_id: ingestId } = request.params as { ingest_id: string };
         const stored = await findIngestById(ingestId);
@@ -119,7 +119,7 @@ export function ingestRoutes(deps: IngestDependencies) {
             properties: { limit: { type: 'integer', minimum: 1, maximum: 10_000, default: 1000 }, offset: { type: 'integer', minimum: 0, default: 0 } },
             additionalProperties: false,
           },
-          response: { 200: rejectedRowsPageSchema },
+          response: { 200: RejectedRowsPage },
         },
       },
       async (request) => {

@@ -15,7 +15,7 @@ import { TREND_SNAPSHOTS } from '../view/charts/trend.js';
 import type { ChartFigure } from '../view/figure.js';
 import { renderReportPage, reportCharts } from '../view/page.js';
 import { Problem } from './problems.js';
-import { reportIdParams } from './schemas.js';
+import { ReportIdParams } from './schemas.js';
 
 export interface PageRouteDependencies {
   config: Config;
@@ -63,7 +63,7 @@ export function pageRoutes(routeDeps: PageRouteDependencies) {
 
     app.get(
       '/reports/:report_id',
-      { schema: { params: reportIdParams, querystring: pageQuery }, helmet: { enableCSPNonces: true } },
+      { schema: { params: ReportIdParams, querystring: pageQuery }, helmet: { enableCSPNonces: true } },
       async (request, reply) => {
         const { report_id: reportId } = request.params as { report_id: string };
         const { snapshot: snapshotId } = request.query as { snapshot: string };

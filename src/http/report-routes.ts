@@ -9,7 +9,7 @@ import type { DatabaseHandle } from '../db/connect.js';
 import type { Logger } from '../logger.js';
 import { InvalidDefinitionError } from '../report/definition/index.js';
 import { SegmentTableCache, entityTag, type TableFormat } from '../present/index.js';
-import { reportListSchema, reportSchema, snapshotListSchema } from '../report/schemas.js';
+import { Report, ReportList, SnapshotList } from '../report/shapes/index.js';
 import {
   segmentTable,
   ReportNotFoundError,
@@ -23,7 +23,7 @@ import {
 } from '../report/snapshot/index.js';
 import { startRefreshSchedule, type RefreshSchedule } from '../schedule/weekly.js';
 import { Problem } from './problems.js';
-import { reportIdParams } from './schemas.js';
+import { ReportIdParams, SnapshotParams } from './schemas.js';
 
 export interface ReportRouteDependencies {
   config: Config;
@@ -31,12 +31,6 @@ export interface ReportRouteDependencies {
   logger: Logger;
   now: () => Date;
 }
-
-const snapshotParams = {
-  type: 'object',
-  required: ['report_id', 'snapshot_id'],
-  properties: { report_id: { type: 'string', minLength: 1, maxLength: 200 }, snapshot_id: { type: 'string', minLength: 1, maxLength: 200 } },
-} as const;
 
 /** Domain errors of the report service as problem details. */
 function asProblem(error: unknown): unknown {
@@ -123,19 +117,22 @@ export function reportRoutes(routeDeps: ReportRouteDependencies) {
       }
     };
 
-    app.post('/v1/reports', { preValidation: requireJson, schema: { body: { type: 'object' }, response: { 201: reportSchema } } }, async (request, reply) => {
+    // The body is checked against the definition's declaration (ReportDefinitionBody) by
+    // normalizeDefinition, in the same pass as the checks that compare fields or need stored
+    // data, so one answer lists every problem of a definition with the reasons its fields state.
+    app.post('/v1/reports', { preValidation: requireJson, schema: { body: { type: 'object' }, response: { 201: Report } } }, async (request, reply) => {
       const report = await handle(() => createReport({ ...deps, logger: request.log }, request.body));
       return reply.code(201).header('location', `/v1/reports/${report.report_id}`).send(report);
     });
 
-    app.get('/v1/reports', { schema: { response: { 200: reportListSchema } } }, async () => ({ reports: await listReports(deps) }));
+    app.get('/v1/reports', { schema: { response: { 200: ReportList } } }, async () => ({ reports: await listReports(deps) }));
 
-    app.get('/v1/reports/:report_id', { schema: { params: reportIdParams, response: { 200: reportSchema } } }, async (request) => {
+    app.get('/v1/reports/:report_id', { schema: { params: ReportIdParams, response: { 200: Report } } }, async (request) => {
       const { report_id: reportId } = request.params as { report_id: string };
       return handle(() => getReport(deps, reportId));
     });
 
-    app.post('/v1/reports/:report_id/refresh', { schema: { params: reportIdParams } }, async (request, reply) => {
+    app.post('/v1/reports/:report_id/refresh', { schema: { params: ReportIdParams } }, async (request, reply) => {
       const { report_id: reportId } = request.params as { report_id: string };
       const snapshot = await handle(() => refreshReport({ ...deps, logger: request.log }, reportId, 'manual'));
       return reply
@@ -149,13 +146,13 @@ export function reportRoutes(routeDeps: ReportRouteDependencies) {
       '/v1/reports/:report_id/snapshots',
       {
         schema: {
-          params: reportIdParams,
+          params: ReportIdParams,
           querystring: {
             type: 'object',
             additionalProperties: false,
             properties: { limit: { type: 'integer', minimum: 1, maximum: 1000, default: 100 }, offset: { type: 'integer', minimum: 0, default: 0 } },
           },
-          response: { 200: snapshotListSchema },
+          response: { 200: SnapshotList },
         },
       },
       async (request) => {
@@ -165,7 +162,7 @@ export function reportRoutes(routeDeps: ReportRouteDependencies) {
       },
     );
 
-    app.get('/v1/reports/:report_id/snapshots/:snapshot_id', { schema: { params: snapshotParams } }, async (request, reply) => {
+    app.get('/v1/reports/:report_id/snapshots/:snapshot_id', { schema: { params: SnapshotParams } }, async (request, reply) => {
       const { report_id: reportId, snapshot_id: snapshotId } = request.params as { report_id: string; snapshot_id: string };
       const body = await handle(() => getSnapshotBody(deps, reportId, snapshotId));
       if (body === undefined) {
@@ -178,7 +175,7 @@ export function reportRoutes(routeDeps: ReportRouteDependencies) {
       '/v1/reports/:report_id/segments',
       {
         schema: {
-          params: reportIdParams,
+          params: ReportIdParams,
           querystring: {
             type: 'object',
             additionalProperties: false,

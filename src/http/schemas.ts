@@ -1,60 +1,68 @@
-/** Response schemas shared by routes; fastify serializes through them, so no field leaks out unlisted. */
+/**
+ * Response bodies and path parameters shared by routes, declared once: fastify validates and
+ * serializes through them (so no field leaks out unlisted) and the OpenAPI components are
+ * generated from them.
+ */
+import { Type, type Static } from 'typebox';
+import type { Receipt as StoredReceipt } from '../ingest/service.js';
 
-export const receiptSchema = {
-  type: 'object',
-  required: ['ingest_id', 'kind', 'campaign_id', 'on_error', 'rows', 'inserted', 'updated', 'unchanged', 'rejected', 'sha256', 'received_at', 'duration_ms'],
-  properties: {
-    ingest_id: { type: 'string' },
-    kind: { type: 'string', enum: ['customers', 'sales', 'contacts'] },
-    campaign_id: { type: ['string', 'null'] },
-    on_error: { type: 'string', enum: ['reject', 'skip'] },
-    content_type: { type: 'string' },
-    rows: { type: 'integer' },
-    inserted: { type: 'integer' },
-    updated: { type: 'integer' },
-    unchanged: { type: 'integer' },
-    rejected: { type: 'integer' },
-    sha256: { type: 'string' },
-    idempotency_key: { type: ['string', 'null'] },
-    received_at: { type: 'string' },
-    duration_ms: { type: 'integer' },
+const count = (description?: string) => Type.Integer({ minimum: 0, ...(description === undefined ? {} : { description }) });
+
+/** What an upload answers, and what `GET /v1/ingests/{id}` answers later. */
+export const Receipt = Type.Object(
+  {
+    ingest_id: Type.String(),
+    kind: Type.Unsafe<'customers' | 'sales' | 'contacts'>({ type: 'string', enum: ['customers', 'sales', 'contacts'] }),
+    campaign_id: Type.Union([Type.String(), Type.Null()]),
+    on_error: Type.Unsafe<'reject' | 'skip'>({ type: 'string', enum: ['reject', 'skip'] }),
+    content_type: Type.Optional(Type.String()),
+    rows: count('Data rows received.'),
+    inserted: count(),
+    updated: count(),
+    unchanged: count('Rows whose key was already stored with the same values.'),
+    rejected: count(),
+    sha256: Type.String({ pattern: '^[0-9a-f]{64}$', description: 'SHA-256 of the request body as received.' }),
+    idempotency_key: Type.Optional(Type.Union([Type.String(), Type.Null()])),
+    received_at: Type.String({ format: 'date-time' }),
+    duration_ms: count(),
   },
-} as const;
+  { additionalProperties: false },
+);
 
-export const rejectedRowsPageSchema = {
-  type: 'object',
-  required: ['ingest_id', 'total', 'limit', 'offset', 'rows'],
-  properties: {
-    ingest_id: { type: 'string' },
-    total: { type: 'integer' },
-    limit: { type: 'integer' },
-    offset: { type: 'integer' },
-    rows: {
-      type: 'array',
-      items: {
-        type: 'object',
-        required: ['row', 'line', 'column', 'value', 'reason'],
-        properties: {
-          row: { type: 'integer' },
-          line: { type: 'integer' },
-          column: { type: ['string', 'null'] },
-          value: { type: ['string', 'null'] },
-          reason: { type: 'string' },
+// The ingest service builds receipts without knowing HTTP; this keeps its type inside the declaration.
+const _storedReceiptIsDeclared: StoredReceipt extends Static<typeof Receipt> ? true : never = true;
+
+/** One page of the rows an upload with `on_error=skip` left out. */
+export const RejectedRowsPage = Type.Object(
+  {
+    ingest_id: Type.String(),
+    total: Type.Integer({ description: 'Rejected rows of the upload in all.' }),
+    limit: Type.Integer(),
+    offset: Type.Integer(),
+    rows: Type.Array(
+      Type.Object(
+        {
+          row: Type.Integer({ description: '1-based data row (the CSV header is not a row).' }),
+          line: Type.Integer({ description: '1-based line of the upload where the row starts.' }),
+          column: Type.Union([Type.String(), Type.Null()]),
+          value: Type.Union([Type.String(), Type.Null()]),
+          reason: Type.String(),
         },
-      },
-    },
+        { additionalProperties: false },
+      ),
+    ),
   },
-} as const;
+  { additionalProperties: false },
+);
 
-export const healthSchema = {
-  type: 'object',
-  required: ['status', 'database'],
-  properties: { status: { type: 'string', enum: ['ok', 'unavailable'] }, database: { type: 'string' } },
-} as const;
+export const Health = Type.Object({
+  status: Type.Unsafe<'ok' | 'unavailable'>({ type: 'string', enum: ['ok', 'unavailable'] }),
+  database: Type.String(),
+});
+
+const resourceId = () => Type.String({ minLength: 1, maxLength: 200 });
 
 /** Path parameters of every route under /v1/reports/:report_id and /reports/:report_id. */
-export const reportIdParams = {
-  type: 'object',
-  required: ['report_id'],
-  properties: { report_id: { type: 'string', minLength: 1, maxLength: 200 } },
-} as const;
+export const ReportIdParams = Type.Object({ report_id: resourceId() });
+
+export const SnapshotParams = Type.Object({ report_id: resourceId(), snapshot_id: resourceId() });

@@ -1,69 +1,92 @@
 /**
- * Report definitions: the fields a client sends, their defaults, and the checks that turn a
- * request body into a normalized definition. Checks that need no database run here; the
- * ones that do (does the campaign exist, is the attribute stored) are asked of a lookup the
- * caller passes in, so this module stays free of SQL.
+ * Report definitions: the one declaration of the fields a client sends (with their defaults,
+ * bounds and choices), and the reading that turns a request body into a normalized definition.
+ * The declaration checks each field on its own; what it cannot say (a field compared with
+ * another, text trimmed before it is judged, whether a campaign or attribute is stored) is
+ * checked here in code, the stored data through a lookup the caller passes in, so this module
+ * stays free of SQL. Every problem of a body is reported at once.
  */
+import { Ajv2020, type ErrorObject } from 'ajv/dist/2020.js';
+import { Type, type Static } from 'typebox';
 import { readDate, readIdentifier } from '../../ingest/fields.js';
 import { BUILT_IN_DIMENSIONS, MAX_PLAUSIBLE_AGE, MIN_PLAUSIBLE_AGE, isAttributeName } from '../../segments/dimensions.js';
 
-export type ReportSource = { campaign_ids: string[] } | { sales_from: string; sales_to: string };
-export type Adjustment = 'bh' | 'holm' | 'none';
-export type ValueBasis = 'per_unit' | 'per_conversion';
-export type RankBy = 'conversion_rate' | 'value';
-export type RankOrder = 'lower_bound' | 'estimate';
-export type RefreshMode = 'weekly' | 'manual';
+/** Bounds, defaults and choices of the fields: the schema is made of them and the reasons quote them. */
+const NAME = { minLength: 1, maxLength: 200, description: 'a short text naming the report' } as const;
+const CAMPAIGN_IDS = { minItems: 1, maxItems: 100, description: 'the campaigns whose contacts are the population' } as const;
+const DIMENSIONS = {
+  // More dimensions multiply the finest cells (and the crosses grow with the square); six
+  // keeps a report readable and its one aggregation query small.
+  minItems: 1,
+  maxItems: 6,
+  default: ['age_band', 'region', 'channel'],
+  description: `built-in dimensions (${BUILT_IN_DIMENSIONS.join(', ')}) or names of uploaded extra customer columns`,
+} as const;
+const AGE_BANDS = { minItems: 1, maxItems: 20, default: [18, 25, 35, 45, 55, 65], description: 'increasing lower band edges in years' } as const;
+const MIN_N = { minimum: 2, maximum: 1_000_000, default: 30, description: 'segments (and rests) smaller than this are not tested' } as const;
+const CONFIDENCE = { exclusiveMinimum: 0, exclusiveMaximum: 1, default: 0.95 } as const;
+const CHOICES = {
+  adjustment: { enum: ['bh', 'holm', 'none'], default: 'bh', description: 'multiplicity adjustment of the p-values' },
+  value_basis: { enum: ['per_unit', 'per_conversion'], default: 'per_unit' },
+  rank_by: { enum: ['conversion_rate', 'value'], default: 'conversion_rate' },
+  rank_order: { enum: ['lower_bound', 'estimate'], default: 'lower_bound' },
+  refresh: { enum: ['weekly', 'manual'], default: 'manual' },
+} as const;
 
-/** A definition with every default filled in; this is what is stored and what a snapshot records. */
-export interface ReportDefinition {
-  name: string;
-  source: ReportSource;
-  dimensions: string[];
-  crosses: Array<[string, string]>;
-  age_bands: number[];
-  min_n: number;
-  confidence: number;
-  adjustment: Adjustment;
-  value_basis: ValueBasis;
-  rank_by: RankBy;
-  rank_order: RankOrder;
-  refresh: RefreshMode;
-}
+const SOURCE_HINT = 'give either {"campaign_ids": ["…"]} or {"sales_from": "YYYY-MM-DD", "sales_to": "YYYY-MM-DD"}';
 
-export const DEFINITION_FIELDS = [
-  'name',
-  'source',
-  'dimensions',
-  'crosses',
-  'age_bands',
-  'min_n',
-  'confidence',
-  'adjustment',
-  'value_basis',
-  'rank_by',
-  'rank_order',
-  'refresh',
-] as const;
+const CampaignSource = Type.Object(
+  { campaign_ids: Type.Array(Type.String(), CAMPAIGN_IDS) },
+  { additionalProperties: false },
+);
 
-export const DEFAULT_DIMENSIONS = ['age_band', 'region', 'channel'] as const;
-export const DEFAULT_AGE_BANDS = [18, 25, 35, 45, 55, 65] as const;
-export const DEFAULT_MIN_N = 30;
-export const DEFAULT_CONFIDENCE = 0.95;
-export const ADJUSTMENTS: readonly Adjustment[] = ['bh', 'holm', 'none'];
-export const VALUE_BASES: readonly ValueBasis[] = ['per_unit', 'per_conversion'];
-export const RANK_BY: readonly RankBy[] = ['conversion_rate', 'value'];
-export const RANK_ORDERS: readonly RankOrder[] = ['lower_bound', 'estimate'];
-export const REFRESH_MODES: readonly RefreshMode[] = ['weekly', 'manual'];
+const SalesWindow = Type.Object(
+  {
+    sales_from: Type.String({ format: 'date', description: 'first day of the window' }),
+    sales_to: Type.String({ format: 'date', description: 'last day of the window' }),
+  },
+  { additionalProperties: false },
+);
+
+export const ReportSource = Type.Union([CampaignSource, SalesWindow], { description: SOURCE_HINT });
+export type ReportSource = Static<typeof ReportSource>;
+
+/** Two dimensions crossed into two-way segments, stored in the order of the dimensions list. */
+const DimensionPair = Type.Unsafe<[string, string]>(Type.Array(Type.String(), { minItems: 2, maxItems: 2 }));
+
+const choice = <const Choice extends { enum: readonly string[] }>(options: Choice) => Type.Unsafe<Choice['enum'][number]>({ type: 'string', ...options });
 
 /**
- * More dimensions multiply the finest cells (and the crosses grow with the square); six keeps
- * a report readable and its one aggregation query small.
+ * The body of `POST /v1/reports`: every field but `name` and `source` may be left out and
+ * gets its default (`crosses` defaults to every pair of the dimensions).
  */
-export const MAX_DIMENSIONS = 6;
-export const MAX_CAMPAIGNS = 100;
-export const MAX_AGE_BANDS = 20;
-export const MAX_NAME_LENGTH = 200;
-export const MAX_MIN_N = 1_000_000;
+export const ReportDefinitionBody = Type.Object(
+  {
+    name: Type.String(NAME),
+    source: ReportSource,
+    dimensions: Type.Optional(Type.Array(Type.String(), DIMENSIONS)),
+    crosses: Type.Optional(Type.Array(DimensionPair, { description: 'pairs of the dimensions for two-way segments; every pair when left out, [] for none' })),
+    age_bands: Type.Optional(Type.Array(Type.Integer({ minimum: MIN_PLAUSIBLE_AGE, maximum: MAX_PLAUSIBLE_AGE }), AGE_BANDS)),
+    min_n: Type.Optional(Type.Integer(MIN_N)),
+    confidence: Type.Optional(Type.Number(CONFIDENCE)),
+    adjustment: Type.Optional(choice(CHOICES.adjustment)),
+    value_basis: Type.Optional(choice(CHOICES.value_basis)),
+    rank_by: Type.Optional(choice(CHOICES.rank_by)),
+    rank_order: Type.Optional(choice(CHOICES.rank_order)),
+    refresh: Type.Optional(choice(CHOICES.refresh)),
+  },
+  { additionalProperties: false },
+);
+
+/** A definition with every default filled in; this is what is stored and what a snapshot records. */
+export const ReportDefinition = Type.Required(ReportDefinitionBody);
+export type ReportDefinition = Static<typeof ReportDefinition>;
+
+export type Adjustment = ReportDefinition['adjustment'];
+export type ValueBasis = ReportDefinition['value_basis'];
+export type RankBy = ReportDefinition['rank_by'];
+export type RankOrder = ReportDefinition['rank_order'];
+export type RefreshMode = ReportDefinition['refresh'];
 
 /** One thing wrong with a definition, named by its place in the request body. */
 export interface DefinitionIssue {
@@ -92,173 +115,226 @@ function isObject(value: unknown): value is Json {
   return typeof value === 'object' && value !== null && !Array.isArray(value);
 }
 
+const DEFINITION_FIELDS = Object.keys(ReportDefinitionBody.properties);
+const BUILT_IN = BUILT_IN_DIMENSIONS as readonly string[];
+
+// Formats are not judged by the schema: dates go through the same reader as uploaded dates,
+// whose reasons name the calendar mistake.
+const validateBody = new Ajv2020({ allErrors: true, validateFormats: false }).compile(ReportDefinitionBody);
+
+const got = (value: unknown) => `got ${JSON.stringify(value)}`;
+const unknownDimension = (entry: unknown) => `unknown dimension ${JSON.stringify(entry)}: use ${BUILT_IN_DIMENSIONS.join(', ')} or the name of an extra customer column`;
+
+/**
+ * The reason stated for a field the declaration refuses, keyed by its path with list positions
+ * as `*`; the bounds and choices quoted are the declaration's own. `at` moves the report from
+ * an element to the pair it belongs to.
+ */
+const REASONS: Record<string, { reason: (value: unknown, keyword: string) => string; at?: (path: string) => string }> = {
+  '/name': { reason: (_value, keyword) => (keyword === 'maxLength' ? `must be at most ${NAME.maxLength} characters` : `is required: ${NAME.description}`) },
+  '/source/campaign_ids': {
+    reason: (_value, keyword) =>
+      keyword === 'maxItems' ? `may list at most ${CAMPAIGN_IDS.maxItems} campaigns` : 'must be a non-empty list of campaign ids',
+  },
+  '/source/campaign_ids/*': { reason: () => 'campaign id must be text' },
+  '/source/sales_from': { reason: () => 'sales_from must be a date written YYYY-MM-DD' },
+  '/source/sales_to': { reason: () => 'sales_to must be a date written YYYY-MM-DD' },
+  '/dimensions': {
+    reason: (_value, keyword) => (keyword === 'maxItems' ? `may list at most ${DIMENSIONS.maxItems} dimensions` : 'must be a non-empty list of dimension names'),
+  },
+  '/dimensions/*': { reason: (value) => unknownDimension(value) },
+  '/crosses': { reason: () => 'must be a list of dimension pairs such as [["age_band", "region"]], or [] for none' },
+  '/crosses/*': { reason: () => 'must be a pair of two dimension names' },
+  '/crosses/*/*': { reason: () => 'must be a pair of two dimension names', at: (path) => path.slice(0, path.lastIndexOf('/')) },
+  '/age_bands': {
+    reason: () => `must be a list of ${AGE_BANDS.minItems} to ${AGE_BANDS.maxItems} lower band edges in years, such as ${JSON.stringify(AGE_BANDS.default).replaceAll(',', ', ')}`,
+  },
+  '/age_bands/*': {
+    reason: (_value, keyword) =>
+      keyword === 'type'
+        ? 'must be a whole number of years'
+        : `must be from ${MIN_PLAUSIBLE_AGE} to ${MAX_PLAUSIBLE_AGE}: ages outside that range are counted in the unknown band`,
+  },
+  '/min_n': { reason: (value) => `must be a whole number from ${MIN_N.minimum} to ${MIN_N.maximum}, ${got(value)}` },
+  '/confidence': {
+    reason: (value) =>
+      `must be a number strictly between ${CONFIDENCE.exclusiveMinimum} and ${CONFIDENCE.exclusiveMaximum}, such as ${CONFIDENCE.default}, ${got(value)}`,
+  },
+  ...Object.fromEntries(
+    (Object.keys(CHOICES) as Array<keyof typeof CHOICES>).map((name) => [
+      `/${name}`,
+      { reason: (value: unknown) => `must be one of ${CHOICES[name].enum.join(', ')}, ${got(value)}` },
+    ]),
+  ),
+};
+
+/** Which form of source the keys choose: 0 campaigns, 1 a sales window, null neither or both. */
+function sourceForm(source: Json): 0 | 1 | null {
+  const hasCampaigns = 'campaign_ids' in source;
+  const hasWindow = 'sales_from' in source || 'sales_to' in source;
+  if (hasCampaigns === hasWindow) return null;
+  return hasCampaigns ? 0 : 1;
+}
+
+function valueAt(body: Json, path: string): unknown {
+  let value: unknown = body;
+  for (const key of path.split('/').slice(1)) value = (value as Record<string, unknown> | undefined)?.[key];
+  return value;
+}
+
+/** The declaration's verdict on each field, one reason per field (the first), keyed by path. */
+function declarationIssues(body: Json): Map<string, string> {
+  const issues = new Map<string, string>();
+  if (validateBody(body)) return issues;
+  const source = body['source'];
+  const form = isObject(source) ? sourceForm(source) : null;
+  for (const error of validateBody.errors as ErrorObject[]) {
+    let path = error.instancePath;
+    if (error.keyword === 'required') path = `${path}/${String(error.params['missingProperty'])}`;
+    if (error.keyword === 'additionalProperties') {
+      const key = String(error.params['additionalProperty']);
+      if (path === '') issues.set(`/${key}`, issues.get(`/${key}`) ?? `is not a report definition field (known fields: ${DEFINITION_FIELDS.join(', ')})`);
+      else if (form !== null && error.schemaPath.startsWith(`#/properties/source/anyOf/${form}/`)) issues.set(`/source/${key}`, `is not a source field: ${SOURCE_HINT}`);
+      continue;
+    }
+    // The source's shape is judged in code; of its two forms, only the one its keys choose speaks.
+    if (path === '/source' || (path.startsWith('/source/') && (form === null || !error.schemaPath.startsWith(`#/properties/source/anyOf/${form}/`)))) continue;
+    const entry = REASONS[path.replace(/\/\d+(?=\/|$)/g, '/*')];
+    const field = entry?.at ? entry.at(path) : path;
+    if (issues.has(field)) continue;
+    issues.set(field, entry ? entry.reason(valueAt(body, path), error.keyword) : (error.message ?? 'is not valid'));
+  }
+  return issues;
+}
+
 function field(path: string): string {
   return `body${path}`;
 }
 
 /**
- * Reads a definition from a request body: checks every field, fills in the defaults, and
- * asks `lookup` whether the named campaigns and attributes exist.
+ * Reads a definition from a request body: checks it against the declaration, then what the
+ * declaration cannot say, fills in the defaults, and asks `lookup` whether the named campaigns
+ * and attributes exist.
  * @throws InvalidDefinitionError listing every problem found (not only the first)
  * @example
  * await normalizeDefinition({ name: 'Spring', source: { campaign_ids: ['spring'] } }, lookup);
  * // { name: 'Spring', dimensions: ['age_band', 'region', 'channel'], crosses: [[…], …], min_n: 30, … }
  */
 export async function normalizeDefinition(body: unknown, lookup: DefinitionLookup): Promise<ReportDefinition> {
-  const issues: DefinitionIssue[] = [];
   if (!isObject(body)) throw new InvalidDefinitionError([{ field: 'body', reason: 'must be a JSON object with the report definition' }]);
-  for (const key of Object.keys(body)) {
-    if (!(DEFINITION_FIELDS as readonly string[]).includes(key)) {
-      issues.push({ field: field(`/${key}`), reason: `is not a report definition field (known fields: ${DEFINITION_FIELDS.join(', ')})` });
-    }
-  }
+  const refused = declarationIssues(body);
+  const issues: DefinitionIssue[] = [];
+  const report = (path: string, reason: string) => issues.push({ field: field(path), reason });
+  // A field the declaration refused is reported as such; code judges only the well-formed rest.
+  const wellFormed = (path: string) => ![...refused.keys()].some((refusedPath) => refusedPath === path || refusedPath.startsWith(`${path}/`));
 
-  const name = readName(body['name'], issues);
-  const source = readSource(body['source'], issues);
-  const dimensions = readDimensions(body['dimensions'], issues);
-  const crosses = readCrosses(body['crosses'], dimensions, issues);
-  const ageBands = readAgeBands(body['age_bands'], issues);
-  const minN = readInteger(body['min_n'], '/min_n', DEFAULT_MIN_N, 2, MAX_MIN_N, issues);
-  const confidence = readConfidence(body['confidence'], issues);
-  const adjustment = readEnum(body['adjustment'], '/adjustment', ADJUSTMENTS, 'bh', issues);
-  const valueBasis = readEnum(body['value_basis'], '/value_basis', VALUE_BASES, 'per_unit', issues);
-  const rankBy = readEnum(body['rank_by'], '/rank_by', RANK_BY, 'conversion_rate', issues);
-  const rankOrder = readEnum(body['rank_order'], '/rank_order', RANK_ORDERS, 'lower_bound', issues);
-  const refresh = readEnum(body['refresh'], '/refresh', REFRESH_MODES, 'manual', issues);
+  for (const [path, reason] of refused) if (!DEFINITION_FIELDS.includes(path.split('/')[1] ?? '')) report(path, reason);
+  const name = wellFormed('/name') ? readName(body['name'] as string, report) : null;
+  const source = readSource(body['source'], wellFormed, report);
+  const dimensions = wellFormed('/dimensions') ? readDimensions(body['dimensions'] as string[] | undefined, report) : null;
+  const crosses = wellFormed('/crosses') ? readCrosses(body['crosses'] as Array<[string, string]> | undefined, dimensions, report) : null;
+  const ageBands = wellFormed('/age_bands') ? readAgeBands(body['age_bands'] as number[] | undefined, report) : null;
+  for (const [path, reason] of refused) if (DEFINITION_FIELDS.includes(path.split('/')[1] ?? '')) report(path, reason);
 
   // Stored-data checks only for fields that are otherwise well formed, so one mistake is reported once.
   if (source !== null && 'campaign_ids' in source) {
     const missing = await lookup.missingCampaigns(source.campaign_ids);
-    for (const id of missing) {
-      const index = source.campaign_ids.indexOf(id);
-      issues.push({ field: field(`/source/campaign_ids/${index}`), reason: `no campaign with id ${JSON.stringify(id)} has been uploaded` });
-    }
+    for (const id of missing) report(`/source/campaign_ids/${source.campaign_ids.indexOf(id)}`, `no campaign with id ${JSON.stringify(id)} has been uploaded`);
   }
   if (dimensions !== null) {
-    const attributeNames = dimensions.filter((dimension) => !(BUILT_IN_DIMENSIONS as readonly string[]).includes(dimension));
+    const attributeNames = dimensions.filter((dimension) => !BUILT_IN.includes(dimension));
     if (attributeNames.length > 0) {
       const missing = await lookup.missingAttributes(attributeNames);
       for (const attribute of missing) {
-        issues.push({
-          field: field(`/dimensions/${dimensions.indexOf(attribute)}`),
-          reason: `unknown dimension ${JSON.stringify(attribute)}: use ${BUILT_IN_DIMENSIONS.join(', ')} or the name of an extra customer column that has been uploaded`,
-        });
+        report(
+          `/dimensions/${dimensions.indexOf(attribute)}`,
+          `unknown dimension ${JSON.stringify(attribute)}: use ${BUILT_IN_DIMENSIONS.join(', ')} or the name of an extra customer column that has been uploaded`,
+        );
       }
     }
   }
 
-  if (issues.length > 0) throw new InvalidDefinitionError(issues);
+  if (issues.length > 0 || name === null || source === null || dimensions === null || crosses === null || ageBands === null) throw new InvalidDefinitionError(issues);
   return {
-    name: name as string,
-    source: source as ReportSource,
-    dimensions: dimensions as string[],
-    crosses: crosses as Array<[string, string]>,
-    age_bands: ageBands as number[],
-    min_n: minN as number,
-    confidence: confidence as number,
-    adjustment,
-    value_basis: valueBasis,
-    rank_by: rankBy,
-    rank_order: rankOrder,
-    refresh,
+    name,
+    source,
+    dimensions,
+    crosses,
+    age_bands: ageBands,
+    min_n: (body['min_n'] as number | undefined) ?? MIN_N.default,
+    confidence: (body['confidence'] as number | undefined) ?? CONFIDENCE.default,
+    adjustment: (body['adjustment'] as Adjustment | undefined) ?? CHOICES.adjustment.default,
+    value_basis: (body['value_basis'] as ValueBasis | undefined) ?? CHOICES.value_basis.default,
+    rank_by: (body['rank_by'] as RankBy | undefined) ?? CHOICES.rank_by.default,
+    rank_order: (body['rank_order'] as RankOrder | undefined) ?? CHOICES.rank_order.default,
+    refresh: (body['refresh'] as RefreshMode | undefined) ?? CHOICES.refresh.default,
   };
 }
 
-function readName(raw: unknown, issues: DefinitionIssue[]): string | null {
-  if (typeof raw !== 'string' || raw.trim() === '') {
-    issues.push({ field: field('/name'), reason: 'is required: a short text naming the report' });
+type Report = (path: string, reason: string) => void;
+
+/** The name is judged trimmed, as it is stored. */
+function readName(raw: string, report: Report): string | null {
+  const name = raw.trim();
+  if (name === '') {
+    report('/name', `is required: ${NAME.description}`);
     return null;
   }
-  const name = raw.trim();
   // eslint-disable-next-line no-control-regex
   if (/[\u0000-\u001f\u007f]/.test(name)) {
-    issues.push({ field: field('/name'), reason: 'must not contain control characters' });
-    return null;
-  }
-  if (name.length > MAX_NAME_LENGTH) {
-    issues.push({ field: field('/name'), reason: `must be at most ${MAX_NAME_LENGTH} characters` });
+    report('/name', 'must not contain control characters');
     return null;
   }
   return name;
 }
 
-function readSource(raw: unknown, issues: DefinitionIssue[]): ReportSource | null {
-  const hint = 'give either {"campaign_ids": ["…"]} or {"sales_from": "YYYY-MM-DD", "sales_to": "YYYY-MM-DD"}';
+function readSource(raw: unknown, wellFormed: (path: string) => boolean, report: Report): ReportSource | null {
   if (!isObject(raw)) {
-    issues.push({ field: field('/source'), reason: `is required: ${hint}` });
+    report('/source', `is required: ${SOURCE_HINT}`);
     return null;
   }
-  const hasCampaigns = 'campaign_ids' in raw;
-  const hasWindow = 'sales_from' in raw || 'sales_to' in raw;
-  if (hasCampaigns === hasWindow) {
-    issues.push({ field: field('/source'), reason: hasCampaigns ? `has both campaign_ids and a sales window: ${hint}` : hint });
+  const form = sourceForm(raw);
+  if (form === null) {
+    report('/source', 'campaign_ids' in raw ? `has both campaign_ids and a sales window: ${SOURCE_HINT}` : SOURCE_HINT);
     return null;
   }
-  const allowed = hasCampaigns ? ['campaign_ids'] : ['sales_from', 'sales_to'];
-  for (const key of Object.keys(raw)) {
-    if (!allowed.includes(key)) issues.push({ field: field(`/source/${key}`), reason: `is not a source field: ${hint}` });
-  }
-  if (hasCampaigns) {
-    const ids = raw['campaign_ids'];
-    if (!Array.isArray(ids) || ids.length === 0) {
-      issues.push({ field: field('/source/campaign_ids'), reason: 'must be a non-empty list of campaign ids' });
-      return null;
-    }
-    if (ids.length > MAX_CAMPAIGNS) {
-      issues.push({ field: field('/source/campaign_ids'), reason: `may list at most ${MAX_CAMPAIGNS} campaigns` });
-      return null;
-    }
+  if (!wellFormed('/source')) return null;
+  if (form === 0) {
+    const ids = raw['campaign_ids'] as string[];
     const read: string[] = [];
     ids.forEach((id, index) => {
       const result = readIdentifier(id);
-      if (!result.ok) issues.push({ field: field(`/source/campaign_ids/${index}`), reason: `campaign id ${result.reason}` });
-      else if (read.includes(result.value)) issues.push({ field: field(`/source/campaign_ids/${index}`), reason: `campaign ${result.value} is listed twice` });
+      if (!result.ok) report(`/source/campaign_ids/${index}`, `campaign id ${result.reason}`);
+      else if (read.includes(result.value)) report(`/source/campaign_ids/${index}`, `campaign ${result.value} is listed twice`);
       else read.push(result.value);
     });
     return read.length === ids.length ? { campaign_ids: read } : null;
   }
   const from = readDate(raw['sales_from']);
   const to = readDate(raw['sales_to']);
-  if (!from.ok) issues.push({ field: field('/source/sales_from'), reason: `sales_from ${from.reason}` });
-  if (!to.ok) issues.push({ field: field('/source/sales_to'), reason: `sales_to ${to.reason}` });
+  if (!from.ok) report('/source/sales_from', `sales_from ${from.reason}`);
+  if (!to.ok) report('/source/sales_to', `sales_to ${to.reason}`);
   if (!from.ok || !to.ok) return null;
   if (from.value > to.value) {
-    issues.push({ field: field('/source/sales_to'), reason: `the window ends (${to.value}) before it starts (${from.value})` });
+    report('/source/sales_to', `the window ends (${to.value}) before it starts (${from.value})`);
     return null;
   }
   return { sales_from: from.value, sales_to: to.value };
 }
 
-function readDimensions(raw: unknown, issues: DefinitionIssue[]): string[] | null {
-  if (raw === undefined) return [...DEFAULT_DIMENSIONS];
-  if (!Array.isArray(raw) || raw.length === 0) {
-    issues.push({ field: field('/dimensions'), reason: 'must be a non-empty list of dimension names' });
-    return null;
-  }
-  if (raw.length > MAX_DIMENSIONS) {
-    issues.push({ field: field('/dimensions'), reason: `may list at most ${MAX_DIMENSIONS} dimensions` });
-    return null;
-  }
+function readDimensions(raw: string[] | undefined, report: Report): string[] | null {
+  if (raw === undefined) return [...DIMENSIONS.default];
   const dimensions: string[] = [];
-  let valid = true;
   raw.forEach((entry, index) => {
-    if (typeof entry !== 'string' || !((BUILT_IN_DIMENSIONS as readonly string[]).includes(entry) || isAttributeName(entry))) {
-      issues.push({
-        field: field(`/dimensions/${index}`),
-        reason: `unknown dimension ${JSON.stringify(entry)}: use ${BUILT_IN_DIMENSIONS.join(', ')} or the name of an extra customer column`,
-      });
-      valid = false;
-    } else if (dimensions.includes(entry)) {
-      issues.push({ field: field(`/dimensions/${index}`), reason: `dimension ${entry} is listed twice` });
-      valid = false;
-    } else {
-      dimensions.push(entry);
-    }
+    if (!(BUILT_IN.includes(entry) || isAttributeName(entry))) report(`/dimensions/${index}`, unknownDimension(entry));
+    else if (dimensions.includes(entry)) report(`/dimensions/${index}`, `dimension ${entry} is listed twice`);
+    else dimensions.push(entry);
   });
-  return valid ? dimensions : null;
+  return dimensions.length === raw.length ? dimensions : null;
 }
 
-function readCrosses(raw: unknown, dimensions: string[] | null, issues: DefinitionIssue[]): Array<[string, string]> | null {
+/** Crosses name the report's dimensions, each pair once, stored in the order of the dimensions list. */
+function readCrosses(raw: Array<[string, string]> | undefined, dimensions: string[] | null, report: Report): Array<[string, string]> | null {
   if (dimensions === null) return null;
   const order = (a: string, b: string): [string, string] => (dimensions.indexOf(a) <= dimensions.indexOf(b) ? [a, b] : [b, a]);
   if (raw === undefined) {
@@ -268,35 +344,25 @@ function readCrosses(raw: unknown, dimensions: string[] | null, issues: Definiti
     }
     return pairs;
   }
-  if (!Array.isArray(raw)) {
-    issues.push({ field: field('/crosses'), reason: 'must be a list of dimension pairs such as [["age_band", "region"]], or [] for none' });
-    return null;
-  }
   const pairs: Array<[string, string]> = [];
   const seen = new Set<string>();
   let valid = true;
-  raw.forEach((pair, index) => {
-    if (!Array.isArray(pair) || pair.length !== 2 || typeof pair[0] !== 'string' || typeof pair[1] !== 'string') {
-      issues.push({ field: field(`/crosses/${index}`), reason: 'must be a pair of two dimension names' });
-      valid = false;
-      return;
-    }
-    const [a, b] = pair as [string, string];
+  raw.forEach(([a, b], index) => {
     for (const name of [a, b]) {
       if (!dimensions.includes(name)) {
-        issues.push({ field: field(`/crosses/${index}`), reason: `${JSON.stringify(name)} is not one of the report's dimensions (${dimensions.join(', ')})` });
+        report(`/crosses/${index}`, `${JSON.stringify(name)} is not one of the report's dimensions (${dimensions.join(', ')})`);
         valid = false;
       }
     }
     if (a === b) {
-      issues.push({ field: field(`/crosses/${index}`), reason: 'must name two different dimensions' });
+      report(`/crosses/${index}`, 'must name two different dimensions');
       valid = false;
     }
     if (!valid) return;
     const ordered = order(a, b);
     const key = ordered.join('\u0000');
     if (seen.has(key)) {
-      issues.push({ field: field(`/crosses/${index}`), reason: `the cross of ${ordered[0]} and ${ordered[1]} is listed twice` });
+      report(`/crosses/${index}`, `the cross of ${ordered[0]} and ${ordered[1]} is listed twice`);
       valid = false;
       return;
     }
@@ -306,55 +372,15 @@ function readCrosses(raw: unknown, dimensions: string[] | null, issues: Definiti
   return valid ? pairs : null;
 }
 
-function readAgeBands(raw: unknown, issues: DefinitionIssue[]): number[] | null {
-  if (raw === undefined) return [...DEFAULT_AGE_BANDS];
-  if (!Array.isArray(raw) || raw.length === 0 || raw.length > MAX_AGE_BANDS) {
-    issues.push({ field: field('/age_bands'), reason: `must be a list of 1 to ${MAX_AGE_BANDS} lower band edges in years, such as [18, 25, 35, 45, 55, 65]` });
-    return null;
-  }
+function readAgeBands(raw: number[] | undefined, report: Report): number[] | null {
+  if (raw === undefined) return [...AGE_BANDS.default];
   let valid = true;
   raw.forEach((edge, index) => {
-    if (typeof edge !== 'number' || !Number.isInteger(edge)) {
-      issues.push({ field: field(`/age_bands/${index}`), reason: 'must be a whole number of years' });
-      valid = false;
-    } else if (edge < MIN_PLAUSIBLE_AGE || edge > MAX_PLAUSIBLE_AGE) {
-      issues.push({
-        field: field(`/age_bands/${index}`),
-        reason: `must be from ${MIN_PLAUSIBLE_AGE} to ${MAX_PLAUSIBLE_AGE}: ages outside that range are counted in the unknown band`,
-      });
-      valid = false;
-    } else if (index > 0 && typeof raw[index - 1] === 'number' && edge <= (raw[index - 1] as number)) {
-      issues.push({ field: field(`/age_bands/${index}`), reason: `band edges must be increasing: ${edge} follows ${raw[index - 1] as number}` });
+    const previous = raw[index - 1];
+    if (previous !== undefined && edge <= previous) {
+      report(`/age_bands/${index}`, `band edges must be increasing: ${edge} follows ${previous}`);
       valid = false;
     }
   });
-  return valid ? (raw as number[]) : null;
-}
-
-function readInteger(raw: unknown, path: string, fallback: number, min: number, max: number, issues: DefinitionIssue[]): number | null {
-  if (raw === undefined) return fallback;
-  if (typeof raw !== 'number' || !Number.isInteger(raw) || raw < min || raw > max) {
-    issues.push({ field: field(path), reason: `must be a whole number from ${min} to ${max}, got ${JSON.stringify(raw)}` });
-    return null;
-  }
-  return raw;
-}
-
-function readConfidence(raw: unknown, issues: DefinitionIssue[]): number | null {
-  if (raw === undefined) return DEFAULT_CONFIDENCE;
-  if (typeof raw !== 'number' || !Number.isFinite(raw) || raw <= 0 || raw >= 1) {
-    issues.push({ field: field('/confidence'), reason: `must be a number strictly between 0 and 1, such as 0.95, got ${JSON.stringify(raw)}` });
-    return null;
-  }
-  return raw;
-}
-
-function readEnum<T extends string>(raw: unknown, path: string, choices: readonly T[], fallback: T, issues: DefinitionIssue[]): T {
-  if (raw === undefined) return fallback;
-  const match = choices.find((choice) => choice === raw);
-  if (match === undefined) {
-    issues.push({ field: field(path), reason: `must be one of ${choices.join(', ')}, got ${JSON.stringify(raw)}` });
-    return fallback;
-  }
-  return match;
+  return valid ? raw : null;
 }

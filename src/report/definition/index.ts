@@ -1,2 +1,15 @@
 /** What a report computes: its definition's fields, their defaults and their validation. */
-export { InvalidDefinitionError, normalizeDefinition, type DefinitionLookup, type ReportDefinition, type ValueBasis } from './definition.js';
+export {
+  InvalidDefinitionError,
+  ReportDefinition,
+  ReportDefinitionBody,
+  ReportSource,
+  normalizeDefinition,
+  type Adjustment,
+  type DefinitionIssue,
+  type DefinitionLookup,
+  type RankBy,
+  type RankOrder,
+  type RefreshMode,
+  type ValueBasis,
+} from './definition.js';

@@ -1,277 +1,277 @@
 /**
- * The shapes a snapshot is made of. `SEGMENT_ROW_FIELDS` is the flat row of the BI pull, in
- * the fixed order of the design; a snapshot's segments carry those fields first and the
- * detail (rest, effect sizes, change) after them.
+ * The shapes a snapshot is made of, declared once: the TypeScript types, the JSON Schemas and
+ * the OpenAPI components all come from here. `SegmentRow` is the flat row of the BI pull, its
+ * fields in the fixed column order of the design (`SEGMENT_ROW_FIELDS` is read from it); a
+ * snapshot's segments carry those fields first and the detail (rest, effect sizes, change)
+ * after them. Rates and shares are fractions; money is in major units.
  */
-import type { ReportDefinition } from '../definition/index.js';
+import { Type, type Static, type TSchema } from 'typebox';
+import { ReportDefinition } from '../definition/index.js';
 
-export const SEGMENT_ROW_FIELDS = [
-  'rank',
-  'segment',
-  'dimensions',
-  'n',
-  'share',
-  'conversions',
-  'conversion_rate',
-  'conversion_rate_ci_low',
-  'conversion_rate_ci_high',
-  'rate_diff',
-  'rate_diff_ci_low',
-  'rate_diff_ci_high',
-  'lift',
-  'lift_ci_low',
-  'lift_ci_high',
-  'rate_test',
-  'rate_p_value',
-  'rate_p_adjusted',
-  'value_mean',
-  'value_ci_low',
-  'value_ci_high',
-  'value_diff',
-  'value_diff_ci_low',
-  'value_diff_ci_high',
-  'value_p_value',
-  'value_p_adjusted',
-  'min_detectable_diff',
-  'verdict',
-  'summary',
-] as const;
-
-export type SegmentRowField = (typeof SEGMENT_ROW_FIELDS)[number];
+const nullable = <T extends TSchema>(schema: T, options: { description?: string } = {}) => Type.Union([schema, Type.Null()], options);
+const NullableNumber = (description?: string) => nullable(Type.Number(), description === undefined ? {} : { description });
+const strings = () => Type.Array(Type.String());
 
 export const VERDICTS = ['better', 'worse', 'no_detectable_difference', 'inconclusive', 'too_small'] as const;
-export type Verdict = (typeof VERDICTS)[number];
+export const Verdict = Type.Unsafe<(typeof VERDICTS)[number]>({ type: 'string', enum: [...VERDICTS] });
+export type Verdict = Static<typeof Verdict>;
 
-/** One flat row of the ranked table. Rates and shares are fractions; money is in major units. */
-export interface SegmentRow {
-  /** 1 = first; null for segments that were not tested (they are listed after the tested ones) */
-  rank: number | null;
-  /** e.g. `region=North` or `age_band=25-34 & region=North` */
-  segment: string;
-  /** e.g. `region` or `age_band & region` */
-  dimensions: string;
-  n: number;
-  share: number;
-  conversions: number;
-  conversion_rate: number | null;
-  conversion_rate_ci_low: number | null;
-  conversion_rate_ci_high: number | null;
-  rate_diff: number | null;
-  rate_diff_ci_low: number | null;
-  rate_diff_ci_high: number | null;
-  lift: number | null;
-  lift_ci_low: number | null;
-  lift_ci_high: number | null;
-  rate_test: 'z' | 'fisher' | null;
-  rate_p_value: number | null;
-  rate_p_adjusted: number | null;
-  value_mean: number | null;
-  value_ci_low: number | null;
-  value_ci_high: number | null;
-  value_diff: number | null;
-  value_diff_ci_low: number | null;
-  value_diff_ci_high: number | null;
-  value_p_value: number | null;
-  value_p_adjusted: number | null;
-  /** in the unit of the ranking metric: a rate difference (fraction) or money (major units) */
-  min_detectable_diff: number | null;
-  verdict: Verdict;
-  summary: string;
-}
+/** One flat row of the ranked table; the order of its fields is the order of the BI columns. */
+export const SegmentRow = Type.Object({
+  rank: nullable(Type.Integer(), { description: '1 = first; null for segments that were not tested (they are listed after the tested ones)' }),
+  segment: Type.String({ description: 'dimension=value, joined by " & " for a two-way segment, e.g. age_band=25-34 & region=North' }),
+  dimensions: Type.String({ description: 'the dimension names, joined by " & "' }),
+  n: Type.Integer(),
+  share: Type.Number({ description: 'n / population, a fraction' }),
+  conversions: Type.Integer(),
+  conversion_rate: NullableNumber(),
+  conversion_rate_ci_low: NullableNumber(),
+  conversion_rate_ci_high: NullableNumber(),
+  rate_diff: NullableNumber('segment rate − rest rate (Newcombe hybrid score interval)'),
+  rate_diff_ci_low: NullableNumber(),
+  rate_diff_ci_high: NullableNumber(),
+  lift: NullableNumber('segment rate / rest rate (Katz log interval)'),
+  lift_ci_low: NullableNumber(),
+  lift_ci_high: NullableNumber(),
+  rate_test: Type.Unsafe<'z' | 'fisher' | null>({ type: ['string', 'null'], enum: ['z', 'fisher', null] }),
+  rate_p_value: NullableNumber(),
+  rate_p_adjusted: NullableNumber(),
+  value_mean: NullableNumber('major currency units, per the report value_basis'),
+  value_ci_low: NullableNumber(),
+  value_ci_high: NullableNumber(),
+  value_diff: NullableNumber('segment mean − rest mean (Welch)'),
+  value_diff_ci_low: NullableNumber(),
+  value_diff_ci_high: NullableNumber(),
+  value_p_value: NullableNumber(),
+  value_p_adjusted: NullableNumber(),
+  min_detectable_diff: NullableNumber('at 80% power, in the unit of the ranking metric: a rate difference (fraction) or money (major units)'),
+  verdict: Verdict,
+  summary: Type.String(),
+});
+export type SegmentRow = Static<typeof SegmentRow>;
+
+export type SegmentRowField = keyof SegmentRow;
+export const SEGMENT_ROW_FIELDS = Object.keys(SegmentRow.properties) as SegmentRowField[];
 
 /** The same metrics for the rest of the population (everyone outside the segment). */
-export interface RestFigures {
-  n: number;
-  conversions: number;
-  conversion_rate: number | null;
-  value_n: number;
-  value_mean: number | null;
-}
+export const RestFigures = Type.Object({
+  n: Type.Integer(),
+  conversions: Type.Integer(),
+  conversion_rate: NullableNumber(),
+  value_n: Type.Integer(),
+  value_mean: NullableNumber(),
+});
+export type RestFigures = Static<typeof RestFigures>;
 
 /** Change of a segment since the previous window (sales reports) or snapshot (campaign reports). */
-export interface SegmentChange {
-  compared_with: 'previous_window' | 'previous_snapshot';
-  previous_n: number;
-  previous_conversions: number;
-  previous_conversion_rate: number | null;
-  rate_change: number | null;
-  rate_change_ci_low: number | null;
-  rate_change_ci_high: number | null;
-  previous_value_mean: number | null;
-  value_change: number | null;
-  value_change_ci_low: number | null;
-  value_change_ci_high: number | null;
-}
+export const SegmentChange = Type.Object({
+  compared_with: Type.Unsafe<'previous_window' | 'previous_snapshot'>({ type: 'string', enum: ['previous_window', 'previous_snapshot'] }),
+  previous_n: Type.Integer(),
+  previous_conversions: Type.Integer(),
+  previous_conversion_rate: NullableNumber(),
+  rate_change: NullableNumber(),
+  rate_change_ci_low: NullableNumber(),
+  rate_change_ci_high: NullableNumber(),
+  previous_value_mean: NullableNumber(),
+  value_change: NullableNumber(),
+  value_change_ci_low: NullableNumber(),
+  value_change_ci_high: NullableNumber(),
+});
+export type SegmentChange = Static<typeof SegmentChange>;
 
 /** A segment as the full snapshot holds it: the flat row, then its detail. */
-export interface SnapshotSegment extends SegmentRow {
-  values: Record<string, string>;
-  tested: boolean;
-  rest: RestFigures;
-  /** units behind value_mean: every unit (per_unit) or the converted ones (per_conversion) */
-  value_n: number;
-  rate_z: number | null;
-  value_t: number | null;
-  value_degrees_of_freedom: number | null;
-  effect_sizes: { cohens_h: number | null; hedges_g: number | null };
-  /** sufficient statistics, so a later snapshot can compare with this one */
-  sufficient_statistics: { n: number; conversions: number; value: { n: number; mean: number; sum_squared_deviations: number } };
-  previous_rank: number | null;
-  /** positive: moved up (towards rank 1) since the previous snapshot */
-  rank_movement: number | null;
-  change: SegmentChange | null;
-  /** why figures are missing, as the statistics core states it */
-  notes: string[];
-}
+export const SnapshotSegment = Type.Object({
+  ...SegmentRow.properties,
+  values: Type.Record(Type.String(), Type.String()),
+  tested: Type.Boolean(),
+  rest: RestFigures,
+  value_n: Type.Integer({ description: 'units behind value_mean: every unit (per_unit) or the converted ones (per_conversion)' }),
+  rate_z: NullableNumber(),
+  value_t: NullableNumber(),
+  value_degrees_of_freedom: NullableNumber(),
+  effect_sizes: Type.Object({ cohens_h: NullableNumber(), hedges_g: NullableNumber() }),
+  sufficient_statistics: Type.Object(
+    {
+      n: Type.Integer(),
+      conversions: Type.Integer(),
+      value: Type.Object({ n: Type.Integer(), mean: Type.Number(), sum_squared_deviations: Type.Number() }),
+    },
+    { description: 'so a later snapshot can compare with this one' },
+  ),
+  previous_rank: nullable(Type.Integer()),
+  rank_movement: nullable(Type.Integer(), { description: 'positive: moved up (towards rank 1) since the previous snapshot' }),
+  change: nullable(SegmentChange),
+  notes: Type.Array(Type.String(), { description: 'why figures are missing, as the statistics core states it' }),
+});
+export type SnapshotSegment = Static<typeof SnapshotSegment>;
 
-export interface Descriptives {
-  n: number;
-  mean: number | null;
-  median: number | null;
-  modes: number[] | null;
-  standard_deviation: number | null;
-  coefficient_of_variation: number | null;
-  skewness: number | null;
-  q1: number | null;
-  q3: number | null;
-  notes: string[];
-}
+export const Descriptives = Type.Object({
+  n: Type.Integer(),
+  mean: NullableNumber(),
+  median: NullableNumber(),
+  modes: nullable(Type.Array(Type.Number())),
+  standard_deviation: NullableNumber(),
+  coefficient_of_variation: NullableNumber(),
+  skewness: NullableNumber(),
+  q1: NullableNumber(),
+  q3: NullableNumber(),
+  notes: strings(),
+});
+export type Descriptives = Static<typeof Descriptives>;
 
-export interface Correlation {
-  n: number;
-  r: number | null;
-  ci_low: number | null;
-  ci_high: number | null;
-  p_value: number | null;
-  note: string | null;
-}
+export const Correlation = Type.Object({
+  n: Type.Integer(),
+  r: NullableNumber(),
+  ci_low: NullableNumber(),
+  ci_high: NullableNumber(),
+  p_value: NullableNumber(),
+  note: nullable(Type.String()),
+});
+export type Correlation = Static<typeof Correlation>;
 
-export interface DimensionValueProfile {
-  value: string;
-  n: number;
-  share: number;
-  cumulative_share: number;
-  value_descriptives: Descriptives;
-  age_descriptives: Descriptives;
-  age_value_correlation: Correlation;
-}
+export const DimensionValueProfile = Type.Object({
+  value: Type.String(),
+  n: Type.Integer(),
+  share: Type.Number(),
+  cumulative_share: Type.Number(),
+  value_descriptives: Descriptives,
+  age_descriptives: Descriptives,
+  age_value_correlation: Correlation,
+});
+export type DimensionValueProfile = Static<typeof DimensionValueProfile>;
 
-export interface DimensionProfile {
-  dimension: string;
-  /** in Pareto order: most units first */
-  values: DimensionValueProfile[];
-}
+export const DimensionProfile = Type.Object({
+  dimension: Type.String(),
+  values: Type.Array(DimensionValueProfile, { description: 'in Pareto order: most units first' }),
+});
+export type DimensionProfile = Static<typeof DimensionProfile>;
 
-export interface Reversal {
-  dimension: string;
-  within: string;
-  higher_overall: string;
-  lower_overall: string;
-  higher_overall_metric: number;
-  lower_overall_metric: number;
-  levels_compared: number;
-  sentence: string;
-}
+export const Reversal = Type.Object({
+  dimension: Type.String(),
+  within: Type.String(),
+  higher_overall: Type.String(),
+  lower_overall: Type.String(),
+  higher_overall_metric: Type.Number(),
+  lower_overall_metric: Type.Number(),
+  levels_compared: Type.Integer(),
+  sentence: Type.String(),
+});
+export type Reversal = Static<typeof Reversal>;
 
-export interface DataQuality {
-  units: number;
-  unknown_age: number;
-  unknown_age_share: number | null;
-  /** campaign reports: stored customers never contacted in these campaigns (no outcome recorded); sales reports: 0 */
-  customers_outside_population: number;
-  /** sales reports: customers with no sale at all, counted as not buying; campaign reports: null */
-  customers_without_any_sale: number | null;
-  rejected_rows: Array<{ kind: string; ingests: number; rejected: number }>;
-  arithmetic: 'exact' | 'floating';
-}
+export const DataQuality = Type.Object({
+  units: Type.Integer(),
+  unknown_age: Type.Integer(),
+  unknown_age_share: NullableNumber(),
+  customers_outside_population: Type.Integer({
+    description: 'campaign reports: stored customers never contacted in these campaigns (no outcome recorded); sales reports: 0',
+  }),
+  customers_without_any_sale: nullable(Type.Integer(), { description: 'sales reports: customers with no sale at all, counted as not buying; campaign reports: null' }),
+  rejected_rows: Type.Array(Type.Object({ kind: Type.String(), ingests: Type.Integer(), rejected: Type.Integer() })),
+  arithmetic: Type.Unsafe<'exact' | 'floating'>({ type: 'string', enum: ['exact', 'floating'] }),
+});
+export type DataQuality = Static<typeof DataQuality>;
 
 /**
  * A histogram as the statistics core's `histogram` returns it: equal bins, each holding
  * values from `low` up to but not including `high`, the last also holding `high`.
  */
-export interface HistogramFigure {
-  /** how the number of bins was chosen: 'sturges', 'freedman-diaconis' or 'fixed' */
-  rule: string;
-  bin_width: number;
-  bins: Array<{ low: number; high: number; count: number }>;
-  /** why the rule was not applied as asked (or all values are equal), or null */
-  note: string | null;
-}
+export const HistogramFigure = Type.Object({
+  rule: Type.String({ description: "how the number of bins was chosen: 'sturges', 'freedman-diaconis' or 'fixed'" }),
+  bin_width: Type.Number(),
+  bins: Type.Array(Type.Object({ low: Type.Number(), high: Type.Number(), count: Type.Integer() })),
+  note: nullable(Type.String(), { description: 'why the rule was not applied as asked (or all values are equal), or null' }),
+});
+export type HistogramFigure = Static<typeof HistogramFigure>;
 
 /** One occupied cell of the age × value grid: ages in years, value in major currency units. */
-export interface AgeValueGridCell {
-  age_low: number;
-  age_high: number;
-  value_low: number;
-  value_high: number;
-  count: number;
-}
+export const AgeValueGridCell = Type.Object({
+  age_low: Type.Number(),
+  age_high: Type.Number(),
+  value_low: Type.Number(),
+  value_high: Type.Number(),
+  count: Type.Integer(),
+});
+export type AgeValueGridCell = Static<typeof AgeValueGridCell>;
 
-export interface PopulationFigures {
-  unit: 'contact' | 'customer';
-  campaign_ids: string[] | null;
-  window: { from: string; to: string } | null;
-  n: number;
-  conversions: number;
-  conversion_rate: number | null;
-  conversion_rate_ci_low: number | null;
-  conversion_rate_ci_high: number | null;
-  value_basis: ReportDefinition['value_basis'];
-  value_n: number;
-  value_mean: number | null;
-  value_ci_low: number | null;
-  value_ci_high: number | null;
-  value_descriptives: Descriptives;
-  age_descriptives: Descriptives;
-  age_value_correlation: Correlation;
-  /** Units with a known age. Null when there are none; absent from snapshots stored before it existed. */
-  age_histogram?: HistogramFigure | null;
-  /** Units of the value metric, major currency units. Null when there are none or their values were not read. */
-  value_histogram?: HistogramFigure | null;
-  /** Units of the value metric with a known age, occupied cells only. Null when there are none. */
-  age_value_grid?: AgeValueGridCell[] | null;
-}
+const DateWindow = Type.Object({ from: Type.String({ format: 'date' }), to: Type.String({ format: 'date' }) });
 
-export interface Comparison {
-  compared_with: 'previous_window' | 'previous_snapshot' | null;
-  previous_window: { from: string; to: string } | null;
-  previous_snapshot_id: string | null;
-  note: string;
-}
+export const PopulationFigures = Type.Object({
+  unit: Type.Unsafe<'contact' | 'customer'>({ type: 'string', enum: ['contact', 'customer'] }),
+  campaign_ids: nullable(strings()),
+  window: nullable(DateWindow),
+  n: Type.Integer(),
+  conversions: Type.Integer(),
+  conversion_rate: NullableNumber(),
+  conversion_rate_ci_low: NullableNumber(),
+  conversion_rate_ci_high: NullableNumber(),
+  value_basis: ReportDefinition.properties.value_basis,
+  value_n: Type.Integer(),
+  value_mean: NullableNumber(),
+  value_ci_low: NullableNumber(),
+  value_ci_high: NullableNumber(),
+  value_descriptives: Descriptives,
+  age_descriptives: Descriptives,
+  age_value_correlation: Correlation,
+  age_histogram: Type.Optional(
+    nullable(HistogramFigure, { description: 'units with a known age; null when there are none; absent from snapshots stored before it existed' }),
+  ),
+  value_histogram: Type.Optional(
+    nullable(HistogramFigure, {
+      description: 'units of the value metric, major currency units; null when there are none or their values were not read; absent from snapshots stored before it existed',
+    }),
+  ),
+  age_value_grid: Type.Optional(
+    nullable(Type.Array(AgeValueGridCell), {
+      description: 'occupied cells of the age × value grid (age in years, value in major currency units); null when there are none; absent from snapshots stored before it existed',
+    }),
+  ),
+});
+export type PopulationFigures = Static<typeof PopulationFigures>;
 
-export interface RowCounts {
-  population: number;
-  cells: number;
-  segments: number;
-  tested: number;
-  too_small: number;
-  /** size of the multiplicity family of each metric: tested segments whose test could be computed */
-  rate_tests: number;
-  value_tests: number;
-}
+export const Comparison = Type.Object({
+  compared_with: Type.Unsafe<'previous_window' | 'previous_snapshot' | null>({ type: ['string', 'null'], enum: ['previous_window', 'previous_snapshot', null] }),
+  previous_window: nullable(DateWindow),
+  previous_snapshot_id: nullable(Type.String()),
+  note: Type.String(),
+});
+export type Comparison = Static<typeof Comparison>;
+
+export const RowCounts = Type.Object({
+  population: Type.Integer(),
+  cells: Type.Integer(),
+  segments: Type.Integer(),
+  tested: Type.Integer(),
+  too_small: Type.Integer(),
+  rate_tests: Type.Integer({ description: 'size of the multiplicity family of each metric: tested segments whose test could be computed' }),
+  value_tests: Type.Integer(),
+});
+export type RowCounts = Static<typeof RowCounts>;
+
+export const SnapshotTrigger = Type.Unsafe<'manual' | 'schedule' | 'command'>({ type: 'string', enum: ['manual', 'schedule', 'command'] });
 
 /** The whole snapshot, as stored and as `GET …/snapshots/{id}` returns it. */
-export interface Snapshot {
-  snapshot_id: string;
-  report_id: string;
-  report_name: string;
-  sequence: number;
-  created_at: string;
-  trigger: 'manual' | 'schedule' | 'command';
-  duration_ms: number;
-  fingerprint: string;
-  definition: ReportDefinition;
-  population: PopulationFigures;
-  row_counts: RowCounts;
-  summary: string;
-  cautions: string[];
-  verdict_counts: Record<Verdict, number>;
-  segments: SnapshotSegment[];
-  dimensions: DimensionProfile[];
-  reversals: Reversal[];
-  comparison: Comparison;
-  data_quality: DataQuality;
-}
+export const Snapshot = Type.Object({
+  snapshot_id: Type.String(),
+  report_id: Type.String(),
+  report_name: Type.String(),
+  sequence: Type.Integer(),
+  created_at: Type.String({ format: 'date-time' }),
+  trigger: SnapshotTrigger,
+  duration_ms: Type.Integer(),
+  fingerprint: Type.String({ description: 'SHA-256 of the definition and every aggregate the snapshot was computed from' }),
+  definition: ReportDefinition,
+  population: PopulationFigures,
+  row_counts: RowCounts,
+  summary: Type.String(),
+  cautions: strings(),
+  verdict_counts: Type.Object(Object.fromEntries(VERDICTS.map((verdict) => [verdict, Type.Integer()])) as Record<Verdict, ReturnType<typeof Type.Integer>>),
+  segments: Type.Array(SnapshotSegment),
+  dimensions: Type.Array(DimensionProfile),
+  reversals: Type.Array(Reversal),
+  comparison: Comparison,
+  data_quality: DataQuality,
+});
+export type Snapshot = Static<typeof Snapshot>;
 
 /** The flat row of a snapshot segment, fields in the fixed order. */
 export function toSegmentRow(segment: SegmentRow): SegmentRow {

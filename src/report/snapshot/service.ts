@@ -26,6 +26,7 @@ import { ageGridAxis, ageValueGridAxes, isExpandable } from './profiles.js';
 import * as repository from '../store/index.js';
 import { renderSegmentTable, type RenderedTable, type SegmentTableCache, type TableFormat } from '../../present/index.js';
 import type { Snapshot } from '../shapes/index.js';
+import type { Report } from '../shapes/index.js';
 
 export interface ReportDependencies {
   dialect: Dialect;
@@ -43,11 +44,7 @@ export function reportDependencies(database: DatabaseHandle, logger: Logger, now
 }
 
 /** A saved report as the API returns it: its definition, id, creation time and latest snapshot. */
-export interface ReportResource extends ReportDefinition {
-  report_id: string;
-  created_at: string;
-  latest_snapshot: { snapshot_id: string; sequence: number; created_at: string } | null;
-}
+export type ReportResource = Report;
 
 export class ReportNotFoundError extends Error {
   override name = 'ReportNotFoundError';
