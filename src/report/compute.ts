@@ -15,18 +15,23 @@ import {
   type Summary,
 } from '../stats/index.js';
 import {
+  cellStats,
   compareText,
   compareValueLists,
+  groupBy,
+  rollUp,
+  subtractGroup,
   type AgeCount,
   type AgeValueBinCount,
   type AgeValueGridAxes,
   type CellAggregate,
+  type Group,
+  type GroupStats,
   type PopulationValueCount,
   type Shifts,
   type SourceQuality,
   type ValueCount,
-} from '../segments/aggregate.js';
-import { cellStats, groupBy, rollUp, subtractGroup, type Group, type GroupStats } from '../segments/rollup.js';
+} from '../segments/index.js';
 import { analyzeSegment, valueSummary, type SegmentStatistics } from './analysis.js';
 import type { ReportDefinition } from './definition.js';
 import { ageValueGridCells, correlationFromSums, dimensionProfiles, populationDescriptives, populationHistograms } from './descriptives.js';

@@ -5,7 +5,7 @@
  * caller passes in, so this module stays free of SQL.
  */
 import { readDate, readIdentifier } from '../ingest/fields.js';
-import { BUILT_IN_DIMENSIONS, MAX_PLAUSIBLE_AGE, MIN_PLAUSIBLE_AGE, isAttributeName } from '../segments/dimensions.js';
+import { BUILT_IN_DIMENSIONS, MAX_PLAUSIBLE_AGE, MIN_PLAUSIBLE_AGE, isAttributeName } from '../segments/index.js';
 
 export type ReportSource = { campaign_ids: string[] } | { sales_from: string; sales_to: string };
 export type Adjustment = 'bh' | 'holm' | 'none';

@@ -18,7 +18,7 @@ import {
   type CellAggregate,
   type PopulationSource,
   type ValueDistributionScope,
-} from '../segments/aggregate.js';
+} from '../segments/index.js';
 import { buildSnapshot, type PreviousWindow } from './compute.js';
 import { normalizeDefinition, type ReportDefinition } from './definition.js';
 import { ageGridAxis, ageValueGridAxes, isExpandable } from './descriptives.js';

@@ -13,7 +13,7 @@ import {
   valueDistribution,
   type AggregationRequest,
   type GridAxis,
-} from '../../src/segments/aggregate.js';
+} from '../../src/segments/index.js';
 import { ageBandOf } from '../../src/segments/dimensions.js';
 import { TEST_DIALECTS, createTestDatabase, type TestDatabase } from '../support/database.js';
 
