@@ -12,10 +12,10 @@
  * - `rollUp`: cells → total, one-way and two-way segments.
  */
 export { binIndex, gridCountsOf, valueCountsByAgeBin, valueCountsOf } from './age-value-grid.js';
-export type { AgeBinValueCount, AgeValueBinCount, AgeValueGridAxes, GridAxis, PopulationValueCount } from './age-value-grid.js';
+export type { AgeValueBinCount, AgeValueGridAxes, GridAxis, PopulationValueCount } from './age-value-grid.js';
 
 export { cellAggregates, shiftsAndCellAggregates } from './cells.js';
-export type { AgeCount, CellAggregate, CellAggregates } from './cells.js';
+export type { AgeCount, CellAggregate } from './cells.js';
 
 export { sourceQuality } from './data-quality.js';
 export type { SourceQuality } from './data-quality.js';
@@ -26,10 +26,10 @@ export { populationTotals } from './population.js';
 export type { AggregationRequest, PopulationSource } from './population.js';
 
 export { cellStats, groupBy, rollUp, subtractGroup } from './rollup.js';
-export type { Group, GroupStats, Rollup } from './rollup.js';
+export type { Group, GroupStats } from './rollup.js';
 
 export { shiftsFromTotals } from './shifted-sums.js';
-export type { Arithmetic, PairedShiftedSums, PopulationTotals, ShiftedSums, Shifts } from './shifted-sums.js';
+export type { PairedShiftedSums, Shifts } from './shifted-sums.js';
 
 export { compareText, compareValueLists } from './text-order.js';
 
