@@ -1,3 +1,5 @@
+/** Where each CSV record starts, so that every error about a row can name its line. */
+
 const CARRIAGE_RETURN = 0x0d;
 const LINE_FEED = 0x0a;
 const BYTE_ORDER_MARK = 0xfeff;

@@ -102,7 +102,6 @@ function readHeader(names: string[], line: number, limits: ParseLimits): string[
   return normalized;
 }
 
-
 function toMalformedCsv(error: unknown): Error {
   // Not every csv-parse error code starts with CSV_ (INVALID_OPENING_QUOTE does not), so the class decides.
   if (error instanceof CsvError) {

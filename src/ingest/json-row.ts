@@ -6,6 +6,7 @@ import { normalizeColumnName } from './columns.js';
 import { showValue } from './fields.js';
 import { MalformedBodyError, type ParsedRecord } from './records.js';
 
+/** The value of one row's JSON text; text that is not JSON fails the whole upload at its line. */
 export function parseJsonText(text: string, line: number): unknown {
   try {
     // JSON.parse keeps "__proto__" and "constructor" as plain own keys; they are later
@@ -16,6 +17,7 @@ export function parseJsonText(text: string, line: number): unknown {
   }
 }
 
+/** The record of one parsed row: its fields by normalized column name, or a defect saying why it is unusable. */
 export function objectRecord(value: unknown, text: string, row: number, line: number): ParsedRecord {
   const fields = new Map<string, unknown>();
   if (value === null || typeof value !== 'object' || Array.isArray(value)) {

@@ -36,7 +36,6 @@ export interface CellAggregate {
   ageValue: PairedShiftedSums;
 }
 
-
 function term(expression: RawBuilder<unknown>, arithmetic: Arithmetic): RawBuilder<unknown> {
   return arithmetic === 'exact' ? sql`(${expression})` : sql`cast(${expression} as double precision)`;
 }
@@ -160,7 +159,6 @@ interface GroupSums {
 function rawAgeOf(row: Record<string, unknown>): number | null {
   return plausibleAgeOf(row['raw_age'] === null || row['raw_age'] === undefined ? null : toNumber(row['raw_age']));
 }
-
 
 /** A row of the cell query, its sums shifted by `rowShift`, as sums about the report's shifts. */
 function groupSums(row: Record<string, unknown>, rowShift: number, shifts: Shifts, arithmetic: Arithmetic): GroupSums {

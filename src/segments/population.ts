@@ -22,6 +22,7 @@ export interface AggregationRequest {
   valueBasis: 'per_unit' | 'per_conversion';
 }
 
+/** Columns of the derived table `population` that every query of src/segments reads. */
 export const VALUE = sql.ref('population.value_cents');
 export const AGE = sql.ref('population.age');
 export const CONVERTED = sql.ref('population.converted');
