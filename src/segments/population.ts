@@ -116,20 +116,17 @@ function ageBandSql(age: RawBuilder<unknown>, edges: readonly number[]): RawBuil
 }
 
 /**
- * The population as a derived table `population` with columns d0…dk, converted, value_cents,
- * age. With `bandsInCode`, the age band column is left out: the query groups by age anyway,
- * and the band, a function of the age, is then assigned in code (`ageBandOf`).
+ * The population as a derived table `population` with columns d0…dk (one per dimension, the
+ * age band computed in SQL), converted, value_cents, age and raw_age.
  */
-export function population(request: Pick<AggregationRequest, 'source' | 'dimensions' | 'ageEdges'>, options: { bandsInCode?: boolean } = {}): RawBuilder<unknown> {
+export function population(request: Pick<AggregationRequest, 'source' | 'dimensions' | 'ageEdges'>): RawBuilder<unknown> {
   let attributeIndex = 0;
-  const dimensionColumns = request.dimensions.flatMap((dimension, index) => {
+  const dimensionColumns = request.dimensions.map((dimension, index) => {
     let expression: RawBuilder<unknown>;
-    if (dimension === 'age_band') {
-      if (options.bandsInCode) return [];
-      expression = ageBandSql(sql.ref('base.age'), request.ageEdges);
-    } else if (isBuiltInDimension(dimension)) expression = sql.ref(`base.${dimension}`);
+    if (dimension === 'age_band') expression = ageBandSql(sql.ref('base.age'), request.ageEdges);
+    else if (isBuiltInDimension(dimension)) expression = sql.ref(`base.${dimension}`);
     else expression = sql.ref(`base.${attributeColumn(attributeIndex++)}`);
-    return [sql`${expression} as ${sql.ref(dimensionColumn(index))}`];
+    return sql`${expression} as ${sql.ref(dimensionColumn(index))}`;
   });
   return sql`(select ${sql.join([...dimensionColumns, sql`base.converted as converted`, sql`base.value_cents as value_cents`, sql`base.age as age`, sql`base.raw_age as raw_age`])}
     from (${basePopulation(request.source, request.dimensions)}) base) population`;
