@@ -6,7 +6,7 @@ import type { FastifyInstance, FastifyRequest } from 'fastify';
 import type { Readable } from 'node:stream';
 import type { IngestKind, OnError } from '../db/tables.js';
 import { readIdentifier } from '../ingest/fields.js';
-import { formatFromContentType } from '../ingest/parse.js';
+import { formatFromContentType, parseContentType } from '../ingest/media-type.js';
 import * as repository from '../ingest/repository.js';
 import { ingestUpload, toReceipt, type IngestDependencies } from '../ingest/service.js';
 import { Problem } from './problems.js';
@@ -21,12 +21,6 @@ const uploadQuerySchema = {
 const identifierPattern = '^[^\\u0000-\\u001f\\u007f]{1,200}$';
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/;
-
-/** The `charset` parameter of a Content-Type header, lower-cased and unquoted; null when there is none. */
-function declaredCharset(contentType: string): string | null {
-  const match = /;\s*charset\s*=\s*("?)([^";\s]*)\1/i.exec(contentType);
-  return match ? (match[2] ?? '').toLowerCase() : null;
-}
 
 export function ingestRoutes(deps: IngestDependencies) {
   // Ingest ids are UUIDs the service made; any other text names no upload, so the database is not asked.
@@ -45,7 +39,7 @@ export function ingestRoutes(deps: IngestDependencies) {
       }
       // Bodies are read as UTF-8 only; a declared charset or content coding the parser would
       // ignore is refused by name rather than later as garbled text.
-      const charset = declaredCharset(contentType);
+      const { mediaType, charset } = parseContentType(contentType);
       if (charset !== null && charset !== 'utf-8' && charset !== 'utf8') {
         throw new Problem('unsupported-media-type', `send the rows as UTF-8 text (got charset=${charset})`);
       }
@@ -64,7 +58,7 @@ export function ingestRoutes(deps: IngestDependencies) {
       const { on_error: onError } = request.query as { on_error: OnError };
       return ingestUpload(
         { ...deps, logger: request.log },
-        { kind, campaignId, body, format, contentType: contentType.split(';')[0]!.trim().toLowerCase(), onError, idempotencyKey },
+        { kind, campaignId, body, format, contentType: mediaType, onError, idempotencyKey },
       );
     };
 

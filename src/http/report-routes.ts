@@ -6,6 +6,7 @@
 import type { FastifyInstance, FastifyReply, FastifyRequest } from 'fastify';
 import type { Config } from '../config.js';
 import type { DatabaseHandle } from '../db/connect.js';
+import { parseContentType } from '../ingest/media-type.js';
 import type { Logger } from '../logger.js';
 import { InvalidDefinitionError } from '../report/definition/index.js';
 import { SegmentTableCache, entityTag, type TableFormat } from '../present/index.js';
@@ -111,7 +112,7 @@ export function reportRoutes(routeDeps: ReportRouteDependencies) {
     const tables = new SegmentTableCache();
 
     const requireJson = async (request: FastifyRequest) => {
-      const contentType = (request.headers['content-type'] ?? '').split(';')[0]?.trim().toLowerCase() ?? '';
+      const contentType = parseContentType(request.headers['content-type']).mediaType;
       if (contentType !== 'application/json') {
         throw new Problem('unsupported-media-type', `send the report definition as application/json (got "${contentType || 'none'}")`);
       }

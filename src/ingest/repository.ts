@@ -13,11 +13,10 @@
  * spellings of each statement sit side by side below and write the same columns.
  */
 import type SqliteDatabase from 'better-sqlite3';
-import { sql, type Kysely, type Transaction } from 'kysely';
+import { sql, type Transaction } from 'kysely';
+import type { Executor } from '../db/executor.js';
 import { prepared } from '../db/prepared.js';
 import type { CampaignContactsTable, CustomersTable, Database, IngestsTable, RejectedRowsTable, SalesTable } from '../db/tables.js';
-
-export type Executor = Kysely<Database> | Transaction<Database>;
 
 /** Where the per-row statements of one upload run. */
 export interface UploadStore {

@@ -5,10 +5,7 @@
  * condition, so exactly one of them sees its row changed. The expiry frees the lock of an
  * instance that died while holding it.
  */
-import type { Kysely, Transaction } from 'kysely';
-import type { Database } from '../db/tables.js';
-
-export type Executor = Kysely<Database> | Transaction<Database>;
+import type { Executor } from '../db/executor.js';
 
 async function ensureJobRow(db: Executor, jobName: string): Promise<void> {
   await db

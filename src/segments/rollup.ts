@@ -5,7 +5,9 @@
  * "the rest" of a segment is the total minus the segment (`subtractGroup`).
  */
 import { emptySummary, mergeSummaries, subtractSummary, summaryFromShiftedSums, type Summary } from '../stats/index.js';
-import { compareValueLists, type CellAggregate, type PairedShiftedSums, type Shifts } from './aggregate.js';
+import type { CellAggregate } from './cells.js';
+import type { PairedShiftedSums, Shifts } from './shifted-sums.js';
+import { compareValueLists } from './text-order.js';
 
 /** The sufficient statistics of any group of units. Money is in major units (cents / 100). */
 export interface GroupStats {

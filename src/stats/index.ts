@@ -49,10 +49,6 @@ export type { MeanInterval, TwoSampleTTestResult } from './means.js';
 
 export {
   coefficientOfVariation,
-  frequencyTable,
-  histogram,
-  histogramOfCounts,
-  describeCounts,
   mean,
   median,
   modes,
@@ -62,16 +58,17 @@ export {
   standardDeviation,
   variance,
 } from './descriptive.js';
-export type {
-  BasisOptions,
-  BinRule,
-  CountsDescription,
-  FrequencyRow,
-  Histogram,
-  HistogramBin,
-  HistogramOptions,
-  Quartiles,
-} from './descriptive.js';
+export type { BasisOptions } from './descriptive.js';
+export type { Quartiles } from './counts.js';
+
+export { describeCounts } from './describe-counts.js';
+export type { CountsDescription } from './describe-counts.js';
+
+export { frequencyTable } from './frequency-table.js';
+export type { FrequencyRow } from './frequency-table.js';
+
+export { histogram, histogramOfCounts } from './histogram.js';
+export type { BinRule, Histogram, HistogramBin, HistogramOptions } from './histogram.js';
 
 export { covariance, pairedMoments, pearsonCorrelation, pearsonCorrelationFromMoments } from './association.js';
 export type { CorrelationResult, PairedMoments } from './association.js';

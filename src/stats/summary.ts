@@ -85,20 +85,32 @@ export function emptySummary(): Summary {
  */
 export function summarize(values: ReadonlyArray<number>): Summary {
   requireFiniteValues('values', values);
-  const n = values.length;
-  if (n === 0) return emptySummary();
+  return summarizeCounts(values.map((value) => ({ value, count: 1 })));
+}
+
+/**
+ * Summary of a list given as (value, count) pairs, by the same corrected two-pass algorithm
+ * with each term weighted by its count (Chan, Golub & LeVeque 1983). A count of 1 weighs
+ * nothing (v·1 = v exactly), so a list whose counts are all 1 has exactly `summarize`'s
+ * summary. Counts are trusted to be non-negative integers and values finite.
+ */
+export function summarizeCounts(counts: ReadonlyArray<{ readonly value: number; readonly count: number }>): Summary {
+  let n = 0;
   let total = 0;
-  for (const value of values) total += value;
+  for (const { value, count } of counts) {
+    n += count;
+    total += value * count;
+  }
+  if (n === 0) return emptySummary();
   const firstPassMean = total / n;
   let deviationSum = 0;
   let squaredDeviationSum = 0;
-  for (const value of values) {
+  for (const { value, count } of counts) {
     const deviation = value - firstPassMean;
-    deviationSum += deviation;
-    squaredDeviationSum += deviation * deviation;
+    deviationSum += deviation * count;
+    squaredDeviationSum += deviation * deviation * count;
   }
-  const sumSquaredDeviations = Math.max(0, squaredDeviationSum - (deviationSum * deviationSum) / n);
-  return { n, mean: firstPassMean + deviationSum / n, sumSquaredDeviations };
+  return { n, mean: firstPassMean + deviationSum / n, sumSquaredDeviations: Math.max(0, squaredDeviationSum - (deviationSum * deviationSum) / n) };
 }
 
 /**

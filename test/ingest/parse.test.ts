@@ -2,7 +2,7 @@
 import { Readable } from 'node:stream';
 import { describe, expect, it } from 'vitest';
 import { normalizeColumnName } from '../../src/ingest/columns.js';
-import { formatFromContentType, MalformedBodyError, parseRecords, type UploadFormat } from '../../src/ingest/parse.js';
+import { MalformedBodyError, parseRecords, type UploadFormat } from '../../src/ingest/parse.js';
 
 interface Parsed {
   row: number;
@@ -35,19 +35,6 @@ async function parseError(body: string, format: UploadFormat): Promise<Malformed
 }
 
 const linesOf = (records: Parsed[]) => records.map((record) => [record.row, record.line]);
-
-describe('formatFromContentType', () => {
-  it('maps the three upload media types and ignores parameters and case', () => {
-    expect(formatFromContentType('text/csv; charset=utf-8')).toBe('csv');
-    expect(formatFromContentType('Application/JSON')).toBe('json');
-    expect(formatFromContentType('application/x-ndjson')).toBe('ndjson');
-  });
-
-  it('returns null for any other media type', () => {
-    expect(formatFromContentType('text/plain')).toBeNull();
-    expect(formatFromContentType(undefined)).toBeNull();
-  });
-});
 
 describe('normalizeColumnName', () => {
   it('matches header names case- and space-insensitively', () => {

@@ -1,5 +1,5 @@
 /** Cell aggregates built in code from unit lists, as the database would return them. */
-import type { CellAggregate, Shifts } from '../../src/segments/aggregate.js';
+import type { CellAggregate, Shifts } from '../../src/segments/index.js';
 
 export interface TestUnit {
   values: string[];

@@ -1,10 +1,13 @@
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
 import { ageInYears } from '../../src/ingest/fields.js';
 import {
+  ageBandOf,
   binIndex,
   cellAggregates,
+  cellStats,
   gridCountsOf,
   populationTotals,
+  rollUp,
   shiftsAndCellAggregates,
   shiftsFromTotals,
   sourceQuality,
@@ -13,8 +16,12 @@ import {
   valueDistribution,
   type AggregationRequest,
   type GridAxis,
-} from '../../src/segments/aggregate.js';
-import { ageBandOf } from '../../src/segments/dimensions.js';
+  type GroupStats,
+  type Shifts,
+} from '../../src/segments/index.js';
+import { correlationFromSums } from '../../src/report/snapshot/profiles.js';
+import type { Correlation } from '../../src/report/shapes/index.js';
+import { mean, pearsonCorrelation, summaryMean, summaryVariance, variance, type Outcome, type Summary } from '../../src/stats/index.js';
 import { TEST_DIALECTS, createTestDatabase, type TestDatabase } from '../support/database.js';
 
 const EDGES = [18, 25, 35, 45, 55, 65];
@@ -64,6 +71,59 @@ function plausible(age: number | null): number | null {
   return age === null || age < 18 || age > 120 ? null : age;
 }
 
+function valueOf(outcome: Outcome<number>): number {
+  if (!outcome.ok) throw new Error(outcome.reason);
+  return outcome.value;
+}
+
+/**
+ * Equal within a relative 1e-12. One cent or one year more in any sum behind a figure moves
+ * the figure by far more than that on these rows, so the check is as strict as comparing the
+ * sums themselves.
+ */
+function expectClose(actual: number | null, expected: number): void {
+  expect(actual).not.toBeNull();
+  expect(Math.abs((actual as number) - expected)).toBeLessThanOrEqual(1e-12 * Math.max(1, Math.abs(expected)));
+}
+
+function expectSameOutcome(reported: Outcome<number>, listed: Outcome<number>): void {
+  expect(reported.ok).toBe(listed.ok);
+  if (reported.ok && listed.ok) expectClose(reported.value, listed.value);
+}
+
+/** The count, mean and variance a summary reports are those of the values themselves. */
+function expectFigures(summary: Summary, values: number[]): void {
+  expect(summary.n).toBe(values.length);
+  expectSameOutcome(summaryMean(summary), mean(values));
+  expectSameOutcome(summaryVariance(summary), variance(values));
+}
+
+/** The correlation the report shows from sums is Pearson's r of the (age, value) pairs themselves. */
+function expectCorrelation(reported: Correlation, pairs: ReadonlyArray<[number, number]>): void {
+  expect(reported.n).toBe(pairs.length);
+  const listed = pearsonCorrelation(pairs.map(([age]) => age), pairs.map(([, value]) => value), 0.95);
+  if (!listed.ok) {
+    expect(reported.r).toBeNull();
+    return;
+  }
+  expectClose(reported.r, listed.value.r);
+  expectClose(reported.ci_low, listed.value.interval.low);
+  expectClose(reported.ci_high, listed.value.interval.high);
+  expectClose(reported.p_value, listed.value.pValue);
+}
+
+/** Every figure of a group of a per-unit report (money in major units) against its rows. */
+function expectFiguresOfRows(stats: GroupStats, shifts: Shifts, rows: readonly Unit[]): void {
+  const converted = rows.filter((row) => row.converted === 1);
+  const aged = rows.filter((row) => plausible(row.age_at_contact) !== null);
+  expect(stats.n).toBe(rows.length);
+  expect(stats.conversions).toBe(converted.length);
+  expectFigures(stats.unitValue, rows.map((row) => row.revenue_cents / 100));
+  expectFigures(stats.convertedValue, converted.map((row) => row.revenue_cents / 100));
+  expectFigures(stats.age, aged.map((row) => row.age_at_contact as number));
+  expectCorrelation(correlationFromSums(stats.ageValue, shifts, 0.95), aged.map((row) => [row.age_at_contact as number, row.revenue_cents]));
+}
+
 describe.each(TEST_DIALECTS)('aggregation in the database (%s)', (dialect) => {
   let database: TestDatabase;
   beforeAll(async () => {
@@ -95,38 +155,26 @@ describe.each(TEST_DIALECTS)('aggregation in the database (%s)', (dialect) => {
     expect(shiftsFromTotals(totals)).toEqual({ unitValue: Math.round(47250 / 10), convertedValue: Math.round(47250 / 6), age: Math.round(aged.reduce((s, a) => s + a, 0) / aged.length) });
   });
 
-  test('every cell holds the exact shifted sums of its rows, recomputed here from the rows', async () => {
+  test('every cell and every segment reports the counts, means, variances and age–value correlation of its rows', async () => {
     const shifts = { unitValue: 4725, convertedValue: 7875, age: 50 };
     const { cells, arithmetic } = await cellAggregates(database.handle.db, request, shifts);
     expect(arithmetic).toBe('exact');
+    const valuesOf = (unit: Unit) => [ageBandOf(unit.age_at_contact, EDGES), unit.region, unit.tier ?? 'unknown'];
     const expected = new Map<string, Unit[]>();
     for (const unit of UNITS) {
-      const key = JSON.stringify([ageBandOf(unit.age_at_contact, EDGES), unit.region, unit.tier ?? 'unknown']);
+      const key = JSON.stringify(valuesOf(unit));
       expected.set(key, [...(expected.get(key) ?? []), unit]);
     }
     expect(cells.map((cell) => JSON.stringify(cell.values)).sort()).toEqual([...expected.keys()].sort());
-    for (const cell of cells) {
-      const rows = expected.get(JSON.stringify(cell.values)) as Unit[];
-      const converted = rows.filter((row) => row.converted === 1);
-      const aged = rows.filter((row) => plausible(row.age_at_contact) !== null);
-      const sum = (values: number[]) => values.reduce((total, value) => total + value, 0);
-      expect(cell.n).toBe(rows.length);
-      expect(cell.conversions).toBe(converted.length);
-      expect(cell.unitValue).toEqual({ n: rows.length, sumOfShifted: sum(rows.map((row) => row.revenue_cents - 4725)), sumOfSquaredShifted: sum(rows.map((row) => (row.revenue_cents - 4725) ** 2)) });
-      expect(cell.convertedValue).toEqual({
-        n: converted.length,
-        sumOfShifted: sum(converted.map((row) => row.revenue_cents - 7875)),
-        sumOfSquaredShifted: sum(converted.map((row) => (row.revenue_cents - 7875) ** 2)),
-      });
-      expect(cell.age).toEqual({ n: aged.length, sumOfShifted: sum(aged.map((row) => (row.age_at_contact as number) - 50)), sumOfSquaredShifted: sum(aged.map((row) => ((row.age_at_contact as number) - 50) ** 2)) });
-      expect(cell.ageValue).toEqual({
-        n: aged.length,
-        ageSum: sum(aged.map((row) => (row.age_at_contact as number) - 50)),
-        ageSquaredSum: sum(aged.map((row) => ((row.age_at_contact as number) - 50) ** 2)),
-        valueSum: sum(aged.map((row) => row.revenue_cents - 4725)),
-        valueSquaredSum: sum(aged.map((row) => (row.revenue_cents - 4725) ** 2)),
-        crossSum: sum(aged.map((row) => ((row.age_at_contact as number) - 50) * (row.revenue_cents - 4725))),
-      });
+    const cellGroups = cells.map((cell) => ({ values: cell.values, stats: cellStats(cell, shifts) }));
+    for (const cell of cellGroups) expectFiguresOfRows(cell.stats, shifts, expected.get(JSON.stringify(cell.values)) as Unit[]);
+    // The roll-up adds the cells' sums, so a wrong sum in any cell shows in its segments and the total.
+    const { total, segments } = rollUp(cellGroups, request.dimensions, [['region', 'loyalty_tier']]);
+    expectFiguresOfRows(total, shifts, UNITS);
+    for (const segment of segments) {
+      const indexes = segment.dimensions.map((dimension) => request.dimensions.indexOf(dimension));
+      const rows = UNITS.filter((unit) => indexes.every((index, position) => valuesOf(unit)[index] === segment.values[position]));
+      expectFiguresOfRows(segment.stats, shifts, rows);
     }
   });
 
@@ -146,11 +194,16 @@ describe.each(TEST_DIALECTS)('aggregation in the database (%s)', (dialect) => {
     expect(bySql).toEqual(byCode);
   });
 
-  test('the co-moments of the value basis per_conversion use only converted units', async () => {
-    const { cells } = await cellAggregates(database.handle.db, { ...request, dimensions: ['region'], valueBasis: 'per_conversion' }, { unitValue: 0, convertedValue: 0, age: 0 });
-    const north = cells.find((cell) => cell.values[0] === 'North');
-    // North converted units with a plausible age: b (18, 1250), c (24, 999), g (120, 1).
-    expect(north?.ageValue).toEqual({ n: 3, ageSum: 162, ageSquaredSum: 18 * 18 + 24 * 24 + 120 * 120, valueSum: 2250, valueSquaredSum: 1250 ** 2 + 999 ** 2 + 1, crossSum: 18 * 1250 + 24 * 999 + 120 });
+  test('the age–value correlation of the value basis per_conversion uses only converted units', async () => {
+    const shifts = { unitValue: 0, convertedValue: 0, age: 0 };
+    const { cells } = await cellAggregates(database.handle.db, { ...request, dimensions: ['region'], valueBasis: 'per_conversion' }, shifts);
+    const { total } = rollUp(cells.map((cell) => ({ values: cell.values, stats: cellStats(cell, shifts) })), ['region'], []);
+    // Converted units with a plausible age: b (18, 1250), c (24, 999), g (120, 1), e (64, 40000), j (45, 2500);
+    // the unconverted d (25) and f (65) are left out.
+    const pairs: Array<[number, number]> = [[18, 1250], [24, 999], [120, 1], [64, 40000], [45, 2500]];
+    expectCorrelation(correlationFromSums(total.ageValue, shifts, 0.95), pairs);
+    const south = cells.find((cell) => cell.values[0] === 'South');
+    expect(south && correlationFromSums(cellStats(south, shifts).ageValue, shifts, 0.95).n).toBe(2);
   });
 
   test('the age and value distributions count units per cell and value', async () => {
@@ -193,13 +246,18 @@ describe.each(TEST_DIALECTS)('aggregation in the database (%s)', (dialect) => {
       ]);
       const { cells, arithmetic } = await cellAggregates(big.handle.db, { ...request, dimensions: ['region'] }, { unitValue: 0, convertedValue: 0, age: 0 });
       expect(arithmetic).toBe('floating');
-      expect(cells[0]?.unitValue.sumOfSquaredShifted).toBeCloseTo(1.25e28, -14);
+      // Values 0, 1e12 and 5e11 (major units): mean 5e11, variance ((5e11)² + (5e11)²) / 2 = 2.5e23.
+      const { unitValue } = cellStats(cells[0]!, { unitValue: 0, convertedValue: 0, age: 0 });
+      expect(valueOf(summaryMean(unitValue)) / 5e11).toBeCloseTo(1, 14);
+      expect(valueOf(summaryVariance(unitValue)) / 2.5e23).toBeCloseTo(1, 13);
       // The one-pass method cannot be exact here either, and falls back to the totals pass:
       // shifted by the mean 5e13, the squares sum to 2 · (5e13)² = 5e27.
       const onePass = await shiftsAndCellAggregates(big.handle.db, { ...request, dimensions: ['region'] });
       expect(onePass.shifts.unitValue).toBe(50_000_000_000_000);
       expect(onePass.arithmetic).toBe('floating');
-      expect(onePass.cells[0]?.unitValue.sumOfSquaredShifted).toBeCloseTo(5e27, -13);
+      const onePassValue = cellStats(onePass.cells[0]!, onePass.shifts).unitValue;
+      expect(valueOf(summaryMean(onePassValue)) / 5e11).toBeCloseTo(1, 14);
+      expect(valueOf(summaryVariance(onePassValue)) / 2.5e23).toBeCloseTo(1, 13);
     } finally {
       await big.destroy();
     }

@@ -7,7 +7,7 @@ import { sql } from 'kysely';
 import { afterEach, describe, expect, it } from 'vitest';
 import { openDatabase, type DatabaseHandle } from '../../src/db/connect.js';
 import { migrateTo, migrateToLatest } from '../../src/db/migrate.js';
-import { shiftsAndCellAggregates } from '../../src/segments/aggregate.js';
+import { shiftsAndCellAggregates } from '../../src/segments/index.js';
 import { TEST_DIALECTS, dropTestDatabase, testDatabaseSettings } from '../support/database.js';
 
 const NOW = '2026-06-01T00:00:00.000Z';

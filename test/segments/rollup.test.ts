@@ -1,5 +1,5 @@
 import { describe, expect, test } from 'vitest';
-import type { CellAggregate } from '../../src/segments/aggregate.js';
+import type { CellAggregate } from '../../src/segments/index.js';
 import { cellStats, rollUp, subtractGroup } from '../../src/segments/rollup.js';
 import { summarize } from '../../src/stats/index.js';
 

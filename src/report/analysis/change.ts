@@ -4,8 +4,8 @@
  * rank movement against the previous snapshot.
  */
 import { newcombeDifferenceInterval, welchTTest, type Summary } from '../../stats/index.js';
-import type { CellAggregate, Shifts } from '../../segments/aggregate.js';
-import { cellStats, rollUp } from '../../segments/rollup.js';
+import type { CellAggregate, Shifts } from '../../segments/index.js';
+import { cellStats, rollUp } from '../../segments/index.js';
 import type { ReportDefinition } from '../definition/index.js';
 import type { Comparison, SegmentChange, Snapshot, SnapshotSegment } from '../shapes/index.js';
 import { valueOrNull } from './outcome.js';

@@ -1,5 +1,5 @@
 /** The ranking of a report's segments on its ranking metric. */
-import { compareText } from '../../segments/aggregate.js';
+import { compareText } from '../../segments/index.js';
 import type { ReportDefinition } from '../definition/index.js';
 import type { SnapshotSegment } from '../shapes/index.js';
 

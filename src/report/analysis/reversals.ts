@@ -7,7 +7,7 @@
  * Only cells with at least `min_n` units take part, both overall and within levels, so that a
  * "reversal" is not just the noise of tiny cells; at least two levels must be compared.
  */
-import { groupBy, type Group, type GroupStats } from '../../segments/rollup.js';
+import { groupBy, type Group, type GroupStats } from '../../segments/index.js';
 import type { Reversal } from '../shapes/index.js';
 
 /** Fewest levels of the other dimension in which a reversal must hold. */

@@ -2,7 +2,7 @@
  * One segment's row of the snapshot, filled from its statistics against the rest. The
  * p-values are adjusted, the verdict decided and the rank given later, over all segments.
  */
-import type { Group, GroupStats } from '../../segments/rollup.js';
+import type { Group, GroupStats } from '../../segments/index.js';
 import type { ReportDefinition } from '../definition/index.js';
 import type { SnapshotSegment } from '../shapes/index.js';
 import { valueOrNull } from './outcome.js';

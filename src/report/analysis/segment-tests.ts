@@ -23,7 +23,7 @@ import {
   type Summary,
   type TwoSampleTTestResult,
 } from '../../stats/index.js';
-import type { GroupStats } from '../../segments/rollup.js';
+import type { GroupStats } from '../../segments/index.js';
 import type { ValueBasis } from '../definition/index.js';
 
 /** Planning power of the minimum detectable difference: 80 %, the convention of Cohen (1988). */

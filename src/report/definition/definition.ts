@@ -9,7 +9,7 @@
 import { Ajv2020, type ErrorObject } from 'ajv/dist/2020.js';
 import { Type, type Static } from 'typebox';
 import { readDate, readIdentifier } from '../../ingest/fields.js';
-import { BUILT_IN_DIMENSIONS, MAX_PLAUSIBLE_AGE, MIN_PLAUSIBLE_AGE, isAttributeName } from '../../segments/dimensions.js';
+import { BUILT_IN_DIMENSIONS, MAX_PLAUSIBLE_AGE, MIN_PLAUSIBLE_AGE, isAttributeName } from '../../segments/index.js';
 
 /** Bounds, defaults and choices of the fields: the schema is made of them and the reasons quote them. */
 const NAME = { minLength: 1, maxLength: 200, description: 'a short text naming the report' } as const;

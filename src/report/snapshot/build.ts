@@ -5,7 +5,7 @@
  * Pure: numbers in, snapshot out; the service around it does the I/O.
  */
 import { adjustPValues } from '../../stats/index.js';
-import { cellStats, groupBy, rollUp, subtractGroup, type GroupStats } from '../../segments/rollup.js';
+import { cellStats, groupBy, rollUp, subtractGroup, type GroupStats } from '../../segments/index.js';
 import {
   analyzeSegment,
   comparisonBasis,

@@ -1,6 +1,6 @@
 /** The fingerprint of a snapshot's inputs, to tell whether two snapshots were computed from the same data. */
 import { createHash } from 'node:crypto';
-import { compareValueLists } from '../../segments/aggregate.js';
+import { compareValueLists } from '../../segments/index.js';
 import type { SnapshotInput } from './input.js';
 
 function sortedCounts<T extends { values: string[] }>(rows: readonly T[], tail: (row: T) => number | null): T[] {

@@ -8,7 +8,7 @@ import type {
   Shifts,
   SourceQuality,
   ValueCount,
-} from '../../segments/aggregate.js';
+} from '../../segments/index.js';
 import type { PreviousWindow } from '../analysis/index.js';
 import type { ReportDefinition } from '../definition/index.js';
 import type { Snapshot } from '../shapes/index.js';

@@ -3,8 +3,8 @@
  * descriptives and histograms, and the quality of its data.
  */
 import { tInterval, wilsonInterval } from '../../stats/index.js';
-import type { PopulationValueCount } from '../../segments/aggregate.js';
-import type { GroupStats } from '../../segments/rollup.js';
+import type { PopulationValueCount } from '../../segments/index.js';
+import type { GroupStats } from '../../segments/index.js';
 import { valueOrNull, valueSummary } from '../analysis/index.js';
 import type { ReportDefinition } from '../definition/index.js';
 import type { DataQuality, PopulationFigures } from '../shapes/index.js';

@@ -19,8 +19,7 @@ import {
   type Outcome,
   type Summary,
 } from '../../stats/index.js';
-import type { AgeValueBinCount, AgeValueGridAxes, GridAxis, PairedShiftedSums, PopulationValueCount, Shifts } from '../../segments/aggregate.js';
-import type { Group } from '../../segments/rollup.js';
+import type { AgeValueBinCount, AgeValueGridAxes, GridAxis, Group, PairedShiftedSums, PopulationValueCount, Shifts } from '../../segments/index.js';
 import type { AgeValueGridCell, Correlation, Descriptives, DimensionProfile, DimensionValueProfile, HistogramFigure } from '../shapes/index.js';
 
 /** Largest group whose value counts are read from the database, to be described value by value. */

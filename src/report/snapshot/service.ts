@@ -18,15 +18,14 @@ import {
   type CellAggregate,
   type PopulationSource,
   type ValueDistributionScope,
-} from '../../segments/aggregate.js';
+} from '../../segments/index.js';
 import type { PreviousWindow } from '../analysis/index.js';
 import { buildSnapshot } from './build.js';
 import { normalizeDefinition, type ReportDefinition } from '../definition/index.js';
 import { ageGridAxis, ageValueGridAxes, isExpandable } from './profiles.js';
 import * as repository from '../store/index.js';
 import { renderSegmentTable, type RenderedTable, type SegmentTableCache, type TableFormat } from '../../present/index.js';
-import type { Snapshot } from '../shapes/index.js';
-import type { Report } from '../shapes/index.js';
+import type { Report, Snapshot } from '../shapes/index.js';
 
 export interface ReportDependencies {
   dialect: Dialect;

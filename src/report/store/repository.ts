@@ -2,12 +2,11 @@
  * Every SQL statement about report definitions and snapshots. Snapshots are written once and
  * never updated; their body is the whole snapshot as JSON text.
  */
-import type { Kysely, Transaction } from 'kysely';
+import type { Kysely } from 'kysely';
 import { sqliteConnectionOf } from '../../db/connect.js';
+import type { Executor } from '../../db/executor.js';
 import { prepared } from '../../db/prepared.js';
 import type { Database, ReportSnapshotsTable, ReportsTable } from '../../db/tables.js';
-
-export type Executor = Kysely<Database> | Transaction<Database>;
 
 /** Stores a new report definition. */
 export async function insertReport(db: Executor, row: ReportsTable): Promise<void> {

@@ -1,0 +1,37 @@
+/**
+ * Public face of src/segments: the SQL of a report's population and the code that turns its
+ * sufficient statistics into cells and segments. Each query returns sums or counts, never raw
+ * rows:
+ *
+ * - `shiftsAndCellAggregates` (or `populationTotals` → `shiftsFromTotals` → `cellAggregates`):
+ *   the finest cells with their shifted sums, the age counts and the unconverted units per age;
+ * - `valueDistribution`: counts per (cell, value), for medians, quartiles and modes;
+ * - `valueCountsByAgeBin`: counts per value and age bin, for the value histogram
+ *   (`valueCountsOf`) and the age × value grid (`gridCountsOf`);
+ * - `sourceQuality`: data-quality counts the cells do not show;
+ * - `rollUp`: cells → total, one-way and two-way segments.
+ */
+export { binIndex, gridCountsOf, valueCountsByAgeBin, valueCountsOf } from './age-value-grid.js';
+export type { AgeValueBinCount, AgeValueGridAxes, GridAxis, PopulationValueCount } from './age-value-grid.js';
+
+export { cellAggregates, shiftsAndCellAggregates } from './cells.js';
+export type { AgeCount, CellAggregate } from './cells.js';
+
+export { sourceQuality } from './data-quality.js';
+export type { SourceQuality } from './data-quality.js';
+
+export { BUILT_IN_DIMENSIONS, MAX_PLAUSIBLE_AGE, MIN_PLAUSIBLE_AGE, ageBandOf, isAttributeName } from './dimensions.js';
+
+export { populationTotals } from './population.js';
+export type { AggregationRequest, PopulationSource } from './population.js';
+
+export { cellStats, groupBy, rollUp, subtractGroup } from './rollup.js';
+export type { Group, GroupStats } from './rollup.js';
+
+export { shiftsFromTotals } from './shifted-sums.js';
+export type { PairedShiftedSums, Shifts } from './shifted-sums.js';
+
+export { compareText, compareValueLists } from './text-order.js';
+
+export { valueDistribution } from './value-counts.js';
+export type { ValueCount, ValueDistributionScope } from './value-counts.js';

@@ -1,0 +1,165 @@
+/**
+ * The population of a report (campaign contacts, or customers in a sales window) as a derived
+ * table with one column per dimension, which the other queries of src/segments group in the
+ * database so that they return sufficient statistics, never raw rows; and its totals.
+ *
+ * The SQL is the subset SQLite and PostgreSQL share (CASE, COALESCE, SUBSTR, CAST … AS
+ * INTEGER / DOUBLE PRECISION) and everything is integer arithmetic on cents and years, so
+ * both engines return the same exact sums. Text values are never ordered in SQL (collations
+ * differ between engines); callers sort in code.
+ */
+import { sql, type RawBuilder } from 'kysely';
+import type { Executor } from '../db/executor.js';
+import { MAX_PLAUSIBLE_AGE, MIN_PLAUSIBLE_AGE, UNKNOWN, ageBands, isBuiltInDimension } from './dimensions.js';
+import type { PopulationTotals } from './shifted-sums.js';
+
+export type PopulationSource = { kind: 'campaigns'; campaignIds: string[] } | { kind: 'sales'; from: string; to: string };
+
+export interface AggregationRequest {
+  source: PopulationSource;
+  dimensions: readonly string[];
+  ageEdges: readonly number[];
+  valueBasis: 'per_unit' | 'per_conversion';
+}
+
+/** Columns of the derived table `population` that every query of src/segments reads. */
+export const VALUE = sql.ref('population.value_cents');
+export const AGE = sql.ref('population.age');
+export const CONVERTED = sql.ref('population.converted');
+
+export function dimensionColumn(index: number): string {
+  return `d${index}`;
+}
+
+export function attributeColumn(index: number): string {
+  return `attribute_${index}`;
+}
+
+/** Age in whole years at `onDate` from `birthDateColumn`, by exact birthday arithmetic (as `ageInYears`). */
+function ageAtDateSql(birthDateColumn: RawBuilder<unknown>, onDate: string): RawBuilder<number | null> {
+  const year = Number(onDate.slice(0, 4));
+  const monthDay = onDate.slice(5, 10);
+  if (!Number.isInteger(year) || !/^\d{2}-\d{2}$/.test(monthDay)) throw new Error(`not an ISO date: ${onDate}`);
+  return sql<number | null>`(${sql.lit(year)} - cast(substr(${birthDateColumn}, 1, 4) as integer) - case when ${sql.lit(monthDay)} < substr(${birthDateColumn}, 6, 5) then 1 else 0 end)`;
+}
+
+function plausibleAge(age: RawBuilder<unknown>): RawBuilder<number | null> {
+  return sql<number | null>`case when ${age} between ${sql.lit(MIN_PLAUSIBLE_AGE)} and ${sql.lit(MAX_PLAUSIBLE_AGE)} then ${age} end`;
+}
+
+/** The columns a campaign report's cells are grouped by, in the order of the index `campaign_contacts_by_cell`. */
+export const CONTACT_CELL_COLUMNS = ['region', 'channel', 'customer_type'] as const;
+
+/**
+ * The units of the population with the columns the reports need: converted (0/1),
+ * value_cents, age (plausible or null), raw_age (as stored or computed, for grouping) and the
+ * dimension columns. A campaign population reads the customer's values copied onto each
+ * contact, so it never joins customers; it also offers campaign_key, and always all three
+ * customer columns, so that its cells can be grouped in the order of its covering index.
+ */
+export function basePopulation(source: PopulationSource, dimensions: readonly string[]): RawBuilder<unknown> {
+  const attributeNames = dimensions.filter((dimension) => !isBuiltInDimension(dimension));
+  const customerKey = source.kind === 'campaigns' ? sql.ref('cc.customer_id') : sql.ref('cu.customer_id');
+
+  const columns: Array<RawBuilder<unknown>> = [];
+  attributeNames.forEach((_name, index) => {
+    columns.push(sql`coalesce(${sql.ref(`a${index}.value`)}, ${sql.lit(UNKNOWN)}) as ${sql.ref(attributeColumn(index))}`);
+  });
+  const attributeJoins = attributeNames.map(
+    (name, index) =>
+      sql`left join customer_attributes ${sql.ref(`a${index}`)} on ${sql.ref(`a${index}.customer_id`)} = ${customerKey} and ${sql.ref(`a${index}.name`)} = ${name}`,
+  );
+
+  if (source.kind === 'campaigns') {
+    for (const column of CONTACT_CELL_COLUMNS) columns.push(sql`${sql.ref(`cc.${column}`)} as ${sql.ref(column)}`);
+    columns.push(
+      sql`cc.campaign_id as campaign_key`,
+      sql`cc.converted as converted`,
+      sql`cc.revenue_cents as value_cents`,
+      sql`cc.age_at_contact as raw_age`,
+      sql`${plausibleAge(sql.ref('cc.age_at_contact'))} as age`,
+    );
+    return sql`select ${sql.join(columns)}
+      from campaign_contacts cc
+      ${sql.join(attributeJoins, sql` `)}
+      where cc.campaign_id in (${sql.join(source.campaignIds)})`;
+  }
+
+  // A sales report's unit is a customer: bought in the window or not, spend in the window, age at its end.
+  for (const column of CONTACT_CELL_COLUMNS) if (dimensions.includes(column)) columns.push(sql`${sql.ref(`cu.${column}`)} as ${sql.ref(column)}`);
+  const ageAtEnd = ageAtDateSql(sql.ref('cu.birth_date'), source.to);
+  columns.push(
+    sql`case when s.spend is null then 0 else 1 end as converted`,
+    sql`coalesce(s.spend, 0) as value_cents`,
+    sql`${ageAtEnd} as raw_age`,
+    sql`${plausibleAge(ageAtEnd)} as age`,
+  );
+  return sql`select ${sql.join(columns)}
+    from customers cu
+    left join (
+      select customer_id, sum(amount_cents) as spend from sales
+      where sold_at >= ${source.from} and sold_at <= ${source.to}
+      group by customer_id
+    ) s on s.customer_id = cu.customer_id
+    ${sql.join(attributeJoins, sql` `)}`;
+}
+
+/** The age as the population's `age` column has it: the raw age when plausible, else null. */
+export function plausibleAgeOf(rawAge: number | null): number | null {
+  return rawAge !== null && rawAge >= MIN_PLAUSIBLE_AGE && rawAge <= MAX_PLAUSIBLE_AGE ? rawAge : null;
+}
+
+function ageBandSql(age: RawBuilder<unknown>, edges: readonly number[]): RawBuilder<string> {
+  const bands = ageBands(edges);
+  const branches = bands.map((band) => sql`when ${age} <= ${sql.lit(band.high)} then ${sql.lit(band.label)}`);
+  return sql<string>`case when ${age} is null then ${sql.lit(UNKNOWN)} ${sql.join(branches, sql` `)} else ${sql.lit(UNKNOWN)} end`;
+}
+
+/**
+ * The population as a derived table `population` with columns d0…dk (one per dimension, the
+ * age band computed in SQL), converted, value_cents, age and raw_age.
+ */
+export function population(request: Pick<AggregationRequest, 'source' | 'dimensions' | 'ageEdges'>): RawBuilder<unknown> {
+  let attributeIndex = 0;
+  const dimensionColumns = request.dimensions.map((dimension, index) => {
+    let expression: RawBuilder<unknown>;
+    if (dimension === 'age_band') expression = ageBandSql(sql.ref('base.age'), request.ageEdges);
+    else if (isBuiltInDimension(dimension)) expression = sql.ref(`base.${dimension}`);
+    else expression = sql.ref(`base.${attributeColumn(attributeIndex++)}`);
+    return sql`${expression} as ${sql.ref(dimensionColumn(index))}`;
+  });
+  return sql`(select ${sql.join([...dimensionColumns, sql`base.converted as converted`, sql`base.value_cents as value_cents`, sql`base.age as age`, sql`base.raw_age as raw_age`])}
+    from (${basePopulation(request.source, request.dimensions)}) base) population`;
+}
+
+export function toNumber(value: unknown): number {
+  if (value === null || value === undefined) return 0;
+  const number = typeof value === 'number' ? value : Number(value);
+  if (!Number.isFinite(number)) throw new Error(`the database returned a non-numeric aggregate: ${String(value)}`);
+  return number;
+}
+
+/**
+ * Counts and totals of the whole population in one pass, the first of a report's queries:
+ * its means, rounded to whole cents and years, become the shifts of the cell sums.
+ */
+export async function populationTotals(db: Executor, source: PopulationSource): Promise<PopulationTotals> {
+  const { rows } = await sql<Record<string, unknown>>`
+    select count(*) as n,
+      sum(${CONVERTED}) as conversions,
+      sum(${VALUE}) as value_cents,
+      sum(case when ${CONVERTED} = 1 then ${VALUE} else 0 end) as converted_value_cents,
+      count(${AGE}) as aged_units,
+      sum(${AGE}) as age_total
+    from (${basePopulation(source, [])}) population`.execute(db);
+  const row = rows[0] ?? {};
+  return {
+    n: toNumber(row['n']),
+    conversions: toNumber(row['conversions']),
+    valueCents: toNumber(row['value_cents']),
+    convertedValueCents: toNumber(row['converted_value_cents']),
+    agedUnits: toNumber(row['aged_units']),
+    ageTotal: toNumber(row['age_total']),
+  };
+}
+
