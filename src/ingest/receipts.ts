@@ -9,7 +9,7 @@ import { toReceipt, type Receipt } from './service.js';
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/;
 
-export interface RejectedRow {
+interface RejectedRow {
   row: number;
   line: number;
   column: string | null;
