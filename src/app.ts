@@ -2,19 +2,24 @@
  * Builds the HTTP application from its dependencies without listening, so tests drive it
  * through `inject` or supertest and `main.ts` alone decides where it listens.
  */
+import accepts from '@fastify/accepts';
 import Fastify, { type FastifyInstance } from 'fastify';
 import type { Config } from './config.js';
 import type { DatabaseHandle } from './db/connect.js';
 import { registerAuth } from './http/auth.js';
-import { registerErrorHandling, sendProblem } from './http/errors.js';
-import { Problem } from './http/problems.js';
+import { answerRouterError, registerErrorHandling } from './http/errors.js';
 import { registerLimits } from './http/limits.js';
 import { healthRoutes } from './http/health-routes.js';
 import { ingestRoutes } from './http/ingest-routes.js';
 import { openapiRoutes } from './http/openapi-routes.js';
 import { pageRoutes } from './http/page-routes.js';
 import { reportRoutes } from './http/report-routes.js';
+import type { IngestDependencies } from './ingest/service.js';
 import type { Logger } from './logger.js';
+import { SegmentTableCache } from './present/index.js';
+import { reportDependencies } from './report/snapshot/index.js';
+import { refreshSchedulePlugin } from './schedule/plugin.js';
+import { createChartCache } from './view/chart-cache.js';
 
 export interface RegisteredRoute {
   method: string;
@@ -48,9 +53,7 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
     routerOptions: { maxParamLength: 256 },
     // Errors the router raises before any route runs (a malformed URL, an overlong parameter)
     // leave as problem details too.
-    frameworkErrors: (error, request, reply) => {
-      sendProblem(reply, request, new Problem('invalid-request', `the request URL cannot be read: ${error.message}`));
-    },
+    frameworkErrors: answerRouterError,
   });
   registerErrorHandling(app);
   // The route list lets the contract test compare what is served with openapi.yaml.
@@ -60,23 +63,35 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
     for (const method of [route.method].flat()) if (method !== 'HEAD') routes.push({ method, url: route.url });
   });
 
+  // Built once and shared by the plugins that need them.
+  const reports = reportDependencies(deps.database, deps.logger, now);
+  const ingest: IngestDependencies = {
+    db: deps.database.db,
+    logger: deps.logger,
+    now,
+    limits: {
+      maxBytes: deps.config.maxUploadBytes,
+      maxRows: deps.config.maxUploadRows,
+      progressEveryRows: deps.config.ingestProgressEveryRows,
+    },
+  };
+  const tables = new SegmentTableCache();
+  const charts = createChartCache();
+  app.addHook('onClose', async () => {
+    tables.clear();
+    charts.clear();
+  });
+
   registerAuth(app, { db: deps.database.readDb, mode: deps.config.authMode });
   await registerLimits(app, deps.config);
-  await app.register(healthRoutes({ db: deps.database.readDb }));
-  await app.register(openapiRoutes());
-  await app.register(
-    ingestRoutes({
-      db: deps.database.db,
-      logger: deps.logger,
-      now,
-      limits: {
-        maxBytes: deps.config.maxUploadBytes,
-        maxRows: deps.config.maxUploadRows,
-        progressEveryRows: deps.config.ingestProgressEveryRows,
-      },
-    }),
-  );
-  await app.register(reportRoutes({ config: deps.config, database: deps.database, logger: deps.logger, now }));
-  await app.register(pageRoutes({ config: deps.config, database: deps.database, logger: deps.logger, now }));
+  await app.register(accepts);
+  await app.register(healthRoutes, { db: deps.database.readDb });
+  await app.register(openapiRoutes);
+  await app.register(ingestRoutes, ingest);
+  await app.register(reportRoutes, { reports, tables });
+  await app.register(pageRoutes, { reports, charts, openMode: deps.config.authMode === 'open' });
+  if (deps.config.scheduleEnabled) {
+    await app.register(refreshSchedulePlugin, { reports, cron: deps.config.refreshCron, timeZone: deps.config.refreshTimeZone });
+  }
   return app;
 }

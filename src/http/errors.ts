@@ -1,7 +1,8 @@
 /**
- * The single error handler: every failure leaves as application/problem+json. Known errors of
- * the domain map to their problem type here; anything unexpected is logged and answered as
- * `internal` without internals in the body.
+ * The single place where errors become problem details: every failure leaves as
+ * application/problem+json. Known errors of the domain are recognised by their class, errors of
+ * the framework by their code; anything unexpected is logged and answered as `internal`
+ * without internals in the body.
  */
 import type { FastifyError, FastifyInstance, FastifyReply, FastifyRequest } from 'fastify';
 import { MalformedBodyError } from '../ingest/parse.js';
@@ -12,9 +13,16 @@ import {
   TooManyRowsError,
   UploadTooLargeError,
 } from '../ingest/service.js';
+import { InvalidDefinitionError } from '../report/definition/index.js';
+import { ReportNotFoundError, SnapshotNotFoundError } from '../report/snapshot/index.js';
 import { Problem } from './problems.js';
 
 export function toProblem(error: unknown): Problem {
+  return domainProblem(error) ?? frameworkProblem(error) ?? new Problem('internal', 'an unexpected error occurred; it has been logged');
+}
+
+/** Errors the service's own modules throw, by class; null for any other error. */
+function domainProblem(error: unknown): Problem | null {
   if (error instanceof Problem) return error;
   if (error instanceof RowsRejectedError) {
     return new Problem('invalid-rows', error.message, {
@@ -38,9 +46,28 @@ export function toProblem(error: unknown): Problem {
   if (error instanceof TooManyRowsError) return new Problem('payload-too-large', error.message, { limit_rows: error.limitRows });
   if (error instanceof EmptyUploadError) return new Problem('malformed-body', error.message);
   if (error instanceof IdempotencyConflictError) return new Problem('conflict', error.message);
+  if (error instanceof InvalidDefinitionError) {
+    const first = error.issues[0];
+    const detail =
+      error.issues.length === 1 && first ? `${first.field}: ${first.reason}` : `the report definition has ${error.issues.length} problems; see errors`;
+    return new Problem('invalid-request', detail, { errors: error.issues.map((issue) => ({ field: issue.field, reason: issue.reason })) });
+  }
+  if (error instanceof ReportNotFoundError) return new Problem('not-found', error.message);
+  if (error instanceof SnapshotNotFoundError) {
+    const { reportId, snapshotId } = error;
+    return new Problem(
+      'not-found',
+      snapshotId === 'latest' ? `report ${reportId} has no snapshot yet; POST /v1/reports/${reportId}/refresh computes one` : `report ${reportId} has no snapshot ${snapshotId}`,
+    );
+  }
   if (isTextTheDatabaseCannotStore(error)) {
     return new Problem('invalid-request', 'the request holds text the database cannot store or compare (such as a NUL character, \\u0000)');
   }
+  return null;
+}
+
+/** Errors fastify raises while reading a request, by their validation result, code or status; null for any other error. */
+function frameworkProblem(error: unknown): Problem | null {
   const fastifyError = error as Partial<FastifyError> & { validation?: unknown[] };
   if (fastifyError.validation) {
     return new Problem('invalid-request', fastifyError.message ?? 'the request is not valid', {
@@ -65,7 +92,7 @@ export function toProblem(error: unknown): Problem {
   if (typeof fastifyError.statusCode === 'number' && fastifyError.statusCode >= 400 && fastifyError.statusCode < 500) {
     return new Problem(fastifyError.statusCode === 413 ? 'payload-too-large' : 'invalid-request', fastifyError.message ?? 'the request is not valid');
   }
-  return new Problem('internal', 'an unexpected error occurred; it has been logged');
+  return null;
 }
 
 /**
@@ -85,6 +112,14 @@ export function sendProblem(reply: FastifyReply, request: FastifyRequest, proble
   // describes its own body (/healthz declares a health body for 503) and would reject a problem
   // there, turning a 503 under load into a 500; plain JSON serialization keeps every field.
   return reply.code(problem.status).type('application/problem+json').serializer(JSON.stringify).send(problem.toBody(request.url));
+}
+
+/**
+ * Errors the router raises before any route runs (a malformed URL, an overlong parameter);
+ * given to fastify as `frameworkErrors`, since they never reach the error handler.
+ */
+export function answerRouterError(error: FastifyError, request: FastifyRequest, reply: FastifyReply): void {
+  sendProblem(reply, request, new Problem('invalid-request', `the request URL cannot be read: ${error.message}`));
 }
 
 export function registerErrorHandling(app: FastifyInstance): void {

@@ -2,13 +2,13 @@
  * Upload, receipt and erasure routes. Upload bodies are handed to the ingest service as a raw
  * stream (no body parser in this scope), so a large upload is parsed while it arrives.
  */
-import type { FastifyInstance, FastifyRequest } from 'fastify';
+import type { FastifyPluginAsync, FastifyRequest } from 'fastify';
 import type { Readable } from 'node:stream';
 import type { IngestKind, OnError } from '../db/tables.js';
-import { readIdentifier } from '../ingest/fields.js';
+import { eraseCustomer } from '../ingest/erasure.js';
 import { formatFromContentType, parseContentType } from '../ingest/media-type.js';
-import * as repository from '../ingest/repository.js';
-import { ingestUpload, toReceipt, type IngestDependencies } from '../ingest/service.js';
+import { findReceipt, findRejectedRows } from '../ingest/receipts.js';
+import { ingestUpload, type IngestDependencies } from '../ingest/service.js';
 import { Problem } from './problems.js';
 import { Receipt, RejectedRowsPage } from './schemas.js';
 
@@ -20,130 +20,114 @@ const uploadQuerySchema = {
 
 const identifierPattern = '^[^\\u0000-\\u001f\\u007f]{1,200}$';
 
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/;
+export const ingestRoutes: FastifyPluginAsync<IngestDependencies> = async (app, deps) => {
+  // Uploads are streamed to the parser; any content type reaches the handler, which decides.
+  app.removeAllContentTypeParsers();
+  app.addContentTypeParser('*', (_request, payload, done) => done(null, payload));
 
-export function ingestRoutes(deps: IngestDependencies) {
-  // Ingest ids are UUIDs the service made; any other text names no upload, so the database is not asked.
-  const findIngestById = (ingestId: string) => (UUID.test(ingestId) ? repository.findIngest(deps.db, ingestId) : Promise.resolve(undefined));
-
-  return async function plugin(app: FastifyInstance): Promise<void> {
-    // Uploads are streamed to the parser; any content type reaches the handler, which decides.
-    app.removeAllContentTypeParsers();
-    app.addContentTypeParser('*', (_request, payload, done) => done(null, payload));
-
-    const upload = async (request: FastifyRequest, kind: IngestKind, campaignId: string | null) => {
-      const contentType = request.headers['content-type'] ?? '';
-      const format = formatFromContentType(contentType);
-      if (format === null) {
-        throw new Problem('unsupported-media-type', `send the rows as text/csv, application/json or application/x-ndjson (got "${contentType || 'none'}")`);
-      }
-      // Bodies are read as UTF-8 only; a declared charset or content coding the parser would
-      // ignore is refused by name rather than later as garbled text.
-      const { mediaType, charset } = parseContentType(contentType);
-      if (charset !== null && charset !== 'utf-8' && charset !== 'utf8') {
-        throw new Problem('unsupported-media-type', `send the rows as UTF-8 text (got charset=${charset})`);
-      }
-      const contentEncoding = String(request.headers['content-encoding'] ?? '').trim().toLowerCase();
-      if (contentEncoding !== '' && contentEncoding !== 'identity') {
-        throw new Problem('unsupported-media-type', `send the rows uncompressed (got Content-Encoding: ${contentEncoding})`);
-      }
-      const declaredLength = Number(request.headers['content-length']);
-      if (Number.isFinite(declaredLength) && declaredLength > deps.limits.maxBytes) {
-        throw new Problem('payload-too-large', `the upload is larger than ${deps.limits.maxBytes} bytes`, { limit_bytes: deps.limits.maxBytes });
-      }
-      const body = request.body as Readable | undefined;
-      if (!body || typeof (body as Readable).pipe !== 'function') throw new Problem('malformed-body', 'the upload is empty');
-      const key = request.headers['idempotency-key'];
-      const idempotencyKey = typeof key === 'string' && key.trim() !== '' ? key.trim().slice(0, 200) : null;
-      const { on_error: onError } = request.query as { on_error: OnError };
-      return ingestUpload(
-        { ...deps, logger: request.log },
-        { kind, campaignId, body, format, contentType: mediaType, onError, idempotencyKey },
-      );
-    };
-
-    const uploadResponses = { 200: Receipt, 201: Receipt };
-
-    app.post('/v1/customers', { schema: { querystring: uploadQuerySchema, response: uploadResponses } }, async (request, reply) => {
-      const { receipt, replayed } = await upload(request, 'customers', null);
-      return reply.code(replayed ? 200 : 201).header('location', `/v1/ingests/${receipt.ingest_id}`).header('idempotent-replayed', String(replayed)).send(receipt);
-    });
-
-    app.post('/v1/sales', { schema: { querystring: uploadQuerySchema, response: uploadResponses } }, async (request, reply) => {
-      const { receipt, replayed } = await upload(request, 'sales', null);
-      return reply.code(replayed ? 200 : 201).header('location', `/v1/ingests/${receipt.ingest_id}`).header('idempotent-replayed', String(replayed)).send(receipt);
-    });
-
-    app.post(
-      '/v1/campaigns/:campaign_id/contacts',
-      {
-        schema: {
-          params: { type: 'object', properties: { campaign_id: { type: 'string', pattern: identifierPattern } }, required: ['campaign_id'] },
-          querystring: uploadQuerySchema,
-          response: uploadResponses,
-        },
-      },
-      async (request, reply) => {
-        const { campaign_id: campaignId } = request.params as { campaign_id: string };
-        // Surrounding spaces are dropped as in every other identifier, so spaces alone name nothing.
-        if (campaignId.trim() === '') throw new Problem('invalid-request', 'campaign_id must not be blank');
-        const { receipt, replayed } = await upload(request, 'contacts', campaignId.trim());
-        return reply.code(replayed ? 200 : 201).header('location', `/v1/ingests/${receipt.ingest_id}`).header('idempotent-replayed', String(replayed)).send(receipt);
-      },
-    );
-
-    app.get(
-      '/v1/ingests/:ingest_id',
-      { schema: { params: { type: 'object', properties: { ingest_id: { type: 'string' } }, required: ['ingest_id'] }, response: { 200: Receipt } } },
-      async (request) => {
-        const { ingest_id: ingestId } = request.params as { ingest_id: string };
-        const stored = await findIngestById(ingestId);
-        if (!stored) throw new Problem('not-found', `no upload with id ${ingestId}`);
-        return toReceipt(stored);
-      },
-    );
-
-    app.get(
-      '/v1/ingests/:ingest_id/rejected',
-      {
-        schema: {
-          params: { type: 'object', properties: { ingest_id: { type: 'string' } }, required: ['ingest_id'] },
-          querystring: {
-            type: 'object',
-            properties: { limit: { type: 'integer', minimum: 1, maximum: 10_000, default: 1000 }, offset: { type: 'integer', minimum: 0, default: 0 } },
-            additionalProperties: false,
-          },
-          response: { 200: RejectedRowsPage },
-        },
-      },
-      async (request) => {
-        const { ingest_id: ingestId } = request.params as { ingest_id: string };
-        const { limit, offset } = request.query as { limit: number; offset: number };
-        const stored = await findIngestById(ingestId);
-        if (!stored) throw new Problem('not-found', `no upload with id ${ingestId}`);
-        const rows = await repository.listRejectedRows(deps.db, ingestId, { limit, offset });
-        return {
-          ingest_id: ingestId,
-          total: Number(stored.rejected),
-          limit,
-          offset,
-          rows: rows.map((row) => ({ row: Number(row.row_number), line: Number(row.line), column: row.column_name, value: row.value, reason: row.reason })),
-        };
-      },
-    );
-
-    app.delete(
-      '/v1/customers/:customer_id',
-      { schema: { params: { type: 'object', properties: { customer_id: { type: 'string' } }, required: ['customer_id'] } } },
-      async (request, reply) => {
-        const { customer_id: customerId } = request.params as { customer_id: string };
-        // An id the upload checks would refuse (control characters, over 200 characters) names no
-        // customer; PostgreSQL could not even compare one holding a NUL.
-        const erased = readIdentifier(customerId).ok ? await deps.db.transaction().execute((trx) => repository.eraseCustomer(trx, customerId)) : false;
-        if (!erased) throw new Problem('not-found', `no customer with id ${customerId}`);
-        request.log.info({ customerId }, 'customer erased');
-        return reply.code(204).send();
-      },
+  const upload = async (request: FastifyRequest, kind: IngestKind, campaignId: string | null) => {
+    const contentType = request.headers['content-type'] ?? '';
+    const format = formatFromContentType(contentType);
+    if (format === null) {
+      throw new Problem('unsupported-media-type', `send the rows as text/csv, application/json or application/x-ndjson (got "${contentType || 'none'}")`);
+    }
+    // Bodies are read as UTF-8 only; a declared charset or content coding the parser would
+    // ignore is refused by name rather than later as garbled text.
+    const { mediaType, charset } = parseContentType(contentType);
+    if (charset !== null && charset !== 'utf-8' && charset !== 'utf8') {
+      throw new Problem('unsupported-media-type', `send the rows as UTF-8 text (got charset=${charset})`);
+    }
+    const contentEncoding = String(request.headers['content-encoding'] ?? '').trim().toLowerCase();
+    if (contentEncoding !== '' && contentEncoding !== 'identity') {
+      throw new Problem('unsupported-media-type', `send the rows uncompressed (got Content-Encoding: ${contentEncoding})`);
+    }
+    const declaredLength = Number(request.headers['content-length']);
+    if (Number.isFinite(declaredLength) && declaredLength > deps.limits.maxBytes) {
+      throw new Problem('payload-too-large', `the upload is larger than ${deps.limits.maxBytes} bytes`, { limit_bytes: deps.limits.maxBytes });
+    }
+    const body = request.body as Readable | undefined;
+    if (!body || typeof (body as Readable).pipe !== 'function') throw new Problem('malformed-body', 'the upload is empty');
+    const key = request.headers['idempotency-key'];
+    const idempotencyKey = typeof key === 'string' && key.trim() !== '' ? key.trim().slice(0, 200) : null;
+    const { on_error: onError } = request.query as { on_error: OnError };
+    return ingestUpload(
+      { ...deps, logger: request.log },
+      { kind, campaignId, body, format, contentType: mediaType, onError, idempotencyKey },
     );
   };
-}
+
+  const uploadResponses = { 200: Receipt, 201: Receipt };
+
+  app.post('/v1/customers', { schema: { querystring: uploadQuerySchema, response: uploadResponses } }, async (request, reply) => {
+    const { receipt, replayed } = await upload(request, 'customers', null);
+    return reply.code(replayed ? 200 : 201).header('location', `/v1/ingests/${receipt.ingest_id}`).header('idempotent-replayed', String(replayed)).send(receipt);
+  });
+
+  app.post('/v1/sales', { schema: { querystring: uploadQuerySchema, response: uploadResponses } }, async (request, reply) => {
+    const { receipt, replayed } = await upload(request, 'sales', null);
+    return reply.code(replayed ? 200 : 201).header('location', `/v1/ingests/${receipt.ingest_id}`).header('idempotent-replayed', String(replayed)).send(receipt);
+  });
+
+  app.post(
+    '/v1/campaigns/:campaign_id/contacts',
+    {
+      schema: {
+        params: { type: 'object', properties: { campaign_id: { type: 'string', pattern: identifierPattern } }, required: ['campaign_id'] },
+        querystring: uploadQuerySchema,
+        response: uploadResponses,
+      },
+    },
+    async (request, reply) => {
+      const { campaign_id: campaignId } = request.params as { campaign_id: string };
+      // Surrounding spaces are dropped as in every other identifier, so spaces alone name nothing.
+      if (campaignId.trim() === '') throw new Problem('invalid-request', 'campaign_id must not be blank');
+      const { receipt, replayed } = await upload(request, 'contacts', campaignId.trim());
+      return reply.code(replayed ? 200 : 201).header('location', `/v1/ingests/${receipt.ingest_id}`).header('idempotent-replayed', String(replayed)).send(receipt);
+    },
+  );
+
+  app.get(
+    '/v1/ingests/:ingest_id',
+    { schema: { params: { type: 'object', properties: { ingest_id: { type: 'string' } }, required: ['ingest_id'] }, response: { 200: Receipt } } },
+    async (request) => {
+      const { ingest_id: ingestId } = request.params as { ingest_id: string };
+      const receipt = await findReceipt(deps.db, ingestId);
+      if (!receipt) throw new Problem('not-found', `no upload with id ${ingestId}`);
+      return receipt;
+    },
+  );
+
+  app.get(
+    '/v1/ingests/:ingest_id/rejected',
+    {
+      schema: {
+        params: { type: 'object', properties: { ingest_id: { type: 'string' } }, required: ['ingest_id'] },
+        querystring: {
+          type: 'object',
+          properties: { limit: { type: 'integer', minimum: 1, maximum: 10_000, default: 1000 }, offset: { type: 'integer', minimum: 0, default: 0 } },
+          additionalProperties: false,
+        },
+        response: { 200: RejectedRowsPage },
+      },
+    },
+    async (request) => {
+      const { ingest_id: ingestId } = request.params as { ingest_id: string };
+      const { limit, offset } = request.query as { limit: number; offset: number };
+      const page = await findRejectedRows(deps.db, ingestId, { limit, offset });
+      if (!page) throw new Problem('not-found', `no upload with id ${ingestId}`);
+      return page;
+    },
+  );
+
+  app.delete(
+    '/v1/customers/:customer_id',
+    { schema: { params: { type: 'object', properties: { customer_id: { type: 'string' } }, required: ['customer_id'] } } },
+    async (request, reply) => {
+      const { customer_id: customerId } = request.params as { customer_id: string };
+      const erased = await eraseCustomer(deps.db, customerId);
+      if (!erased) throw new Problem('not-found', `no customer with id ${customerId}`);
+      request.log.info({ customerId }, 'customer erased');
+      return reply.code(204).send();
+    },
+  );
+};

@@ -1,13 +1,11 @@
 import fs from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
-import type { FastifyInstance } from 'fastify';
+import type { FastifyPluginAsync } from 'fastify';
 
 export const OPENAPI_PATH = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../../openapi.yaml');
 
-export function openapiRoutes() {
-  return async function plugin(app: FastifyInstance): Promise<void> {
-    const document = fs.readFileSync(OPENAPI_PATH, 'utf8');
-    app.get('/openapi.yaml', async (_request, reply) => reply.type('application/yaml; charset=utf-8').send(document));
-  };
-}
+export const openapiRoutes: FastifyPluginAsync = async (app) => {
+  const document = fs.readFileSync(OPENAPI_PATH, 'utf8');
+  app.get('/openapi.yaml', async (_request, reply) => reply.type('application/yaml; charset=utf-8').send(document));
+};

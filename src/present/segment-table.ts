@@ -4,6 +4,7 @@
  * tools that poll then cost a small lookup instead of parsing and writing the whole snapshot.
  */
 import { createHash } from 'node:crypto';
+import { LRUCache } from 'lru-cache';
 import { segmentsCsv } from './csv.js';
 import { SEGMENT_ROW_FIELDS, toSegmentRow, type Snapshot } from '../report/shapes/index.js';
 
@@ -32,30 +33,28 @@ export function renderSegmentTable(snapshot: Snapshot, format: TableFormat): Ren
 
 /** A small least-recently-used store of rendered tables, keyed by report, snapshot and format. */
 export class SegmentTableCache {
-  private readonly entries = new Map<string, RenderedTable>();
-  constructor(private readonly capacity = 64) {}
+  private readonly entries: LRUCache<string, RenderedTable>;
+  constructor(capacity = 64) {
+    this.entries = new LRUCache({ max: capacity });
+  }
 
   get(reportId: string, snapshotId: string, format: TableFormat): RenderedTable | undefined {
-    const key = `${reportId}\u0000${snapshotId}\u0000${format}`;
-    const entry = this.entries.get(key);
-    if (entry) {
-      this.entries.delete(key);
-      this.entries.set(key, entry);
-    }
-    return entry;
+    return this.entries.get(tableKey(reportId, snapshotId, format));
   }
 
   set(reportId: string, format: TableFormat, table: RenderedTable): void {
-    const key = `${reportId}\u0000${table.snapshotId}\u0000${format}`;
-    this.entries.delete(key);
-    this.entries.set(key, table);
-    while (this.entries.size > this.capacity) {
-      const oldest = this.entries.keys().next().value as string;
-      this.entries.delete(oldest);
+    this.entries.set(tableKey(reportId, table.snapshotId, format), table);
     }
+
+  clear(): void {
+    this.entries.clear();
   }
 
   get size(): number {
     return this.entries.size;
   }
+}
+
+function tableKey(reportId: string, snapshotId: string, format: TableFormat): string {
+  return `${reportId}\u0000${snapshotId}\u0000${format}`;
 }

@@ -149,4 +149,21 @@ describe.each(TEST_DIALECTS)('the ranked segment table for BI tools (%s)', (dial
     const csv = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments`, headers: { accept: 'application/json;q=0.2, text/csv' } });
     expect(csv.headers['content-type']).toMatch(/^text\/csv/);
   });
+
+  test('a type refused with q=0 is not served even when a wildcard allows everything else', async () => {
+    const response = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments`, headers: { accept: 'application/json;q=0, */*' } });
+    expect(response.statusCode).toBe(200);
+    expect(response.headers['content-type']).toBe('text/csv; charset=utf-8; header=present');
+    expect(response.body.split('\r\n')[0]).toBe(SEGMENT_ROW_FIELDS.join(','));
+    const neither = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments`, headers: { accept: 'application/json;q=0, text/csv;q=0, */*' } });
+    expect(neither.statusCode).toBe(406);
+    expect(neither.json().type).toBe('/problems/not-acceptable');
+  });
+
+  test('an Accept header naming the served charset or CSV header parameter still gets that type', async () => {
+    const csv = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments`, headers: { accept: 'text/csv; charset=utf-8' } });
+    expect(csv.headers['content-type']).toBe('text/csv; charset=utf-8; header=present');
+    const json = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments`, headers: { accept: 'application/json; charset=utf-8' } });
+    expect(json.headers['content-type']).toBe('application/json; charset=utf-8');
+  });
 });

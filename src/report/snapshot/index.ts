@@ -15,6 +15,7 @@ export {
 } from './profiles.js';
 export {
   ReportNotFoundError,
+  SnapshotNotFoundError,
   createReport,
   getReport,
   getSnapshotBody,
@@ -23,5 +24,6 @@ export {
   refreshReport,
   reportDependencies,
   segmentTable,
+  snapshotInContext,
   type ReportDependencies,
 } from './service.js';

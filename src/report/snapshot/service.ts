@@ -52,6 +52,17 @@ export class ReportNotFoundError extends Error {
   }
 }
 
+/** The report exists but has no snapshot by this id (or, for `latest`, none yet). */
+export class SnapshotNotFoundError extends Error {
+  override name = 'SnapshotNotFoundError';
+  constructor(
+    readonly reportId: string,
+    readonly snapshotId: string,
+  ) {
+    super(`report ${reportId} has no snapshot ${snapshotId}`);
+  }
+}
+
 function parseDefinition(row: ReportsTable): ReportDefinition {
   return JSON.parse(row.definition) as ReportDefinition;
 }
@@ -283,4 +294,41 @@ export async function segmentTable(
   const table = renderSegmentTable(JSON.parse(stored) as Snapshot, format);
   cache.set(reportId, format, table);
   return table;
+}
+
+/** A snapshot as the report page shows it: with the snapshots before it and the report's listing. */
+export interface SnapshotInContext {
+  shown: Snapshot;
+  /** the shown snapshot first, then the ones before it, newest first */
+  history: Snapshot[];
+  /** the report's snapshots, newest first */
+  listing: repository.SnapshotMeta[];
+}
+
+/**
+ * A snapshot (`latest` accepted) with up to `historyLength` snapshots counting itself, read from
+ * a listing of at most `listingLimit` snapshots.
+ * @throws ReportNotFoundError
+ * @throws SnapshotNotFoundError
+ */
+export async function snapshotInContext(
+  deps: ReportDependencies,
+  reportId: string,
+  snapshotId: string,
+  limits: { historyLength: number; listingLimit: number },
+): Promise<SnapshotInContext> {
+  const readSnapshot = async (id: string): Promise<Snapshot | undefined> => {
+    const body = await getSnapshotBody(deps, reportId, id);
+    return body === undefined ? undefined : (JSON.parse(body) as Snapshot);
+  };
+  const shown = await readSnapshot(snapshotId);
+  if (shown === undefined) throw new SnapshotNotFoundError(reportId, snapshotId);
+  const listing = await listSnapshots(deps, reportId, { limit: limits.listingLimit, offset: 0 });
+  const earlier = listing.snapshots.filter((meta) => meta.sequence < shown.sequence).slice(0, limits.historyLength - 1);
+  const history: Snapshot[] = [shown];
+  for (const meta of earlier) {
+    const snapshot = await readSnapshot(meta.snapshot_id);
+    if (snapshot) history.push(snapshot);
+  }
+  return { shown, history, listing: listing.snapshots };
 }

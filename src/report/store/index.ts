@@ -13,4 +13,5 @@ export {
   missingAttributes,
   missingCampaigns,
   nextSnapshotSequence,
+  type SnapshotMeta,
 } from './repository.js';
