@@ -4,7 +4,7 @@
  * a later migration is counted too.
  */
 import { sql } from 'kysely';
-import type { TestApp } from '../support/app.js';
+import type { TestApp } from './app.js';
 
 export interface DatabaseState {
   /** Table names, sorted. */
@@ -16,7 +16,7 @@ export interface DatabaseState {
 /** Every table of the app's database (its own schema on PostgreSQL) with its row count. */
 export async function readDatabaseState(testApp: TestApp): Promise<DatabaseState> {
   const tables = await listTables(testApp);
-  return { tables, counts: await countRows(testApp, tables) };
+  return { tables, counts: await countTableRows(testApp, tables) };
 }
 
 /** The names of the app's tables, sorted (its own schema on PostgreSQL). */
@@ -31,7 +31,7 @@ export async function listTables(testApp: TestApp): Promise<string[]> {
 }
 
 /** Rows per table, read in one statement so that all counts come from the same moment. */
-export async function countRows(testApp: TestApp, tables: readonly string[]): Promise<Record<string, number>> {
+export async function countTableRows(testApp: TestApp, tables: readonly string[]): Promise<Record<string, number>> {
   const columns = tables.map((table) => sql`(select count(*) from ${sql.table(table)}) as ${sql.ref(table)}`);
   const result = await sql<Record<string, number | string | bigint>>`select ${sql.join(columns)}`.execute(testApp.database.handle.db);
   const row = result.rows[0] ?? {};
