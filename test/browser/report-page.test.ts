@@ -1,6 +1,6 @@
 /**
- * The report page in a real browser: Debian's Chromium, driven headless by playwright-core
- * (no browser is downloaded). The service listens on an ephemeral loopback port with the
+ * The report page in a real browser: Chromium (Debian's, or CHROMIUM_PATH), driven headless by
+ * playwright-core (no browser is downloaded); skipped without one unless REQUIRE_BROWSER=1. The service listens on an ephemeral loopback port with the
  * invented demo data; the page must load with no console errors and nothing fetched from
  * elsewhere, show every chart with its text alternative, sort its table, switch snapshots,
  * and print without its controls. Screenshots go to test-output/browser/ (git-ignored).
@@ -15,11 +15,11 @@ import { OPEN_MODE_BANNER } from '../../src/view/page.js';
 import { DEFAULT_DEMO_OPTIONS, generateDemoData } from '../../seed/generate.js';
 import { loadDemoData } from '../../seed/load.js';
 import { createTestApp, type TestApp } from '../support/app.js';
+import { CHROMIUM_AVAILABLE, CHROMIUM_PATH } from '../support/chromium.js';
 import { generateDataset, uploadRows } from '../support/report-data.js';
 import { HOSTILE_IMAGE, HOSTILE_SCRIPT } from '../support/snapshot-fixture.js';
 import { CSV, toCsv, upload } from '../support/upload-client.js';
 
-const CHROMIUM = '/usr/bin/chromium';
 const CHROMIUM_ARGS = ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'];
 const OUTPUT = path.resolve('test-output', 'browser');
 // A clock after every date in the demo data (sales run to mid-November 2026).
@@ -51,7 +51,7 @@ function watch(page: Page, origin: string): Watched {
 }
 
 async function launch(): Promise<Browser> {
-  return chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
+  return chromium.launch({ executablePath: CHROMIUM_PATH, args: CHROMIUM_ARGS });
 }
 
 /** Customers whose region is markup, each contacted by the spring campaign, so their segments are tested. */
@@ -69,7 +69,7 @@ function hostileUploads(): { customers: string; contacts: string } {
   return { customers: toCsv(customers), contacts: toCsv(contacts) };
 }
 
-describe('the demo report page in headless Chromium', () => {
+describe.skipIf(!CHROMIUM_AVAILABLE)('the demo report page in headless Chromium', () => {
   let context: TestApp;
   let browser: Browser;
   let origin: string;
@@ -294,7 +294,7 @@ describe('the demo report page in headless Chromium', () => {
   }, 120_000);
 });
 
-describe('the report page in headless Chromium with API keys', () => {
+describe.skipIf(!CHROMIUM_AVAILABLE)('the report page in headless Chromium with API keys', () => {
   let context: TestApp;
   let browser: Browser;
   let origin: string;
