@@ -9,8 +9,8 @@ import { seededRandom } from '../../seed/generate.js';
 import type { Snapshot } from '../../src/report/rows.js';
 import { CSV, toCsv, upload } from './upload-client.js';
 
-export const REGIONS = ['Northfield', 'Southmere', 'Eastvale', 'Westbrook', 'Lakeshore'] as const;
-export const CHANNELS = ['web', 'store', 'phone', 'partner'] as const;
+const REGIONS = ['Northfield', 'Southmere', 'Eastvale', 'Westbrook', 'Lakeshore'] as const;
+const CHANNELS = ['web', 'store', 'phone', 'partner'] as const;
 
 export interface GeneratedCustomer {
   customer_id: string;
