@@ -20,7 +20,8 @@ export default defineConfig({
     pool: 'forks',
     reporters: ['default', './test/support/summary-reporter.ts'],
     projects: [
-      { extends: true, test: { name: 'unit', include: UNIT } },
+      // TEST_PROJECT=unit makes opening a test database an error (test/support/database.ts).
+      { extends: true, test: { name: 'unit', include: UNIT, env: { TEST_PROJECT: 'unit' } } },
       // Everything else runs against the app and a database, so no suite is left out of a run.
       { extends: true, test: { name: 'integration', include: ['test/**/*.test.ts'], exclude: [...UNIT, ...ROBUSTNESS, ...BROWSER] } },
       { extends: true, test: { name: 'robustness', include: ROBUSTNESS } },

@@ -28,6 +28,10 @@ if (process.env['REQUIRE_POSTGRES'] === '1' && postgresUrl === undefined) {
   throw new Error('REQUIRE_POSTGRES=1 but DATABASE_URL is not a postgres:// URL: the PostgreSQL suites would be skipped');
 }
 
+if (process.env['TEST_PROJECT'] === 'unit') {
+  throw new Error('a unit suite reached for a test database: list it outside UNIT in vitest.config.ts');
+}
+
 /** The dialects this run tests: always SQLite, and PostgreSQL when a server is configured. */
 export const TEST_DIALECTS: Dialect[] = postgresUrl === undefined ? ['sqlite'] : ['sqlite', 'postgres'];
 
