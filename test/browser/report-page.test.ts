@@ -1,9 +1,10 @@
 /**
  * The report page in a real browser: Chromium (Debian's, or CHROMIUM_PATH), driven headless by
  * playwright-core (no browser is downloaded); skipped without one unless REQUIRE_BROWSER=1.
- * The service listens on an ephemeral loopback port with the invented demo data; the page must load with no console errors and nothing fetched from
- * elsewhere, show every chart with its text alternative, sort its table, switch snapshots,
- * and print without its controls. Screenshots go to test-output/browser/ (git-ignored).
+ * The service listens on an ephemeral loopback port with the invented demo data; the page must
+ * load with no console errors and nothing fetched from elsewhere, show every chart with its text
+ * alternative, sort its table, switch snapshots, and print without its controls. Screenshots go
+ * to test-output/browser/ (git-ignored).
  */
 import fs from 'node:fs';
 import path from 'node:path';
