@@ -55,7 +55,7 @@ export class ConfigError extends Error {
 
 const LOG_LEVELS: readonly LogLevel[] = ['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent'];
 
-export const DEFAULT_SQLITE_FILE = path.join('data', 'segrank.sqlite');
+const DEFAULT_SQLITE_FILE = path.join('data', 'segrank.sqlite');
 
 type Environment = Record<string, string | undefined>;
 
@@ -100,7 +100,7 @@ function readOrigins(env: Environment, name: string): string[] {
   });
 }
 
-export function isLoopbackHost(host: string): boolean {
+function isLoopbackHost(host: string): boolean {
   return host === 'localhost' || host === '::1' || /^127\.\d{1,3}\.\d{1,3}\.\d{1,3}$/.test(host);
 }
 

@@ -5,7 +5,7 @@ import type { Database } from './tables.js';
 
 const provider: MigrationProvider = { getMigrations: async () => migrations };
 
-export class MigrationError extends Error {
+class MigrationError extends Error {
   override name = 'MigrationError';
 }
 

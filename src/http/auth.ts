@@ -31,7 +31,7 @@ export const ROUTE_ACCESS: Record<string, Access> = {
   'GET /reports/:report_id': ['read'],
 };
 
-export function accessFor(method: string, url: string): Access {
+function accessFor(method: string, url: string): Access {
   return ROUTE_ACCESS[`${method} ${url}`] ?? ['admin'];
 }
 

@@ -17,7 +17,7 @@ import { InvalidDefinitionError } from '../report/definition/index.js';
 import { ReportNotFoundError, SnapshotNotFoundError } from '../report/snapshot/index.js';
 import { Problem } from './problems.js';
 
-export function toProblem(error: unknown): Problem {
+function toProblem(error: unknown): Problem {
   return domainProblem(error) ?? frameworkProblem(error) ?? new Problem('internal', 'an unexpected error occurred; it has been logged');
 }
 

@@ -21,7 +21,7 @@ export interface PageRouteOptions {
 }
 
 /** Snapshots the picker offers, newest first. */
-export const PICKER_SNAPSHOTS = 100;
+const PICKER_SNAPSHOTS = 100;
 /** Snapshot listings read to place the shown one among the others. */
 const LISTING_LIMIT = 1000;
 

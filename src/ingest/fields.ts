@@ -167,7 +167,7 @@ export function ageInYears(birthDate: string, onDate: string): number {
   return onDate.slice(5) < birthDate.slice(5) ? years - 1 : years;
 }
 
-export const MAX_AMOUNT_CENTS = 100_000_000_000_000; // one trillion in major units; far below 2^53
+const MAX_AMOUNT_CENTS = 100_000_000_000_000; // one trillion in major units; far below 2^53
 
 /** A money amount ≥ 0 with at most two decimals, returned in integer cents. */
 export function readMoneyCents(raw: unknown): FieldResult<number> {

@@ -48,13 +48,13 @@ export interface ContactRow {
 
 export type RowCheck<Row> = { ok: true; row: Row } | { ok: false; errors: RowError[] };
 
-export const CUSTOMER_COLUMNS = ['customer_id', 'birth_date', 'region', 'channel', 'customer_type'] as const;
-export const SALE_COLUMNS = ['sale_id', 'customer_id', 'sold_at', 'amount'] as const;
-export const CONTACT_COLUMNS = ['customer_id', 'contacted_at', 'converted', 'revenue'] as const;
-export const CUSTOMER_TYPES = ['individual', 'company'] as const;
+const CUSTOMER_COLUMNS = ['customer_id', 'birth_date', 'region', 'channel', 'customer_type'] as const;
+const SALE_COLUMNS = ['sale_id', 'customer_id', 'sold_at', 'amount'] as const;
+const CONTACT_COLUMNS = ['customer_id', 'contacted_at', 'converted', 'revenue'] as const;
+const CUSTOMER_TYPES = ['individual', 'company'] as const;
 
 /** Oldest plausible age; an older birth date is far likelier a typing error than a customer. */
-export const MAX_AGE_YEARS = 120;
+const MAX_AGE_YEARS = 120;
 const MAX_ATTRIBUTES = 50;
 const ATTRIBUTE_NAME = /^[a-z][a-z0-9_]{0,62}$/;
 /** Names a report uses for its own derived dimensions; an extra column may not shadow them. */

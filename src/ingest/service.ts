@@ -95,7 +95,7 @@ export class IdempotencyConflictError extends Error {
 }
 
 /** Most row problems listed in a rejection response; the count covers all of them. */
-export const MAX_LISTED_PROBLEMS = 100;
+const MAX_LISTED_PROBLEMS = 100;
 /**
  * Rows checked against stored data and written together. PostgreSQL writes a batch as one
  * multi-row statement, so larger batches save round trips. SQLite runs one prepared statement

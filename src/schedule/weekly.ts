@@ -21,7 +21,7 @@ export const WEEKLY_REFRESH_JOB = 'weekly-refresh';
  * How long a run may hold the lock without renewing it. It is renewed before each report, so
  * only a single report refresh taking longer than this could let a second instance in.
  */
-export const LOCK_TTL_MS = 30 * 60_000;
+const LOCK_TTL_MS = 30 * 60_000;
 
 export interface RefreshRunResult {
   /** false when another run held the lock, or the due run had already been done */
@@ -177,7 +177,8 @@ export function startRefreshSchedule(deps: ReportDependencies, settings: Schedul
   };
 
   const job = new Cron(settings.cron, { timezone: settings.timeZone }, () => {
-    runOnce('scheduled');
+    // runOnce logs a failed run itself; the timer has nobody to hand the promise to.
+    void runOnce('scheduled');
   });
 
   const caughtUp = (async () => {

@@ -40,7 +40,7 @@ export function cellStats(cell: CellAggregate, shifts: Shifts): GroupStats {
 }
 
 /** The statistics of no units, the identity of `mergeGroups`. */
-export function emptyGroup(): GroupStats {
+function emptyGroup(): GroupStats {
   return {
     n: 0,
     conversions: 0,
@@ -56,7 +56,7 @@ export function emptyGroup(): GroupStats {
  * the core's `mergeSummaries` (Chan, Golub & LeVeque 1983).
  * @throws StatsInputError when a summary is invalid (from the statistics core)
  */
-export function mergeGroups(a: GroupStats, b: GroupStats): GroupStats {
+function mergeGroups(a: GroupStats, b: GroupStats): GroupStats {
   return {
     n: a.n + b.n,
     conversions: a.conversions + b.conversions,

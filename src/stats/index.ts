@@ -30,7 +30,6 @@ export {
   summaryFromShiftedSums,
   summaryMean,
   summaryVariance,
-  validateSummary,
 } from './summary.js';
 export type { Summary, VarianceBasis } from './summary.js';
 

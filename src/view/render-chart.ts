@@ -13,7 +13,7 @@ import { measureTextItem, type TextItem } from './text-width.js';
 (vega as unknown as { textMetrics: { width: (item: TextItem, text: unknown) => number } }).textMetrics.width = measureTextItem;
 
 /** Settings every chart shares: no per-mark ARIA text (each figure carries its own text alternative), system fonts, dark ink. */
-export const CHART_CONFIG = {
+const CHART_CONFIG = {
   aria: false,
   background: null,
   font: 'system-ui, -apple-system, "Segoe UI", Roboto, sans-serif',

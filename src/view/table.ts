@@ -88,9 +88,6 @@ const COLUMNS: readonly Column[] = [
   },
 ];
 
-/** The names of the table's columns, in order (the sentence spans them all, in a row of its own). */
-export const TABLE_HEADINGS: readonly string[] = COLUMNS.map((column) => column.heading);
-
 /**
  * The ranked table as HTML: sortable headings (buttons, with aria-sort), one row per segment.
  * @example

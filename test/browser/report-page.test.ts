@@ -1,9 +1,10 @@
 /**
- * The report page in a real browser: Debian's Chromium, driven headless by playwright-core
- * (no browser is downloaded). The service listens on an ephemeral loopback port with the
- * invented demo data; the page must load with no console errors and nothing fetched from
- * elsewhere, show every chart with its text alternative, sort its table, switch snapshots,
- * and print without its controls. Screenshots go to test-output/browser/ (git-ignored).
+ * The report page in a real browser: Chromium (Debian's, or CHROMIUM_PATH), driven headless by
+ * playwright-core (no browser is downloaded); skipped without one unless REQUIRE_BROWSER=1.
+ * The service listens on an ephemeral loopback port with the invented demo data; the page must
+ * load with no console errors and nothing fetched from elsewhere, show every chart with its text
+ * alternative, sort its table, switch snapshots, and print without its controls. Screenshots go
+ * to test-output/browser/ (git-ignored).
  */
 import fs from 'node:fs';
 import path from 'node:path';
@@ -15,15 +16,15 @@ import { OPEN_MODE_BANNER } from '../../src/view/page.js';
 import { DEFAULT_DEMO_OPTIONS, generateDemoData } from '../../seed/generate.js';
 import { loadDemoData } from '../../seed/load.js';
 import { createTestApp, type TestApp } from '../support/app.js';
-import { generateDataset, toCsv } from '../report/fixtures.js';
+import { CHROMIUM_AVAILABLE, CHROMIUM_PATH } from '../support/chromium.js';
+import { generateDataset, uploadRows } from '../support/report-data.js';
+import { HOSTILE_IMAGE, HOSTILE_SCRIPT } from '../support/snapshot-fixture.js';
+import { CSV, toCsv, upload } from '../support/upload-client.js';
 
-const CHROMIUM = '/usr/bin/chromium';
 const CHROMIUM_ARGS = ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'];
 const OUTPUT = path.resolve('test-output', 'browser');
 // A clock after every date in the demo data (sales run to mid-November 2026).
 const DEMO_NOW = new Date('2026-12-01T12:00:00Z');
-const HOSTILE_SCRIPT = '<script>alert("segment")</script>';
-const HOSTILE_IMAGE = '"><img src=x onerror=alert(1)>';
 const PAGE_TIMEOUT_MS = 60_000;
 
 interface Watched {
@@ -51,7 +52,7 @@ function watch(page: Page, origin: string): Watched {
 }
 
 async function launch(): Promise<Browser> {
-  return chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
+  return chromium.launch({ executablePath: CHROMIUM_PATH, args: CHROMIUM_ARGS });
 }
 
 /** Customers whose region is markup, each contacted by the spring campaign, so their segments are tested. */
@@ -69,7 +70,7 @@ function hostileUploads(): { customers: string; contacts: string } {
   return { customers: toCsv(customers), contacts: toCsv(contacts) };
 }
 
-describe('the demo report page in headless Chromium', () => {
+describe.skipIf(!CHROMIUM_AVAILABLE)('the demo report page in headless Chromium', () => {
   let context: TestApp;
   let browser: Browser;
   let origin: string;
@@ -96,7 +97,7 @@ describe('the demo report page in headless Chromium', () => {
       ['/v1/customers', hostile.customers],
       ['/v1/campaigns/spring-seed-sale-2026/contacts', hostile.contacts],
     ] as const) {
-      const response = await context.app.inject({ method: 'POST', url, headers: { 'content-type': 'text/csv' }, payload });
+      const response = await upload(context.app, url, CSV, payload);
       expect(response.statusCode, response.body).toBe(201);
     }
     second = await refresh();
@@ -294,7 +295,7 @@ describe('the demo report page in headless Chromium', () => {
   }, 120_000);
 });
 
-describe('the report page in headless Chromium with API keys', () => {
+describe.skipIf(!CHROMIUM_AVAILABLE)('the report page in headless Chromium with API keys', () => {
   let context: TestApp;
   let browser: Browser;
   let origin: string;
@@ -306,13 +307,8 @@ describe('the report page in headless Chromium with API keys', () => {
     const admin = `Bearer ${(await createKey(context.database.handle.db, 'admin', 'setup')).key}`;
     readKey = (await createKey(context.database.handle.db, 'read', 'analyst browser')).key;
     const dataset = generateDataset({ seed: 11, customers: 400, baseRate: 0.12, plantedRegion: 'Northfield', plantedRate: 0.25 });
-    for (const [url, rows] of [
-      ['/v1/customers', dataset.customers],
-      ['/v1/campaigns/thaw/contacts', dataset.contacts],
-    ] as const) {
-      const response = await context.app.inject({ method: 'POST', url, headers: { 'content-type': 'text/csv', authorization: admin }, payload: toCsv(rows as unknown as Array<Record<string, unknown>>) });
-      expect(response.statusCode, response.body).toBe(201);
-    }
+    await uploadRows(context.app, '/v1/customers', dataset.customers, { authorization: admin });
+    await uploadRows(context.app, '/v1/campaigns/thaw/contacts', dataset.contacts, { authorization: admin });
     const created = await context.app.inject({ method: 'POST', url: '/v1/reports', headers: { authorization: admin }, payload: { name: 'Thaw', source: { campaign_ids: ['thaw'] }, dimensions: ['region'] } });
     reportId = created.json().report_id;
     expect((await context.app.inject({ method: 'POST', url: `/v1/reports/${reportId}/refresh`, headers: { authorization: admin } })).statusCode).toBe(201);

@@ -6,6 +6,7 @@
 import { afterEach, describe, expect, it } from 'vitest';
 import { createTestApp, type TestApp } from '../support/app.js';
 import { TEST_DIALECTS } from '../support/database.js';
+import { CSV, upload } from '../support/upload-client.js';
 
 interface SnapshotBody {
   row_counts: { population: number };
@@ -22,7 +23,7 @@ describe.each(TEST_DIALECTS)('customer changes and campaign reports on %s', (dia
   async function setUp(): Promise<{ post: (url: string, body: string) => Promise<number>; refresh: () => Promise<SnapshotBody>; copiesOf: (customerId: string) => Promise<unknown[]> }> {
     testApp = await createTestApp(dialect, { maxEventLoopDelayMs: 0 });
     const { app, database } = testApp;
-    const post = async (url: string, body: string) => (await app.inject({ method: 'POST', url, headers: { 'content-type': 'text/csv' }, payload: body + '\n' })).statusCode;
+    const post = async (url: string, body: string) => (await upload(app, url, CSV, body + '\n')).statusCode;
     const customers = ['customer_id,birth_date,region,channel,customer_type'];
     const contacts = ['customer_id,contacted_at,converted,revenue'];
     for (let index = 1; index <= 60; index++) {

@@ -1,6 +1,7 @@
 import { afterEach, describe, expect, it } from 'vitest';
 import { createTestApp, type TestApp } from '../support/app.js';
 import { TEST_DIALECTS } from '../support/database.js';
+import { CSV, upload } from '../support/upload-client.js';
 
 describe.each(TEST_DIALECTS)('erasure and reports on %s', (dialect) => {
   let testApp: TestApp | undefined;
@@ -18,7 +19,7 @@ describe.each(TEST_DIALECTS)('erasure and reports on %s', (dialect) => {
       customers.push(`E${index},1980-05-0${(index % 9) + 1},${index % 2 === 0 ? 'Saltmere' : 'Fennwick'},web shop,individual`);
       contacts.push(`E${index},2026-03-02,${index % 4 === 0 ? 1 : 0},${index % 4 === 0 ? '20.00' : '0'}`);
     }
-    const post = (url: string, body: string) => app.inject({ method: 'POST', url, headers: { 'content-type': 'text/csv' }, payload: body + '\n' });
+    const post = (url: string, body: string) => upload(app, url, CSV, body + '\n');
     expect((await post('/v1/customers', customers.join('\n'))).statusCode).toBe(201);
     expect((await post('/v1/campaigns/erasure-check/contacts', contacts.join('\n'))).statusCode).toBe(201);
     const created = await app.inject({ method: 'POST', url: '/v1/reports', payload: { name: 'erasure', source: { campaign_ids: ['erasure-check'] }, dimensions: ['region'] } });

@@ -6,7 +6,7 @@
 import { describe, expect, it } from 'vitest';
 import type { TestApp } from '../support/app.js';
 import { TEST_DIALECTS } from '../support/database.js';
-import { countRows, CSV, CUSTOMER_HEADER, csvText, onlyRowError, problemOf, receiptOf, seedCustomers, startApp, upload } from '../ingest/upload-client.js';
+import { countRows, CSV, CUSTOMER_HEADER, csvText, onlyRowError, problemOf, receiptOf, seedCustomers, startApp, upload } from '../support/upload-client.js';
 
 const CONTACT_HEADER = 'customer_id,contacted_at,converted,revenue';
 

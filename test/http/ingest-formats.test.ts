@@ -14,7 +14,7 @@ import {
   seedCustomers,
   startApp,
   upload,
-} from '../ingest/upload-client.js';
+} from '../support/upload-client.js';
 
 describe.each(TEST_DIALECTS)('CSV uploads on %s', (dialect) => {
   it('reads a body that starts with a UTF-8 byte order mark', async () => {

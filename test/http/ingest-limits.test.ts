@@ -2,7 +2,7 @@
 import { Readable } from 'node:stream';
 import { describe, expect, it } from 'vitest';
 import { TEST_DIALECTS } from '../support/database.js';
-import { countRows, CSV, CUSTOMER_HEADER, csvText, JSON_TYPE, NDJSON, problemOf, receiptOf, startApp, upload } from '../ingest/upload-client.js';
+import { countRows, CSV, CUSTOMER_HEADER, csvText, JSON_TYPE, NDJSON, problemOf, receiptOf, startApp, upload } from '../support/upload-client.js';
 
 const fourCustomers = csvText(
   CUSTOMER_HEADER,

@@ -18,7 +18,7 @@ import {
   seedCustomers,
   startApp,
   upload,
-} from '../ingest/upload-client.js';
+} from '../support/upload-client.js';
 
 const SALE_HEADER = 'sale_id,customer_id,sold_at,amount';
 const CONTACT_HEADER = 'customer_id,contacted_at,converted,revenue';

@@ -15,7 +15,7 @@ import {
   startApp,
   upload,
   type RowObject,
-} from '../ingest/upload-client.js';
+} from '../support/upload-client.js';
 
 const sha256 = (text: string) => createHash('sha256').update(text, 'utf8').digest('hex');
 

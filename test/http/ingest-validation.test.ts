@@ -19,7 +19,7 @@ import {
   seedCustomers,
   startApp,
   upload,
-} from '../ingest/upload-client.js';
+} from '../support/upload-client.js';
 
 const GOOD_CUSTOMER = 'C1,1985-04-12,Northvale,web,individual';
 const SALE_HEADER = 'sale_id,customer_id,sold_at,amount';

@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
 import { TEST_DIALECTS } from '../support/database.js';
 import { createTestApp, type TestApp } from '../support/app.js';
-import { createReport, generateDataset, refresh, uploadDataset, REPORT_TEST_SETTINGS } from '../report/fixtures.js';
+import { createReport, generateDataset, refresh, uploadDataset, REPORT_TEST_SETTINGS } from '../support/report-data.js';
 
 describe.each(TEST_DIALECTS)('report definitions and snapshots over HTTP (%s)', (dialect) => {
   let context: TestApp;

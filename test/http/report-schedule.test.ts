@@ -6,7 +6,7 @@ import { lastRunAt } from '../../src/schedule/lock.js';
 import { WEEKLY_REFRESH_JOB } from '../../src/schedule/weekly.js';
 import { TEST_DIALECTS, createTestDatabase } from '../support/database.js';
 import { createTestApp } from '../support/app.js';
-import { REPORT_TEST_SETTINGS } from '../report/fixtures.js';
+import { REPORT_TEST_SETTINGS } from '../support/report-data.js';
 
 describe.each(TEST_DIALECTS)('the schedule inside the service (%s)', (dialect) => {
   test('an invalid cron expression stops the service at start-up with the setting named', async () => {

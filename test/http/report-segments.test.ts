@@ -4,7 +4,7 @@ import { segmentsCsv } from '../../src/present/index.js';
 import { SEGMENT_ROW_FIELDS, type SegmentRow, type Snapshot } from '../../src/report/shapes/index.js';
 import { TEST_DIALECTS } from '../support/database.js';
 import { createTestApp, type TestApp } from '../support/app.js';
-import { createReport, generateDataset, refresh, upload, uploadDataset, REPORT_TEST_SETTINGS } from '../report/fixtures.js';
+import { createReport, generateDataset, refresh, uploadRows, uploadDataset, REPORT_TEST_SETTINGS } from '../support/report-data.js';
 
 // Region names a spreadsheet would run as formulas if a cell started with them.
 const HOSTILE_REGIONS = ['=HYPERLINK("http://example.invalid")', '+1+1', '-2+3', '@SUM(A1)'];
@@ -19,12 +19,12 @@ describe.each(TEST_DIALECTS)('the ranked segment table for BI tools (%s)', (dial
     context = await createTestApp(dialect, REPORT_TEST_SETTINGS);
     const dataset = generateDataset({ seed: 31, customers: 1200, baseRate: 0.12, plantedRegion: 'Northfield', plantedRate: 0.25 });
     await uploadDataset(context.app, dataset, 'winter');
-    await upload(
+    await uploadRows(
       context.app,
       '/v1/customers',
       HOSTILE_REGIONS.map((region, index) => ({ customer_id: `h${index}`, birth_date: '1980-05-05', region, channel: 'web', customer_type: 'individual', loyalty_tier: 'gold' })),
     );
-    await upload(
+    await uploadRows(
       context.app,
       '/v1/campaigns/winter/contacts',
       HOSTILE_REGIONS.map((_region, index) => ({ customer_id: `h${index}`, contacted_at: '2026-03-01', converted: 0, revenue: '0' })),

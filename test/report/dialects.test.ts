@@ -6,7 +6,8 @@ import { describe, expect, test } from 'vitest';
 import type { Snapshot } from '../../src/report/shapes/index.js';
 import { TEST_DIALECTS } from '../support/database.js';
 import { createTestApp } from '../support/app.js';
-import { createReport, generateContacts, generateCustomers, refresh, seededRandom, upload, REPORT_TEST_SETTINGS } from './fixtures.js';
+import { createReport, generateContacts, generateCustomers, refresh, uploadRows, REPORT_TEST_SETTINGS } from '../support/report-data.js';
+import { seededRandom } from '../../seed/generate.js';
 
 const BOTH = TEST_DIALECTS.includes('postgres');
 
@@ -20,8 +21,8 @@ async function snapshotsOn(dialect: 'sqlite' | 'postgres'): Promise<Snapshot[]> 
   const context = await createTestApp(dialect, REPORT_TEST_SETTINGS);
   try {
     const customers = generateCustomers(41, 3000, 0.05);
-    await upload(context.app, '/v1/customers', customers as unknown as Array<Record<string, unknown>>);
-    await upload(context.app, '/v1/campaigns/equal/contacts', generateContacts(customers, { seed: 42, baseRate: 0.09, plantedRegion: 'Lakeshore', plantedRate: 0.14 }) as unknown as Array<Record<string, unknown>>);
+    await uploadRows(context.app, '/v1/customers', customers as unknown as Array<Record<string, unknown>>);
+    await uploadRows(context.app, '/v1/campaigns/equal/contacts', generateContacts(customers, { seed: 42, baseRate: 0.09, plantedRegion: 'Lakeshore', plantedRate: 0.14 }) as unknown as Array<Record<string, unknown>>);
     const random = seededRandom(43);
     const sales = customers
       .filter(() => random() < 0.6)
@@ -31,7 +32,7 @@ async function snapshotsOn(dialect: 'sqlite' | 'postgres'): Promise<Snapshot[]> 
         sold_at: `2026-0${1 + Math.floor(random() * 5)}-${String(1 + Math.floor(random() * 28)).padStart(2, '0')}`,
         amount: (1 + random() * 250).toFixed(2),
       }));
-    await upload(context.app, '/v1/sales', sales);
+    await uploadRows(context.app, '/v1/sales', sales);
     const campaign = await createReport(context.app, { name: 'Equal campaign', source: { campaign_ids: ['equal'] }, dimensions: ['age_band', 'region', 'channel', 'loyalty_tier'] });
     const byValue = await createReport(context.app, { name: 'Equal value', source: { campaign_ids: ['equal'] }, dimensions: ['region', 'customer_type'], rank_by: 'value', value_basis: 'per_conversion' });
     const salesReport = await createReport(context.app, { name: 'Equal sales', source: { sales_from: '2026-03-01', sales_to: '2026-05-31' }, dimensions: ['age_band', 'region', 'loyalty_tier'] });

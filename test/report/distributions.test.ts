@@ -9,7 +9,7 @@ import { ageValueGridAxes, ageValueGridCells, populationHistograms } from '../..
 import { distributionCharts, distributionFallback } from '../../src/view/distributions.js';
 import { createTestApp, type TestApp } from '../support/app.js';
 import { TEST_DIALECTS } from '../support/database.js';
-import { createReport, refresh, upload, REPORT_TEST_SETTINGS } from './fixtures.js';
+import { createReport, refresh, uploadRows, REPORT_TEST_SETTINGS } from '../support/report-data.js';
 
 /**
  * Twelve customers of known age (born 15 January, contacted 1 March 2026, so the age is
@@ -86,9 +86,9 @@ describe.each(TEST_DIALECTS)('distribution data on %s', (dialect) => {
   let context: TestApp;
   beforeAll(async () => {
     context = await createTestApp(dialect, REPORT_TEST_SETTINGS);
-    await upload(context.app, '/v1/customers', CUSTOMERS);
-    await upload(context.app, '/v1/campaigns/spring/contacts', CONTACTS);
-    await upload(context.app, '/v1/sales', SALES);
+    await uploadRows(context.app, '/v1/customers', CUSTOMERS);
+    await uploadRows(context.app, '/v1/campaigns/spring/contacts', CONTACTS);
+    await uploadRows(context.app, '/v1/sales', SALES);
     const perUnit = await createReport(context.app, { name: 'Spread per unit', source: { campaign_ids: ['spring'] }, dimensions: ['region'], min_n: 2 });
     const perConversion = await createReport(context.app, { name: 'Spread per conversion', source: { campaign_ids: ['spring'] }, dimensions: ['region'], min_n: 2, value_basis: 'per_conversion' });
     const sales = await createReport(context.app, { name: 'Spread of sales', source: { sales_from: '2026-04-01', sales_to: '2026-04-30' }, dimensions: ['region'], min_n: 2 });

@@ -7,7 +7,7 @@ import { afterAll, beforeAll, describe, expect, test } from 'vitest';
 import type { Snapshot } from '../../src/report/shapes/index.js';
 import { TEST_DIALECTS } from '../support/database.js';
 import { createTestApp, type TestApp } from '../support/app.js';
-import { createReport, generateContacts, generateCustomers, refresh, upload, type GeneratedCustomer, REPORT_TEST_SETTINGS } from './fixtures.js';
+import { createReport, generateContacts, generateCustomers, refresh, uploadRows, type GeneratedCustomer, REPORT_TEST_SETTINGS } from '../support/report-data.js';
 
 const SEEDS = [11, 12, 13, 14, 15, 16, 17, 18];
 const CUSTOMERS = 6000;
@@ -19,10 +19,10 @@ describe.each(TEST_DIALECTS)('planted effects (%s)', (dialect) => {
   beforeAll(async () => {
     context = await createTestApp(dialect, REPORT_TEST_SETTINGS);
     const customers: GeneratedCustomer[] = generateCustomers(7, CUSTOMERS, 0.02);
-    await upload(context.app, '/v1/customers', customers as unknown as Array<Record<string, unknown>>);
+    await uploadRows(context.app, '/v1/customers', customers as unknown as Array<Record<string, unknown>>);
     for (const seed of SEEDS) {
       const contacts = generateContacts(customers, { seed, baseRate: 0.1, plantedRegion: 'Northfield', plantedRate: 0.16 });
-      await upload(context.app, `/v1/campaigns/trial-${seed}/contacts`, contacts as unknown as Array<Record<string, unknown>>);
+      await uploadRows(context.app, `/v1/campaigns/trial-${seed}/contacts`, contacts as unknown as Array<Record<string, unknown>>);
       const report = await createReport(context.app, {
         name: `Trial ${seed}`,
         source: { campaign_ids: [`trial-${seed}`] },

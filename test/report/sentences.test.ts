@@ -20,7 +20,8 @@ import {
 import type { Snapshot, SnapshotSegment } from '../../src/report/shapes/index.js';
 import { TEST_DIALECTS } from '../support/database.js';
 import { createTestApp, type TestApp } from '../support/app.js';
-import { createReport, generateContacts, generateCustomers, refresh, seededRandom, upload, REPORT_TEST_SETTINGS } from './fixtures.js';
+import { createReport, generateContacts, generateCustomers, refresh, uploadRows, REPORT_TEST_SETTINGS } from '../support/report-data.js';
+import { seededRandom } from '../../seed/generate.js';
 
 const NUMBER = /[-+]?\d[\d,]*(?:\.\d+)?/g;
 
@@ -127,9 +128,9 @@ describe.each(TEST_DIALECTS)('sentences quote the fields (%s)', (dialect) => {
   beforeAll(async () => {
     context = await createTestApp(dialect, REPORT_TEST_SETTINGS);
     const customers = generateCustomers(3, 2500, 0.04);
-    await upload(context.app, '/v1/customers', customers as unknown as Array<Record<string, unknown>>);
+    await uploadRows(context.app, '/v1/customers', customers as unknown as Array<Record<string, unknown>>);
     const contacts = generateContacts(customers.slice(0, 2000), { seed: 5, baseRate: 0.12, plantedRegion: 'Eastvale', plantedRate: 0.22, regionRates: { Southmere: 0.04 } });
-    await upload(context.app, '/v1/campaigns/summer/contacts', contacts as unknown as Array<Record<string, unknown>>);
+    await uploadRows(context.app, '/v1/campaigns/summer/contacts', contacts as unknown as Array<Record<string, unknown>>);
     const random = seededRandom(9);
     const sales = customers
       .filter(() => random() < 0.5)
@@ -139,7 +140,7 @@ describe.each(TEST_DIALECTS)('sentences quote the fields (%s)', (dialect) => {
         sold_at: `2026-0${1 + Math.floor(random() * 5)}-${String(1 + Math.floor(random() * 28)).padStart(2, '0')}`,
         amount: (5 + random() * (customer.region === 'Lakeshore' ? 200 : 100)).toFixed(2),
       }));
-    await upload(context.app, '/v1/sales', sales);
+    await uploadRows(context.app, '/v1/sales', sales);
 
     const byRate = await createReport(context.app, { name: 'Summer by rate', source: { campaign_ids: ['summer'] }, dimensions: ['age_band', 'region', 'channel', 'loyalty_tier'] });
     const byValue = await createReport(context.app, {
@@ -155,7 +156,7 @@ describe.each(TEST_DIALECTS)('sentences quote the fields (%s)', (dialect) => {
     snapshots.push(await refresh(context.app, byRate.report_id), await refresh(context.app, byValue.report_id), await refresh(context.app, sales2026.report_id));
     // More contacts, then a second snapshot: change and rank movement appear in the sentences.
     const more = generateContacts(customers.slice(2000), { seed: 6, baseRate: 0.12, plantedRegion: 'Westbrook', plantedRate: 0.5 });
-    await upload(context.app, '/v1/campaigns/summer/contacts', more as unknown as Array<Record<string, unknown>>);
+    await uploadRows(context.app, '/v1/campaigns/summer/contacts', more as unknown as Array<Record<string, unknown>>);
     snapshots.push(await refresh(context.app, byRate.report_id), await refresh(context.app, sales2026.report_id));
   }, 120_000);
   afterAll(async () => {

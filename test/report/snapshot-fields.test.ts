@@ -31,7 +31,7 @@ import {
 } from '../../src/stats/index.js';
 import { TEST_DIALECTS } from '../support/database.js';
 import { createTestApp, type TestApp } from '../support/app.js';
-import { createReport, refresh, upload, REPORT_TEST_SETTINGS } from './fixtures.js';
+import { createReport, refresh, uploadRows, REPORT_TEST_SETTINGS } from '../support/report-data.js';
 
 interface Row {
   customer_id: string;
@@ -141,12 +141,12 @@ describe.each(TEST_DIALECTS)('every field of a small snapshot (%s)', (dialect) =
 
   beforeAll(async () => {
     context = await createTestApp(dialect, REPORT_TEST_SETTINGS);
-    await upload(
+    await uploadRows(
       context.app,
       '/v1/customers',
       ROWS.map((row) => ({ customer_id: row.customer_id, birth_date: row.birth_date, region: row.region, channel: row.channel, customer_type: 'individual' })),
     );
-    await upload(
+    await uploadRows(
       context.app,
       '/v1/campaigns/hand/contacts',
       ROWS.map((row) => ({ customer_id: row.customer_id, contacted_at: '2026-03-01', converted: row.converted, revenue: row.revenue.toFixed(2) })),

@@ -12,10 +12,10 @@ import type { LightMyRequestResponse } from 'fastify';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { PROBLEM_TYPES, type ProblemSlug } from '../../src/http/problems.js';
 import { BAD_INPUT_CASES, bodyOf, type BadInputCase, type StoredCheck } from '../fixtures/bad/cases.js';
-import { CSV, THREE_CUSTOMERS, upload, type ProblemResponseBody, type ReceiptBody } from '../ingest/upload-client.js';
+import { CSV, THREE_CUSTOMERS, upload, type ProblemResponseBody, type ReceiptBody } from '../support/upload-client.js';
 import { createTestApp, type TestApp } from '../support/app.js';
 import { TEST_DIALECTS } from '../support/database.js';
-import { countRows, listTables, readDatabaseState, rowDelta } from './database-state.js';
+import { countTableRows, listTables, readDatabaseState, rowDelta } from '../support/database-state.js';
 
 function send(testApp: TestApp, badCase: BadInputCase): Promise<LightMyRequestResponse> {
   const body = bodyOf(badCase);
@@ -81,7 +81,7 @@ describe.each(TEST_DIALECTS)('bad input corpus on %s', (dialect) => {
   it.each(BAD_INPUT_CASES)('$name', async (caseAsListed) => {
     const badCase = dialect === 'postgres' && caseAsListed.onPostgres ? { ...caseAsListed, ...caseAsListed.onPostgres } : caseAsListed;
     const prototypeKeys = Object.getOwnPropertyNames(Object.prototype).sort();
-    const before = { tables, counts: await countRows(testApp, tables) };
+    const before = { tables, counts: await countTableRows(testApp, tables) };
 
     const response = await send(testApp, badCase);
     const summary = response.body.slice(0, 600);

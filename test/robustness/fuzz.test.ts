@@ -14,10 +14,10 @@ import fc from 'fast-check';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Dialect } from '../../src/db/connect.js';
 import { PROBLEM_TYPES, type ProblemSlug } from '../../src/http/problems.js';
-import { CSV, JSON_TYPE, NDJSON, THREE_CUSTOMERS, upload, type ProblemResponseBody, type ReceiptBody } from '../ingest/upload-client.js';
+import { CSV, JSON_TYPE, NDJSON, THREE_CUSTOMERS, upload, type ProblemResponseBody, type ReceiptBody } from '../support/upload-client.js';
 import { createTestApp, type TestApp } from '../support/app.js';
 import { TEST_DIALECTS } from '../support/database.js';
-import { countRows, listTables, rowDelta, type DatabaseState } from './database-state.js';
+import { countTableRows, listTables, rowDelta, type DatabaseState } from '../support/database-state.js';
 
 /** Runs per property: PostgreSQL round trips are slower, so it gets fewer (FUZZ_RUNS overrides both). */
 const RUNS: Record<Dialect, number> = { sqlite: 150, postgres: 100 };
@@ -317,9 +317,9 @@ async function checkProperty(testApp: TestApp, dialect: Dialect, attempts: fc.Ar
   let lateFailure: unknown = null;
   const property = fc.asyncProperty(attempts, (attempt) => {
     const run = (async () => {
-      const before = { tables, counts: await countRows(testApp, tables) };
+      const before = { tables, counts: await countTableRows(testApp, tables) };
       const response = await send(testApp, attempt);
-      expectNoPartialWrite(attempt, response, before, { tables, counts: await countRows(testApp, tables) });
+      expectNoPartialWrite(attempt, response, before, { tables, counts: await countTableRows(testApp, tables) });
       if (response.statusCode === 201) {
         // The stored receipt is the one the upload answered with.
         const receipt = response.json<ReceiptBody>();

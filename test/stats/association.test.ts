@@ -9,18 +9,7 @@ import {
   pearsonCorrelation,
   pearsonCorrelationFromMoments,
 } from '../../src/stats/index.js';
-import type { Outcome } from '../../src/stats/index.js';
-
-function valueOf<T>(outcome: Outcome<T>): T {
-  if (!outcome.ok) throw new Error(`expected a value, got: ${outcome.reason}`);
-  return outcome.value;
-}
-
-function expectUndefined(outcome: Outcome<unknown>, reason: RegExp): void {
-  expect(outcome.ok).toBe(false);
-  expect(outcome.value).toBeNull();
-  expect(outcome.ok ? '' : outcome.reason).toMatch(reason);
-}
+import { expectUndefined, valueOf } from '../support/outcomes.js';
 
 // Invented: advertising spend (thousands) and orders in eight weeks.
 const spend = [3.1, 4.0, 5.2, 6.8, 7.1, 8.4, 9.9, 10.5];

@@ -15,18 +15,7 @@ import {
   standardDeviation,
   variance,
 } from '../../src/stats/index.js';
-import type { Outcome } from '../../src/stats/index.js';
-
-function valueOf<T>(outcome: Outcome<T>): T {
-  if (!outcome.ok) throw new Error(`expected a value, got: ${outcome.reason}`);
-  return outcome.value;
-}
-
-function expectUndefined(outcome: Outcome<unknown>, reason: RegExp): void {
-  expect(outcome.ok).toBe(false);
-  expect(outcome.value).toBeNull();
-  expect(outcome.ok ? '' : outcome.reason).toMatch(reason);
-}
+import { expectUndefined, valueOf } from '../support/outcomes.js';
 
 // Invented per-customer revenue with many zeros (typical of campaign data).
 const revenue = [0, 0, 0, 0, 5, 0, 12.5, 0, 0, 80, 0, 3, 0, 0, 0, 0, 250, 0, 0, 0, 7];

@@ -1,15 +1,13 @@
 /**
- * Loader for the NIST StRD univariate datasets kept beside the repository in
- * ../shared/reference/nist (see SOURCES.md there), plus the exact-arithmetic and scoring
- * functions the accuracy tests need. The path is resolved from the repository root, because
- * CI checks the repository out in another folder with shared/ next to it.
+ * Loader for the NIST StRD univariate datasets kept in test/fixtures/nist (where they come from
+ * and how they were checked: SOURCES.md there), plus the exact-arithmetic and scoring functions
+ * the accuracy tests need.
  */
 import { readFileSync } from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 
-const repositoryRoot = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../..');
-export const nistDirectory = path.resolve(repositoryRoot, '../shared/reference/nist');
+const nistDirectory = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../fixtures/nist');
 
 interface CertifiedEntry {
   name: string;

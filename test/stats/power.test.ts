@@ -9,18 +9,7 @@ import {
   twoSampleTPower,
   twoSampleTSampleSize,
 } from '../../src/stats/index.js';
-import type { Outcome } from '../../src/stats/index.js';
-
-function valueOf<T>(outcome: Outcome<T>): T {
-  if (!outcome.ok) throw new Error(`expected a value, got: ${outcome.reason}`);
-  return outcome.value;
-}
-
-function expectUndefined(outcome: Outcome<unknown>, reason: RegExp): void {
-  expect(outcome.ok).toBe(false);
-  expect(outcome.value).toBeNull();
-  expect(outcome.ok ? '' : outcome.reason).toMatch(reason);
-}
+import { expectUndefined, valueOf } from '../support/outcomes.js';
 
 function relativeClose(actual: number, expected: number, digits: number): void {
   expect(Math.abs(actual - expected)).toBeLessThanOrEqual(10 ** -digits * Math.abs(expected));

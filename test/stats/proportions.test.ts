@@ -10,22 +10,12 @@ import {
   wilsonInterval,
 } from '../../src/stats/index.js';
 import type { EstimateWithInterval, Outcome } from '../../src/stats/index.js';
-
-function valueOf<T>(outcome: Outcome<T>): T {
-  if (!outcome.ok) throw new Error(`expected a value, got: ${outcome.reason}`);
-  return outcome.value;
-}
+import { expectUndefined, valueOf } from '../support/outcomes.js';
 
 function expectInterval(outcome: Outcome<EstimateWithInterval>, low: number, high: number, digits: number): void {
   const { interval } = valueOf(outcome);
   expect(interval.low).toBeCloseTo(low, digits);
   expect(interval.high).toBeCloseTo(high, digits);
-}
-
-function expectUndefined(outcome: Outcome<unknown>, reason: RegExp): void {
-  expect(outcome.ok).toBe(false);
-  expect(outcome.value).toBeNull();
-  expect(outcome.ok ? '' : outcome.reason).toMatch(reason);
 }
 
 // A group of counts: trials 1..200, successes 0..trials.

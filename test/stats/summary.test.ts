@@ -52,7 +52,7 @@ function naiveOnePassSd(values: ReadonlyArray<number>): number {
 describe('NIST StRD univariate certified values', () => {
   // Source: NIST ITL Statistical Reference Datasets, univariate summary statistics; certified
   // values (500-digit arithmetic) as printed in each file and in
-  // ../shared/reference/nist/certified-values.json. LRE = number of correct significant digits.
+  // test/fixtures/nist/certified-values.json. LRE = number of correct significant digits.
   it('has all nine datasets with their certified values', () => {
     expect(datasets.map((dataset) => dataset.name).sort()).toEqual(
       ['Lew', 'Lottery', 'Mavro', 'Michelso', 'NumAcc1', 'NumAcc2', 'NumAcc3', 'NumAcc4', 'PiDigits'],

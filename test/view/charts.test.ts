@@ -7,7 +7,7 @@ import { trendChart, trendChartSpec, trendPoints } from '../../src/view/charts/t
 import { renderChart } from '../../src/view/render-chart.js';
 import { distributionCharts, distributionFallback, readGrid, readHistogram } from '../../src/view/distributions.js';
 import type { Snapshot } from '../../src/report/shapes/index.js';
-import { knownSnapshot } from './snapshot-fixture.js';
+import { knownSnapshot } from '../support/snapshot-fixture.js';
 import { markGroup } from './svg-reading.js';
 
 /** A bar drawn as a path "Mx,yh<width>v<height>h<-width>Z": its left edge, width and height. */

@@ -2,7 +2,7 @@ import { beforeAll, describe, expect, test } from 'vitest';
 import { intervalChart, intervalRows } from '../../src/view/charts/interval.js';
 import type { ChartFigure } from '../../src/view/figure.js';
 import { escapeHtml } from '../../src/view/html.js';
-import { HOSTILE_IMAGE, HOSTILE_SCRIPT, TESTED, knownSnapshot } from './snapshot-fixture.js';
+import { HOSTILE_IMAGE, HOSTILE_SCRIPT, TESTED, knownSnapshot } from '../support/snapshot-fixture.js';
 import { axisLabelGroups, horizontalScale, labelValue, markGroup } from './svg-reading.js';
 
 // Positions are compared to within a pixel: the library rounds some coordinates for crisp lines.

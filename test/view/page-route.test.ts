@@ -4,7 +4,8 @@ import type { Snapshot } from '../../src/report/shapes/index.js';
 import { OPEN_MODE_BANNER } from '../../src/view/page.js';
 import { createTestApp, type TestApp } from '../support/app.js';
 import { TEST_DIALECTS } from '../support/database.js';
-import { generateDataset, toCsv } from '../report/fixtures.js';
+import { generateDataset } from '../support/report-data.js';
+import { toCsv } from '../support/upload-client.js';
 
 interface Loaded {
   reportId: string;

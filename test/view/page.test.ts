@@ -2,7 +2,7 @@ import { beforeAll, describe, expect, test } from 'vitest';
 import type { Snapshot } from '../../src/report/shapes/index.js';
 import { escapeHtml } from '../../src/view/html.js';
 import { OPEN_MODE_BANNER, renderReportPage, type ReportPageInput } from '../../src/view/page.js';
-import { HOSTILE_IMAGE, HOSTILE_SCRIPT, knownSnapshot } from './snapshot-fixture.js';
+import { HOSTILE_IMAGE, HOSTILE_SCRIPT, knownSnapshot } from '../support/snapshot-fixture.js';
 
 const NONCES = { script: 'scriptnonce0123456789abcdef', style: 'stylenonce0123456789abcdef' };
 

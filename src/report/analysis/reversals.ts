@@ -11,7 +11,7 @@ import { groupBy, type Group, type GroupStats } from '../../segments/index.js';
 import type { Reversal } from '../shapes/index.js';
 
 /** Fewest levels of the other dimension in which a reversal must hold. */
-export const MIN_LEVELS_FOR_REVERSAL = 2;
+const MIN_LEVELS_FOR_REVERSAL = 2;
 
 export interface ReversalInput {
   dimensions: readonly string[];

@@ -27,13 +27,13 @@ import type { GroupStats } from '../../segments/index.js';
 import type { ValueBasis } from '../definition/index.js';
 
 /** Planning power of the minimum detectable difference: 80 %, the convention of Cohen (1988). */
-export const PLANNING_POWER = 0.8;
+const PLANNING_POWER = 0.8;
 
 /**
  * Fisher's exact test replaces the z-test when an expected cell count of the 2×2 table is
  * below 5 (common practice: the rule of thumb for the normal approximation).
  */
-export const MIN_EXPECTED_CELL_COUNT = 5;
+const MIN_EXPECTED_CELL_COUNT = 5;
 
 export interface RateTest {
   kind: 'z' | 'fisher';
@@ -78,7 +78,7 @@ export function valueSummary(stats: GroupStats, basis: ValueBasis): Summary {
  * @example
  * rateTest(3, 10, 40, 400); // Fisher: the expected conversions in the segment are 10·43/410 ≈ 1.05
  */
-export function rateTest(x1: number, n1: number, x2: number, n2: number): Outcome<RateTest> {
+function rateTest(x1: number, n1: number, x2: number, n2: number): Outcome<RateTest> {
   const total = n1 + n2;
   const successes = x1 + x2;
   if (n1 === 0 || n2 === 0) return notComputable('The rate test is undefined: one of the two groups is empty.');
@@ -103,7 +103,7 @@ export function rateTest(x1: number, n1: number, x2: number, n2: number): Outcom
  * minimumDetectableMeanDifference({ n: 100, mean: 10, sumSquaredDeviations: 99 * 4 }, { n: 100, mean: 9, sumSquaredDeviations: 99 * 4 }, 0.05, 0.8);
  * // { ok: true, value: 0.7923… } (2.8016 · √(4/100 + 4/100))
  */
-export function minimumDetectableMeanDifference(a: Summary, b: Summary, alpha: number, power: number): Outcome<number> {
+function minimumDetectableMeanDifference(a: Summary, b: Summary, alpha: number, power: number): Outcome<number> {
   const criticalSum = standardNormalQuantile(1 - alpha / 2) + standardNormalQuantile(power);
   if (a.n < 2 || b.n < 2) return notComputable('The minimum detectable difference of the means is undefined: each group needs at least 2 values.');
   const varianceOfDifference = a.sumSquaredDeviations / (a.n - 1) / a.n + b.sumSquaredDeviations / (b.n - 1) / b.n;

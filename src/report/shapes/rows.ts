@@ -54,7 +54,7 @@ export type SegmentRowField = keyof SegmentRow;
 export const SEGMENT_ROW_FIELDS = Object.keys(SegmentRow.properties) as SegmentRowField[];
 
 /** The same metrics for the rest of the population (everyone outside the segment). */
-export const RestFigures = Type.Object({
+const RestFigures = Type.Object({
   n: Type.Integer(),
   conversions: Type.Integer(),
   conversion_rate: NullableNumber(),
@@ -236,7 +236,7 @@ export const Comparison = Type.Object({
 });
 export type Comparison = Static<typeof Comparison>;
 
-export const RowCounts = Type.Object({
+const RowCounts = Type.Object({
   population: Type.Integer(),
   cells: Type.Integer(),
   segments: Type.Integer(),

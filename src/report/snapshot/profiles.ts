@@ -182,7 +182,7 @@ export function populationDescriptives(
 }
 
 /** Largest number of bins on either axis of the age × value grid (so at most 20 × 20 cells). */
-export const MAX_GRID_BINS = 20;
+const MAX_GRID_BINS = 20;
 
 function histogramFigure(outcome: Outcome<Histogram>): HistogramFigure | null {
   if (!outcome.ok) return null;

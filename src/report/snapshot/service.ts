@@ -121,7 +121,7 @@ function addDays(date: string, days: number): string {
  * The window of the same length just before `[from, to]` (both ends inclusive), e.g.
  * 2026-03-08…2026-03-14 for 2026-03-15…2026-03-21.
  */
-export function precedingWindow(from: string, to: string): { from: string; to: string } {
+function precedingWindow(from: string, to: string): { from: string; to: string } {
   const days = Math.round((Date.parse(`${to}T00:00:00Z`) - Date.parse(`${from}T00:00:00Z`)) / DAY_MS) + 1;
   return { from: addDays(from, -days), to: addDays(from, -1) };
 }
@@ -136,7 +136,7 @@ function populationSource(definition: ReportDefinition): PopulationSource {
  * be described value by value need it, so the sort over the whole population is skipped (or
  * narrowed) when the groups are large.
  */
-export function valueDistributionScope(cells: readonly CellAggregate[], definition: ReportDefinition): ValueDistributionScope {
+function valueDistributionScope(cells: readonly CellAggregate[], definition: ReportDefinition): ValueDistributionScope {
   const valueCount = (cell: CellAggregate) => (definition.value_basis === 'per_unit' ? cell.n : cell.conversions);
   if (isExpandable(cells.reduce((sum, cell) => sum + valueCount(cell), 0))) return 'all';
   const scope: Array<{ dimensionIndex: number; values: string[] }> = [];

@@ -152,12 +152,12 @@ function changeSentence(segment: SnapshotSegment, context: SentenceContext): str
  * back towards the average next time (regression to the mean; Galton 1886 — from memory).
  * The thresholds are common practice, not from a source.
  */
-export const TOP_RANKS_WATCHED = 3;
-export const JUMP_PLACES = 3;
-export const LITTLE_DATA_MULTIPLE_OF_MIN_N = 10;
+const TOP_RANKS_WATCHED = 3;
+const JUMP_PLACES = 3;
+const LITTLE_DATA_MULTIPLE_OF_MIN_N = 10;
 
 /** Whether a segment rose into the top ranks on little data (see the thresholds above). */
-export function jumpedOnLittleData(segment: SnapshotSegment, context: SentenceContext): boolean {
+function jumpedOnLittleData(segment: SnapshotSegment, context: SentenceContext): boolean {
   if (!context.hasPreviousSnapshot || segment.rank === null || segment.rank > TOP_RANKS_WATCHED) return false;
   if (segment.n >= LITTLE_DATA_MULTIPLE_OF_MIN_N * context.definition.min_n) return false;
   return segment.previous_rank === null || segment.previous_rank - segment.rank >= JUMP_PLACES;

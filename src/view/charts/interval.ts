@@ -14,9 +14,9 @@ import { TESTED_VERDICTS, VERDICT_STYLES } from '../verdicts.js';
 import { niceScale, type NiceScale } from './scale.js';
 
 /** Width of the plotting area in pixels; the labels and the n and verdict columns come on top. */
-export const INTERVAL_PLOT_WIDTH = 420;
+const INTERVAL_PLOT_WIDTH = 420;
 /** Height of one segment's row in pixels. */
-export const INTERVAL_ROW_STEP = 18;
+const INTERVAL_ROW_STEP = 18;
 /** Where the n column ends and the verdict column starts, in pixels from the plot's left edge. */
 const COUNT_COLUMN_END = INTERVAL_PLOT_WIDTH + 78;
 const VERDICT_COLUMN_START = INTERVAL_PLOT_WIDTH + 88;
@@ -58,7 +58,7 @@ export function intervalRows(snapshot: Snapshot): IntervalRow[] {
 }
 
 /** The x scale: every interval end and estimate, and zero. */
-export function intervalScale(rows: readonly IntervalRow[]): NiceScale {
+function intervalScale(rows: readonly IntervalRow[]): NiceScale {
   const values = rows.flatMap((row) => [row.estimate, row.low, row.high]).filter((value): value is number => value !== null);
   return niceScale(values, 0);
 }

@@ -11,7 +11,7 @@ import { renderChart } from '../render-chart.js';
 import { niceScale } from './scale.js';
 
 /** The reference line of a Pareto chart: the share of units the first few values usually cover (common practice). */
-export const PARETO_MARK = 0.8;
+const PARETO_MARK = 0.8;
 const BAR_COLOUR = '#4D6E8F';
 const LINE_COLOUR = '#1A1A1A';
 
@@ -22,7 +22,7 @@ export function valuesToReachMark(profile: DimensionProfile): number {
 }
 
 /** The readable name of a dimension: "age band" for `age_band`. */
-export function dimensionName(dimension: string): string {
+function dimensionName(dimension: string): string {
   return dimension.replace(/_/g, ' ');
 }
 

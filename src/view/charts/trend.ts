@@ -12,7 +12,7 @@ import { renderChart } from '../render-chart.js';
 import { niceScale } from './scale.js';
 
 /** How many of the top segments the trend follows. */
-export const TREND_SEGMENTS = 5;
+const TREND_SEGMENTS = 5;
 /** How many snapshots, up to the shown one, the trend covers at most. */
 export const TREND_SNAPSHOTS = 12;
 

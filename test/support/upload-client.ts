@@ -1,6 +1,7 @@
 /**
- * Shared pieces of the ingest HTTP suites: an app per test, uploads through `inject`, row
- * counts of every table, and a small made-up population (regions and channels are invented).
+ * Uploads as a client sends them: an app per test, request bodies in each format (the one CSV
+ * builder of the tests), uploads through `inject`, receipts and problems read back, row counts
+ * of every table, and a small made-up population (regions and channels are invented).
  */
 import type { FastifyInstance, LightMyRequestResponse } from 'fastify';
 import type { Readable } from 'node:stream';
@@ -8,7 +9,8 @@ import { expect, onTestFinished } from 'vitest';
 import type { Config } from '../../src/config.js';
 import type { Dialect } from '../../src/db/connect.js';
 import type { Database } from '../../src/db/tables.js';
-import { createTestApp, type TestApp } from '../support/app.js';
+import { createTestApp, type TestApp } from './app.js';
+import { countTableRows } from './database-state.js';
 
 export const CSV = 'text/csv';
 export const JSON_TYPE = 'application/json';
@@ -39,6 +41,14 @@ export function upload(app: FastifyInstance, url: string, contentType: string, b
 /** Lines joined with LF and ended with one. */
 export function csvText(...lines: string[]): string {
   return `${lines.join('\n')}\n`;
+}
+
+/** Rows as CSV: the header from the first row's keys, missing and null values empty, quoted where needed. */
+export function toCsv(rows: ReadonlyArray<Record<string, unknown>>): string {
+  if (rows.length === 0) return '';
+  const columns = Object.keys(rows[0] as object);
+  const quote = (text: string) => (/[",\r\n]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text);
+  return csvText(columns.join(','), ...rows.map((row) => columns.map((column) => quote(String(row[column] ?? ''))).join(',')));
 }
 
 /** One JSON object per line, each line ended with LF. */
@@ -127,13 +137,7 @@ export const ALL_TABLES = ['customers', 'customer_attributes', 'sales', 'campaig
 
 /** The number of rows in every table, to show that an upload wrote nothing. */
 export async function countRows(testApp: TestApp): Promise<Record<(typeof ALL_TABLES)[number], number>> {
-  const db = testApp.database.handle.db;
-  const counts = {} as Record<(typeof ALL_TABLES)[number], number>;
-  for (const table of ALL_TABLES) {
-    const result = await db.selectFrom(table).select(db.fn.countAll().as('count')).executeTakeFirstOrThrow();
-    counts[table] = Number(result.count);
-  }
-  return counts;
+  return (await countTableRows(testApp, ALL_TABLES)) as Record<(typeof ALL_TABLES)[number], number>;
 }
 
 export type UploadFormatName = 'csv' | 'json' | 'ndjson';
@@ -149,12 +153,7 @@ export type RowObject = Record<string, string | number | boolean | null>;
 export function encode(format: UploadFormatName, rows: RowObject[]): string {
   if (format === 'json') return JSON.stringify(rows, null, 1);
   if (format === 'ndjson') return ndjsonText(rows);
-  const header = Object.keys(rows[0] ?? {});
-  const cell = (value: RowObject[string] | undefined) => {
-    const text = value === null || value === undefined ? '' : String(value);
-    return /[",\r\n]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
-  };
-  return csvText(header.join(','), ...rows.map((row) => header.map((name) => cell(row[name])).join(',')));
+  return toCsv(rows);
 }
 
 export const CUSTOMER_ROWS: RowObject[] = [

@@ -9,7 +9,7 @@ import type { Descriptives, Snapshot, SnapshotSegment, Verdict } from '../../src
 export const HOSTILE_SCRIPT = '<script>alert("segment")</script>';
 export const HOSTILE_IMAGE = '"><img src=x onerror=alert(1)>';
 
-export const definition: ReportDefinition = {
+const definition: ReportDefinition = {
   name: 'Winter <b>bulbs</b>',
   source: { campaign_ids: ['winter-bulbs'] },
   dimensions: ['region', 'channel'],
@@ -39,7 +39,7 @@ export interface SegmentFigures {
   verdict: Verdict;
 }
 
-export function segment(figures: SegmentFigures): SnapshotSegment {
+function segment(figures: SegmentFigures): SnapshotSegment {
   const rate = figures.conversions / figures.n;
   const tested = figures.verdict !== 'too_small';
   const [difference, low, high] = figures.difference ?? [null, null, null];
@@ -97,7 +97,7 @@ export const TESTED: readonly SegmentFigures[] = [
   { rank: 4, dimension: 'region', value: HOSTILE_IMAGE, n: 200, conversions: 8, difference: [-0.07, -0.1, -0.035], verdict: 'worse' },
 ];
 
-export const TOO_SMALL: SegmentFigures = { rank: null, dimension: 'channel', value: 'kiosk', n: 12, conversions: 1, difference: null, verdict: 'too_small' };
+const TOO_SMALL: SegmentFigures = { rank: null, dimension: 'channel', value: 'kiosk', n: 12, conversions: 1, difference: null, verdict: 'too_small' };
 
 /**
  * The known snapshot; `overrides` replace top-level fields (a later sequence, another id).

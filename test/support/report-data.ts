@@ -1,28 +1,16 @@
 /**
  * Invented test data for report tests: a made-up business with made-up regions and channels,
- * generated from a seeded pseudo-random generator so every run sees the same data, and
+ * generated from the demo's seeded pseudo-random generator so every run sees the same data, and
  * uploaded through the HTTP API like a client would.
  */
 import type { FastifyInstance } from 'fastify';
 import { expect } from 'vitest';
+import { seededRandom } from '../../seed/generate.js';
 import type { Snapshot } from '../../src/report/shapes/index.js';
+import { CSV, toCsv, upload } from './upload-client.js';
 
-/**
- * Mulberry32, a small seeded generator (Tommy Ettinger's public-domain mulberry32 — common
- * practice for reproducible test data). Returns numbers in [0, 1).
- */
-export function seededRandom(seed: number): () => number {
-  let state = seed >>> 0;
-  return () => {
-    state = (state + 0x6d2b79f5) >>> 0;
-    let mixed = Math.imul(state ^ (state >>> 15), 1 | state);
-    mixed = (mixed + Math.imul(mixed ^ (mixed >>> 7), 61 | mixed)) ^ mixed;
-    return ((mixed ^ (mixed >>> 14)) >>> 0) / 4294967296;
-  };
-}
-
-export const REGIONS = ['Northfield', 'Southmere', 'Eastvale', 'Westbrook', 'Lakeshore'] as const;
-export const CHANNELS = ['web', 'store', 'phone', 'partner'] as const;
+const REGIONS = ['Northfield', 'Southmere', 'Eastvale', 'Westbrook', 'Lakeshore'] as const;
+const CHANNELS = ['web', 'store', 'phone', 'partner'] as const;
 
 export interface GeneratedCustomer {
   customer_id: string;
@@ -98,18 +86,9 @@ export function generateDataset(options: DatasetOptions): { customers: Generated
   return { customers, contacts: generateContacts(customers, { ...options, seed: options.seed + 1_000_003 }) };
 }
 
-export function toCsv(rows: ReadonlyArray<Record<string, unknown>>): string {
-  if (rows.length === 0) return '';
-  const columns = Object.keys(rows[0] as object);
-  const lines = [columns.join(',')];
-  const quote = (text: string) => (/[",\r\n]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text);
-  for (const row of rows) lines.push(columns.map((column) => quote(String(row[column] ?? ''))).join(','));
-  return `${lines.join('\n')}\n`;
-}
-
 /** Uploads rows as CSV and expects them stored. */
-export async function upload(app: FastifyInstance, url: string, rows: ReadonlyArray<Record<string, unknown>>): Promise<void> {
-  const response = await app.inject({ method: 'POST', url, headers: { 'content-type': 'text/csv' }, payload: toCsv(rows) });
+export async function uploadRows(app: FastifyInstance, url: string, rows: ReadonlyArray<object>, headers: Record<string, string> = {}): Promise<void> {
+  const response = await upload(app, url, CSV, toCsv(rows as ReadonlyArray<Record<string, unknown>>), { headers });
   expect(response.statusCode, response.body).toBe(201);
 }
 
@@ -127,8 +106,8 @@ export async function refresh(app: FastifyInstance, reportId: string): Promise<S
 
 /** Uploads a generated dataset (customers, then one campaign's contacts). */
 export async function uploadDataset(app: FastifyInstance, dataset: ReturnType<typeof generateDataset>, campaignId: string): Promise<void> {
-  await upload(app, '/v1/customers', dataset.customers as unknown as Array<Record<string, unknown>>);
-  await upload(app, `/v1/campaigns/${campaignId}/contacts`, dataset.contacts as unknown as Array<Record<string, unknown>>);
+  await uploadRows(app, '/v1/customers', dataset.customers);
+  await uploadRows(app, `/v1/campaigns/${campaignId}/contacts`, dataset.contacts);
 }
 
 /**
