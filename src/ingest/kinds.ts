@@ -5,7 +5,7 @@
 import type { Database, IngestKind } from '../db/tables.js';
 import { ageInYears } from './fields.js';
 import * as repository from './repository.js';
-import { checkContactFields, checkCustomerFields, checkSaleFields, type ContactRow, type CustomerRow, type RowCheck, type RowError, type SaleRow } from './rows.js';
+import { checkContactFields, checkCustomerFields, checkSaleFields, type ContactRow, type CustomerRow, type RowCheck, type RowError, type SaleRow } from './row-checks.js';
 
 export interface PendingRow<Row> {
   row: Row;

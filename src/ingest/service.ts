@@ -13,7 +13,7 @@ import type { Database, IngestKind, IngestsTable, OnError, RejectedRowsTable } f
 import { contactsKind, customersKind, salesKind, type PendingRow, type UploadKind } from './kinds.js';
 import { DEFAULT_PARSE_LIMITS, parseRecords, type ParsedRecord, type UploadFormat } from './parse.js';
 import * as repository from './repository.js';
-import type { RowError } from './rows.js';
+import type { RowError } from './row-checks.js';
 
 export interface IngestLimits {
   maxBytes: number;

@@ -18,12 +18,12 @@ import {
   type ShiftedSums,
   type Shifts,
 } from './shifted-sums.js';
-import { compareValueLists } from './text-order.js';
+import { compareLabelLists } from './text-order.js';
 
 /** One finest cell: a combination of one value per dimension. */
 export interface CellAggregate {
   /** One value per dimension, in the request's order. */
-  values: string[];
+  labels: string[];
   n: number;
   conversions: number;
   /** Value (cents) of every unit, shifted by `shifts.unitValue`. */
@@ -68,7 +68,7 @@ function cellQuery(request: AggregationRequest, shifts: Shifts, arithmetic: Arit
 }
 
 /** The requested dimension values of one row of the cell query. */
-function cellValuesOf(row: Record<string, unknown>, request: AggregationRequest, age: number | null): string[] {
+function cellLabelsOf(row: Record<string, unknown>, request: AggregationRequest, age: number | null): string[] {
   let attributeIndex = 0;
   return request.dimensions.map((dimension) => {
     if (dimension === 'age_band') return ageBandOf(age, request.ageEdges);
@@ -84,14 +84,14 @@ function isOverflow(error: unknown): boolean {
 
 /** Count of units per finest cell and age (null: unknown or implausible age). */
 export interface AgeCount {
-  values: string[];
+  labels: string[];
   age: number | null;
   count: number;
 }
 
 function emptyCell(values: string[]): CellAggregate {
   return {
-    values,
+    labels: values,
     n: 0,
     conversions: 0,
     unitValue: { n: 0, sumOfShifted: 0, sumOfSquaredShifted: 0 },
@@ -156,7 +156,7 @@ interface GroupSums {
   convertedSquares: number;
 }
 
-function rawAgeOf(row: Record<string, unknown>): number | null {
+function plausibleAgeOfRow(row: Record<string, unknown>): number | null {
   return plausibleAgeOf(row['raw_age'] === null || row['raw_age'] === undefined ? null : toNumber(row['raw_age']));
 }
 
@@ -168,7 +168,7 @@ function groupSums(row: Record<string, unknown>, rowShift: number, shifts: Shift
   const convertedSums = converted ? recentre(n, toNumber(row['value_sum']), toNumber(row['value_squares']), rowShift, shifts.convertedValue, arithmetic) : { sum: 0, squares: 0 };
   return {
     row,
-    age: rawAgeOf(row),
+    age: plausibleAgeOfRow(row),
     n,
     conversions: converted ? n : 0,
     unitSum: unit.sum,
@@ -201,7 +201,7 @@ export async function shiftsAndCellAggregates(db: Executor, request: Aggregation
     return { shifts, ...(await cellAggregates(db, request, shifts)) };
   }
   const shifts = shiftsFromTotals(
-    exactTotals(rows.map((row) => ({ n: toNumber(row['n']), converted: toNumber(row['converted']) === 1, valueSum: toNumber(row['value_sum']), age: rawAgeOf(row) }))),
+    exactTotals(rows.map((row) => ({ n: toNumber(row['n']), converted: toNumber(row['converted']) === 1, valueSum: toNumber(row['value_sum']), age: plausibleAgeOfRow(row) }))),
   );
   return { shifts, ...foldCellRows(rows.map((row) => groupSums(row, 0, shifts, 'exact')), request, shifts, 'exact') };
 }
@@ -212,7 +212,7 @@ function foldCellRows(groups: readonly GroupSums[], request: AggregationRequest,
   const ageCounts = new Map<string, AgeCount>();
   const unconvertedByAge = new Map<number | null, number>();
   for (const { row, age, n, conversions, unitSum, unitSquares, convertedSum, convertedSquares } of groups) {
-    const values = cellValuesOf(row, request, age);
+    const values = cellLabelsOf(row, request, age);
     const key = JSON.stringify(values);
     let cell = cells.get(key);
     if (!cell) cells.set(key, (cell = emptyCell(values)));
@@ -227,7 +227,7 @@ function foldCellRows(groups: readonly GroupSums[], request: AggregationRequest,
     const ageKey = `${key}|${age ?? ''}`;
     const ageCount = ageCounts.get(ageKey);
     if (ageCount) ageCount.count += n;
-    else ageCounts.set(ageKey, { values, age, count: n });
+    else ageCounts.set(ageKey, { labels: values, age, count: n });
     unconvertedByAge.set(age, (unconvertedByAge.get(age) ?? 0) + n - conversions);
     if (age === null) continue;
     const shiftedAge = age - shifts.age;
@@ -242,7 +242,7 @@ function foldCellRows(groups: readonly GroupSums[], request: AggregationRequest,
       crossSum: cell.ageValue.crossSum + shiftedAge * valueSum,
     };
   }
-  const sorted = [...cells.values()].sort((left, right) => compareValueLists(left.values, right.values));
+  const sorted = [...cells.values()].sort((left, right) => compareLabelLists(left.labels, right.labels));
   // SQLite turns an overflowing integer product into a float without an error; a sum beyond
   // 2^53 cannot be exact in JavaScript either. Either way the result is floating point.
   return { cells: sorted, ageCounts: [...ageCounts.values()], unconvertedByAge, arithmetic: sorted.every(isExact) ? arithmetic : 'floating' };

@@ -31,7 +31,7 @@ export type { Group, GroupStats } from './rollup.js';
 export { shiftsFromTotals } from './shifted-sums.js';
 export type { PairedShiftedSums, Shifts } from './shifted-sums.js';
 
-export { compareText, compareValueLists } from './text-order.js';
+export { compareText, compareLabelLists } from './text-order.js';
 
 export { valueDistribution } from './value-counts.js';
 export type { ValueCount, ValueDistributionScope } from './value-counts.js';

@@ -7,7 +7,7 @@
 import { emptySummary, mergeSummaries, subtractSummary, summaryFromShiftedSums, type Summary } from '../stats/index.js';
 import type { CellAggregate } from './cells.js';
 import type { PairedShiftedSums, Shifts } from './shifted-sums.js';
-import { compareValueLists } from './text-order.js';
+import { compareLabelLists } from './text-order.js';
 
 /** The sufficient statistics of any group of units. Money is in major units (cents / 100). */
 export interface GroupStats {
@@ -96,7 +96,7 @@ export function subtractGroup(total: GroupStats, part: GroupStats): GroupStats {
 /** One group of the roll-up: the dimensions it fixes (in report order) and their values. */
 export interface Group {
   dimensions: string[];
-  values: string[];
+  labels: string[];
   stats: GroupStats;
 }
 
@@ -104,16 +104,16 @@ export interface Group {
  * Groups the cells by the dimensions at `indexes` (positions in the report's dimension list)
  * and merges each group's cell statistics. Groups come back ordered by their values.
  */
-export function groupBy(cells: ReadonlyArray<{ values: string[]; stats: GroupStats }>, dimensions: readonly string[], indexes: readonly number[]): Group[] {
+export function groupBy(cells: ReadonlyArray<{ labels: string[]; stats: GroupStats }>, dimensions: readonly string[], indexes: readonly number[]): Group[] {
   const groups = new Map<string, Group>();
   for (const cell of cells) {
-    const values = indexes.map((index) => cell.values[index] as string);
+    const values = indexes.map((index) => cell.labels[index] as string);
     const key = JSON.stringify(values);
     const existing = groups.get(key);
     if (existing) existing.stats = mergeGroups(existing.stats, cell.stats);
-    else groups.set(key, { dimensions: indexes.map((index) => dimensions[index] as string), values, stats: cell.stats });
+    else groups.set(key, { dimensions: indexes.map((index) => dimensions[index] as string), labels: values, stats: cell.stats });
   }
-  return [...groups.values()].sort((left, right) => compareValueLists(left.values, right.values));
+  return [...groups.values()].sort((left, right) => compareLabelLists(left.labels, right.labels));
 }
 
 export interface Rollup {
@@ -129,7 +129,7 @@ export interface Rollup {
  * @example
  * rollUp(cells, ['region', 'channel'], [['region', 'channel']]).segments.length; // regions + channels + pairs seen
  */
-export function rollUp(cells: ReadonlyArray<{ values: string[]; stats: GroupStats }>, dimensions: readonly string[], crosses: ReadonlyArray<readonly [string, string]>): Rollup {
+export function rollUp(cells: ReadonlyArray<{ labels: string[]; stats: GroupStats }>, dimensions: readonly string[], crosses: ReadonlyArray<readonly [string, string]>): Rollup {
   let total = emptyGroup();
   for (const cell of cells) total = mergeGroups(total, cell.stats);
   const segments: Group[] = [];

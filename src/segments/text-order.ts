@@ -7,7 +7,7 @@ export function compareText(left: string, right: string): number {
 }
 
 /** Orders lists of dimension values element by element, by code units. */
-export function compareValueLists(left: readonly string[], right: readonly string[]): number {
+export function compareLabelLists(left: readonly string[], right: readonly string[]): number {
   for (let index = 0; index < Math.max(left.length, right.length); index += 1) {
     const order = compareText(left[index] ?? '', right[index] ?? '');
     if (order !== 0) return order;

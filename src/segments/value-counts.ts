@@ -24,13 +24,13 @@ function inAgeBands(labels: readonly string[], edges: readonly number[]): RawBui
 
 /** Count of the value metric's units per finest cell and value (in cents). */
 export interface ValueCount {
-  values: string[];
+  labels: string[];
   valueCents: number;
   count: number;
 }
 
 /** Which units the value distribution is read for: all of them, or those in the listed dimension values. */
-export type ValueDistributionScope = 'all' | ReadonlyArray<{ dimensionIndex: number; values: readonly string[] }>;
+export type ValueDistributionScope = 'all' | ReadonlyArray<{ dimensionIndex: number; labels: readonly string[] }>;
 
 /**
  * Counts of the value metric's units per finest cell and value. Reading every value costs a
@@ -52,7 +52,7 @@ export async function valueDistribution(
   if (request.valueBasis === 'per_conversion') conditions.push(sql`${CONVERTED} = 1`);
   if (zerosFromCells) conditions.push(sql`(${CONVERTED} = 1 or ${VALUE} <> 0)`);
   if (scope !== 'all') {
-    const inScope = scope.map(({ dimensionIndex, values }) =>
+    const inScope = scope.map(({ dimensionIndex, labels: values }) =>
       request.dimensions[dimensionIndex] === 'age_band' ? inAgeBands(values, request.ageEdges) : sql`${dimensions[dimensionIndex]} in (${sql.join(values)})`,
     );
     conditions.push(sql`(${sql.join(inScope, sql` or `)})`);
@@ -67,12 +67,12 @@ export async function valueDistribution(
     const key = `${JSON.stringify(values)}|${valueCents}`;
     const known = counts.get(key);
     if (known) known.count += count;
-    else counts.set(key, { values, valueCents, count });
+    else counts.set(key, { labels: values, valueCents, count });
   };
-  const zeros = new Map<string, { values: string[]; count: number }>();
+  const zeros = new Map<string, { labels: string[]; count: number }>();
   if (zerosFromCells) {
-    const inScope = (values: readonly string[]) => scope === 'all' || scope.some(({ dimensionIndex, values: chosen }) => chosen.includes(values[dimensionIndex] as string));
-    for (const cell of cells) if (inScope(cell.values)) zeros.set(JSON.stringify(cell.values), { values: cell.values, count: cell.n - cell.conversions });
+    const inScope = (values: readonly string[]) => scope === 'all' || scope.some(({ dimensionIndex, labels: chosen }) => chosen.includes(values[dimensionIndex] as string));
+    for (const cell of cells) if (inScope(cell.labels)) zeros.set(JSON.stringify(cell.labels), { labels: cell.labels, count: cell.n - cell.conversions });
   }
   for (const row of rows) {
     const values = request.dimensions.map((_dimension, index) => String(row[dimensionColumn(index)]));
@@ -81,7 +81,7 @@ export async function valueDistribution(
     if (zero !== undefined && toNumber(row['converted']) !== 1) zero.count -= count;
     add(values, toNumber(row['value_cents']), count);
   }
-  for (const { values, count } of zeros.values()) {
+  for (const { labels: values, count } of zeros.values()) {
     if (count < 0) throw new Error(`the unconverted units of cell ${JSON.stringify(values)} do not add up (${count}): the data changed between two reads`);
     if (count > 0) add(values, 0, count);
   }

@@ -2,7 +2,7 @@
 import type { CellAggregate, Shifts } from '../../src/segments/index.js';
 
 export interface TestUnit {
-  values: string[];
+  labels: string[];
   converted: 0 | 1;
   cents: number;
   age: number | null;
@@ -13,7 +13,7 @@ export const ZERO_SHIFTS: Shifts = { unitValue: 0, convertedValue: 0, age: 0 };
 export function cellsFromUnits(units: readonly TestUnit[], basis: 'per_unit' | 'per_conversion' = 'per_unit'): CellAggregate[] {
   const groups = new Map<string, TestUnit[]>();
   for (const unit of units) {
-    const key = JSON.stringify(unit.values);
+    const key = JSON.stringify(unit.labels);
     groups.set(key, [...(groups.get(key) ?? []), unit]);
   }
   const sum = (values: number[]) => values.reduce((total, value) => total + value, 0);
@@ -22,7 +22,7 @@ export function cellsFromUnits(units: readonly TestUnit[], basis: 'per_unit' | '
     const aged = members.filter((unit) => unit.age !== null);
     const paired = basis === 'per_unit' ? aged : aged.filter((unit) => unit.converted === 1);
     return {
-      values: members[0]!.values,
+      labels: members[0]!.labels,
       n: members.length,
       conversions: converted.length,
       unitValue: { n: members.length, sumOfShifted: sum(members.map((unit) => unit.cents)), sumOfSquaredShifted: sum(members.map((unit) => unit.cents ** 2)) },
@@ -42,21 +42,21 @@ export function cellsFromUnits(units: readonly TestUnit[], basis: 'per_unit' | '
 
 /** `n` units with `conversions` converted (revenue `cents` each) in the cell `values`. */
 export function block(values: string[], n: number, conversions: number, cents = 1000, age: number | null = 40): TestUnit[] {
-  return Array.from({ length: n }, (_unused, index) => ({ values, converted: index < conversions ? 1 : 0, cents: index < conversions ? cents + (index % 5) * 10 : 0, age: age === null ? null : age + (index % 20) }));
+  return Array.from({ length: n }, (_unused, index) => ({ labels: values, converted: index < conversions ? 1 : 0, cents: index < conversions ? cents + (index % 5) * 10 : 0, age: age === null ? null : age + (index % 20) }));
 }
 
 /** The grouped counts the distribution queries would return for these units. */
 export function countsFromUnits(units: readonly TestUnit[], basis: 'per_unit' | 'per_conversion' = 'per_unit') {
-  const ages = new Map<string, { values: string[]; age: number | null; count: number }>();
-  const values = new Map<string, { values: string[]; valueCents: number; count: number }>();
+  const ages = new Map<string, { labels: string[]; age: number | null; count: number }>();
+  const values = new Map<string, { labels: string[]; valueCents: number; count: number }>();
   for (const unit of units) {
-    const ageKey = JSON.stringify([unit.values, unit.age]);
-    const ageEntry = ages.get(ageKey) ?? { values: unit.values, age: unit.age, count: 0 };
+    const ageKey = JSON.stringify([unit.labels, unit.age]);
+    const ageEntry = ages.get(ageKey) ?? { labels: unit.labels, age: unit.age, count: 0 };
     ageEntry.count += 1;
     ages.set(ageKey, ageEntry);
     if (basis === 'per_conversion' && unit.converted === 0) continue;
-    const valueKey = JSON.stringify([unit.values, unit.cents]);
-    const valueEntry = values.get(valueKey) ?? { values: unit.values, valueCents: unit.cents, count: 0 };
+    const valueKey = JSON.stringify([unit.labels, unit.cents]);
+    const valueEntry = values.get(valueKey) ?? { labels: unit.labels, valueCents: unit.cents, count: 0 };
     valueEntry.count += 1;
     values.set(valueKey, valueEntry);
   }

@@ -82,7 +82,7 @@ describe('the reversal check', () => {
     ...block(['B', 'web'], 400, 48),
     ...block(['B', 'store'], 100, 45),
   ];
-  const cells = cellsFromUnits(units).map((cell) => ({ values: cell.values, stats: cellStats(cell, ZERO_SHIFTS) }));
+  const cells = cellsFromUnits(units).map((cell) => ({ labels: cell.labels, stats: cellStats(cell, ZERO_SHIFTS) }));
   const rate = (stats: { n: number; conversions: number }) => stats.conversions / stats.n;
 
   test('a pair whose overall order is reversed in every channel is reported once, with both overall rates', () => {

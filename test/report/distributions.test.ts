@@ -211,12 +211,12 @@ describe('histograms and grid in code', () => {
   });
 
   test('value counts that were not read give no value histogram', () => {
-    expect(populationHistograms([{ values: ['a'], age: 30, count: 4 }], null).value).toBeNull();
+    expect(populationHistograms([{ labels: ['a'], age: 30, count: 4 }], null).value).toBeNull();
   });
 
   test('the grid has at most twenty bins on an axis even when the histogram has more', () => {
     // 2^20 units: Sturges asks for ⌈log₂ 2^20⌉ + 1 = 21 bins.
-    const ages = Array.from({ length: 64 }, (_unused, index) => ({ values: ['a'], age: 18 + index, count: 16_384 }));
+    const ages = Array.from({ length: 64 }, (_unused, index) => ({ labels: ['a'], age: 18 + index, count: 16_384 }));
     const axes = ageValueGridAxes(ages, [
       { valueCents: 0, count: 1_048_575 },
       { valueCents: 123_456, count: 1 },

@@ -165,22 +165,22 @@ describe.each(TEST_DIALECTS)('aggregation in the database (%s)', (dialect) => {
       const key = JSON.stringify(valuesOf(unit));
       expected.set(key, [...(expected.get(key) ?? []), unit]);
     }
-    expect(cells.map((cell) => JSON.stringify(cell.values)).sort()).toEqual([...expected.keys()].sort());
-    const cellGroups = cells.map((cell) => ({ values: cell.values, stats: cellStats(cell, shifts) }));
-    for (const cell of cellGroups) expectFiguresOfRows(cell.stats, shifts, expected.get(JSON.stringify(cell.values)) as Unit[]);
+    expect(cells.map((cell) => JSON.stringify(cell.labels)).sort()).toEqual([...expected.keys()].sort());
+    const cellGroups = cells.map((cell) => ({ labels: cell.labels, stats: cellStats(cell, shifts) }));
+    for (const cell of cellGroups) expectFiguresOfRows(cell.stats, shifts, expected.get(JSON.stringify(cell.labels)) as Unit[]);
     // The roll-up adds the cells' sums, so a wrong sum in any cell shows in its segments and the total.
     const { total, segments } = rollUp(cellGroups, request.dimensions, [['region', 'loyalty_tier']]);
     expectFiguresOfRows(total, shifts, UNITS);
     for (const segment of segments) {
       const indexes = segment.dimensions.map((dimension) => request.dimensions.indexOf(dimension));
-      const rows = UNITS.filter((unit) => indexes.every((index, position) => valuesOf(unit)[index] === segment.values[position]));
+      const rows = UNITS.filter((unit) => indexes.every((index, position) => valuesOf(unit)[index] === segment.labels[position]));
       expectFiguresOfRows(segment.stats, shifts, rows);
     }
   });
 
   test('age bands put every edge in the right band and implausible ages in unknown, never dropping a unit', async () => {
     const { cells } = await cellAggregates(database.handle.db, { ...request, dimensions: ['age_band'] }, { unitValue: 0, convertedValue: 0, age: 0 });
-    const counts = Object.fromEntries(cells.map((cell) => [cell.values[0], cell.n]));
+    const counts = Object.fromEntries(cells.map((cell) => [cell.labels[0], cell.n]));
     expect(counts).toEqual({ unknown: 3, '18-24': 2, '25-34': 1, '45-54': 1, '55-64': 1, '65+': 2 });
     expect(cells.reduce((sum, cell) => sum + cell.n, 0)).toBe(UNITS.length);
   });
@@ -188,7 +188,7 @@ describe.each(TEST_DIALECTS)('aggregation in the database (%s)', (dialect) => {
   test('the band the SQL assigns (for the value distribution) is the band ageBandOf assigns', async () => {
     const values = await valueDistribution(database.handle.db, { ...request, dimensions: ['age_band'] });
     const bySql: Record<string, number> = {};
-    for (const entry of values) bySql[entry.values[0] as string] = (bySql[entry.values[0] as string] ?? 0) + entry.count;
+    for (const entry of values) bySql[entry.labels[0] as string] = (bySql[entry.labels[0] as string] ?? 0) + entry.count;
     const byCode: Record<string, number> = {};
     for (const unit of UNITS) byCode[ageBandOf(unit.age_at_contact, EDGES)] = (byCode[ageBandOf(unit.age_at_contact, EDGES)] ?? 0) + 1;
     expect(bySql).toEqual(byCode);
@@ -197,40 +197,40 @@ describe.each(TEST_DIALECTS)('aggregation in the database (%s)', (dialect) => {
   test('the age–value correlation of the value basis per_conversion uses only converted units', async () => {
     const shifts = { unitValue: 0, convertedValue: 0, age: 0 };
     const { cells } = await cellAggregates(database.handle.db, { ...request, dimensions: ['region'], valueBasis: 'per_conversion' }, shifts);
-    const { total } = rollUp(cells.map((cell) => ({ values: cell.values, stats: cellStats(cell, shifts) })), ['region'], []);
+    const { total } = rollUp(cells.map((cell) => ({ labels: cell.labels, stats: cellStats(cell, shifts) })), ['region'], []);
     // Converted units with a plausible age: b (18, 1250), c (24, 999), g (120, 1), e (64, 40000), j (45, 2500);
     // the unconverted d (25) and f (65) are left out.
     const pairs: Array<[number, number]> = [[18, 1250], [24, 999], [120, 1], [64, 40000], [45, 2500]];
     expectCorrelation(correlationFromSums(total.ageValue, shifts, 0.95), pairs);
-    const south = cells.find((cell) => cell.values[0] === 'South');
+    const south = cells.find((cell) => cell.labels[0] === 'South');
     expect(south && correlationFromSums(cellStats(south, shifts).ageValue, shifts, 0.95).n).toBe(2);
   });
 
   test('the age and value distributions count units per cell and value', async () => {
     const { ageCounts: ages } = await cellAggregates(database.handle.db, { ...request, dimensions: ['region'] }, { unitValue: 0, convertedValue: 0, age: 0 });
-    const southAges = ages.filter((entry) => entry.values[0] === 'South').sort((a, b) => (a.age ?? -1) - (b.age ?? -1));
+    const southAges = ages.filter((entry) => entry.labels[0] === 'South').sort((a, b) => (a.age ?? -1) - (b.age ?? -1));
     expect(southAges).toEqual([
-      { values: ['South'], age: null, count: 1 },
-      { values: ['South'], age: 25, count: 1 },
-      { values: ['South'], age: 45, count: 1 },
-      { values: ['South'], age: 64, count: 1 },
-      { values: ['South'], age: 65, count: 1 },
+      { labels: ['South'], age: null, count: 1 },
+      { labels: ['South'], age: 25, count: 1 },
+      { labels: ['South'], age: 45, count: 1 },
+      { labels: ['South'], age: 64, count: 1 },
+      { labels: ['South'], age: 65, count: 1 },
     ]);
     const values = await valueDistribution(database.handle.db, { ...request, dimensions: ['region'], valueBasis: 'per_conversion' });
-    const south = values.filter((entry) => entry.values[0] === 'South').sort((a, b) => a.valueCents - b.valueCents);
+    const south = values.filter((entry) => entry.labels[0] === 'South').sort((a, b) => a.valueCents - b.valueCents);
     expect(south).toEqual([
-      { values: ['South'], valueCents: 2500, count: 2 },
-      { values: ['South'], valueCents: 40000, count: 1 },
+      { labels: ['South'], valueCents: 2500, count: 2 },
+      { labels: ['South'], valueCents: 40000, count: 1 },
     ]);
   });
 
   test('the value distribution can be limited to chosen dimension values', async () => {
-    const limited = await valueDistribution(database.handle.db, { ...request, dimensions: ['region', 'loyalty_tier'] }, [{ dimensionIndex: 1, values: ['silver'] }]);
+    const limited = await valueDistribution(database.handle.db, { ...request, dimensions: ['region', 'loyalty_tier'] }, [{ dimensionIndex: 1, labels: ['silver'] }]);
     // Silver: d (South, 0), g (North, 1 cent), j (South, 2500).
     expect(limited.sort((a, b) => a.valueCents - b.valueCents)).toEqual([
-      { values: ['South', 'silver'], valueCents: 0, count: 1 },
-      { values: ['North', 'silver'], valueCents: 1, count: 1 },
-      { values: ['South', 'silver'], valueCents: 2500, count: 1 },
+      { labels: ['South', 'silver'], valueCents: 0, count: 1 },
+      { labels: ['North', 'silver'], valueCents: 1, count: 1 },
+      { labels: ['South', 'silver'], valueCents: 2500, count: 1 },
     ]);
     expect(await valueDistribution(database.handle.db, request, [])).toEqual([]);
   });
@@ -284,16 +284,16 @@ describe.each(TEST_DIALECTS)('aggregation in the database (%s)', (dialect) => {
     const bands = { ...request, dimensions: ['age_band', 'region'] };
     const everything = await valueDistribution(database.handle.db, bands);
     const chosen = ['18-24', 'unknown'];
-    const limited = await valueDistribution(database.handle.db, bands, [{ dimensionIndex: 0, values: chosen }]);
+    const limited = await valueDistribution(database.handle.db, bands, [{ dimensionIndex: 0, labels: chosen }]);
     const order = (entries: typeof everything) => [...entries].map((entry) => JSON.stringify(entry)).sort();
-    expect(order(limited)).toEqual(order(everything.filter((entry) => chosen.includes(entry.values[0] as string))));
+    expect(order(limited)).toEqual(order(everything.filter((entry) => chosen.includes(entry.labels[0] as string))));
     // Units a (17), h (121) and i (no birth date) are of unknown age; b (18) and c (24) are 18-24.
     expect(limited.reduce((sum, entry) => sum + entry.count, 0)).toBe(5);
   });
 
   test.each([
     ['per_unit', 'all'],
-    ['per_unit', [{ dimensionIndex: 0, values: ['18-24', 'unknown'] }]],
+    ['per_unit', [{ dimensionIndex: 0, labels: ['18-24', 'unknown'] }]],
     ['per_conversion', 'all'],
   ] as const)('the value distribution read with the cells (zeros counted from them) is the full read (%s, %j)', async (valueBasis, scope) => {
     const wanted = { ...request, valueBasis, dimensions: ['age_band', 'region'] };

@@ -54,7 +54,7 @@ describe.each(TEST_DIALECTS)('migration 0004 on stored contacts (%s)', (dialect)
       ageEdges: [18, 65],
       valueBasis: 'per_unit',
     });
-    expect(cells.map((cell) => [...cell.values, cell.n])).toEqual([
+    expect(cells.map((cell) => [...cell.labels, cell.n])).toEqual([
       ['Fennwick', 'web shop', 1],
       ['Saltmere', 'catalogue', 1],
       ['Saltmere', 'web shop', 1],

@@ -23,14 +23,14 @@ const UNITS: Unit[] = [
 const SHIFTS = { unitValue: 1000, convertedValue: 20000, age: 40 };
 
 /** The finest cells as the database would return them, summed here from the units. */
-function cellsOf(units: Unit[]): Array<{ values: string[]; stats: ReturnType<typeof cellStats> }> {
+function cellsOf(units: Unit[]): Array<{ labels: string[]; stats: ReturnType<typeof cellStats> }> {
   const groups = new Map<string, Unit[]>();
   for (const unit of units) groups.set(`${unit.region}|${unit.channel}`, [...(groups.get(`${unit.region}|${unit.channel}`) ?? []), unit]);
   return [...groups.entries()].map(([key, members]) => {
     const converted = members.filter((unit) => unit.converted === 1);
     const sum = (values: number[]) => values.reduce((total, value) => total + value, 0);
     const cell: CellAggregate = {
-      values: key.split('|'),
+      labels: key.split('|'),
       n: members.length,
       conversions: converted.length,
       unitValue: { n: members.length, sumOfShifted: sum(members.map((unit) => unit.cents - 1000)), sumOfSquaredShifted: sum(members.map((unit) => (unit.cents - 1000) ** 2)) },
@@ -38,7 +38,7 @@ function cellsOf(units: Unit[]): Array<{ values: string[]; stats: ReturnType<typ
       age: { n: members.length, sumOfShifted: sum(members.map((unit) => unit.age - 40)), sumOfSquaredShifted: sum(members.map((unit) => (unit.age - 40) ** 2)) },
       ageValue: { n: 0, ageSum: 0, ageSquaredSum: 0, valueSum: 0, valueSquaredSum: 0, crossSum: 0 },
     };
-    return { values: cell.values, stats: cellStats(cell, SHIFTS) };
+    return { labels: cell.labels, stats: cellStats(cell, SHIFTS) };
   });
 }
 
@@ -47,7 +47,7 @@ describe('rolling cells up to segments', () => {
   const { total, segments } = rollUp(cells, ['region', 'channel'], [['region', 'channel']]);
 
   test('one-way segments come first in dimension order, then the cross cells', () => {
-    expect(segments.map((segment) => `${segment.dimensions.join('×')}:${segment.values.join('/')}`)).toEqual([
+    expect(segments.map((segment) => `${segment.dimensions.join('×')}:${segment.labels.join('/')}`)).toEqual([
       'region:N',
       'region:S',
       'channel:shop',
@@ -60,7 +60,7 @@ describe('rolling cells up to segments', () => {
   });
 
   test('merged summaries equal the summary of the raw values, in major units', () => {
-    const south = segments.find((segment) => segment.dimensions.length === 1 && segment.values[0] === 'S');
+    const south = segments.find((segment) => segment.dimensions.length === 1 && segment.labels[0] === 'S');
     const southValues = UNITS.filter((unit) => unit.region === 'S').map((unit) => unit.cents / 100);
     const direct = summarize(southValues);
     expect(south?.stats.n).toBe(4);
@@ -73,7 +73,7 @@ describe('rolling cells up to segments', () => {
   });
 
   test('the rest of a segment is the total minus the segment, equal to the summary of everyone else', () => {
-    const web = segments.find((segment) => segment.dimensions[0] === 'channel' && segment.values[0] === 'web');
+    const web = segments.find((segment) => segment.dimensions[0] === 'channel' && segment.labels[0] === 'web');
     const rest = subtractGroup(total, web!.stats);
     const others = UNITS.filter((unit) => unit.channel !== 'web');
     const direct = summarize(others.map((unit) => unit.cents / 100));

@@ -46,12 +46,12 @@ export function comparisonBasis(previousWindow: PreviousWindow | null, previousS
 /** Every segment's figures in the preceding window, rolled up from its cells the way the current ones are. */
 function figuresOfWindow(previousWindow: PreviousWindow, definition: ReportDefinition): Map<string, PreviousFigures> {
   const groups = rollUp(
-    previousWindow.cells.map((cell) => ({ values: cell.values, stats: cellStats(cell, previousWindow.shifts) })),
+    previousWindow.cells.map((cell) => ({ labels: cell.labels, stats: cellStats(cell, previousWindow.shifts) })),
     definition.dimensions,
     definition.crosses,
   ).segments;
   return new Map(
-    groups.map((group) => [segmentLabel(group.dimensions, group.values), { n: group.stats.n, conversions: group.stats.conversions, value: valueSummary(group.stats, definition.value_basis) }]),
+    groups.map((group) => [segmentLabel(group.dimensions, group.labels), { n: group.stats.n, conversions: group.stats.conversions, value: valueSummary(group.stats, definition.value_basis) }]),
   );
 }
 

@@ -15,7 +15,7 @@ const MIN_LEVELS_FOR_REVERSAL = 2;
 
 export interface ReversalInput {
   dimensions: readonly string[];
-  cells: ReadonlyArray<{ values: string[]; stats: GroupStats }>;
+  cells: ReadonlyArray<{ labels: string[]; stats: GroupStats }>;
   minN: number;
   /** the ranking metric of a group, or null when it cannot be computed */
   metric: (stats: GroupStats) => number | null;
@@ -36,15 +36,15 @@ export function findReversals(input: ReversalInput): Array<Omit<Reversal, 'sente
     dimensions.forEach((within, withinIndex) => {
       if (withinIndex === index) return;
       const pairs = groupBy(cells, dimensions, [index, withinIndex]);
-      const cell = new Map(pairs.map((group) => [JSON.stringify([group.values[0], group.values[1]]), group]));
-      const levels = [...new Set(pairs.map((group) => group.values[1] as string))];
+      const cell = new Map(pairs.map((group) => [JSON.stringify([group.labels[0], group.labels[1]]), group]));
+      const levels = [...new Set(pairs.map((group) => group.labels[1] as string))];
       for (const first of overall) {
         for (const second of overall) {
           const firstMetric = metricOf(first);
           const secondMetric = metricOf(second);
           if (firstMetric === null || secondMetric === null || !(firstMetric > secondMetric)) continue;
-          const higher = first.values[0] as string;
-          const lower = second.values[0] as string;
+          const higher = first.labels[0] as string;
+          const lower = second.labels[0] as string;
           let compared = 0;
           let reversedEverywhere = true;
           for (const level of levels) {

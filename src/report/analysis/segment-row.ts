@@ -30,11 +30,11 @@ export function segmentRow(group: Group, rest: GroupStats, statistics: SegmentSt
   const rateMdd = observedRateDifference >= 0 ? valueOrNull(statistics.rateMdd.increase) : valueOrNull(statistics.rateMdd.decrease);
   const values: Record<string, string> = {};
   group.dimensions.forEach((dimension, index) => {
-    values[dimension] = group.values[index] as string;
+    values[dimension] = group.labels[index] as string;
   });
   return {
     rank: null,
-    segment: segmentLabel(group.dimensions, group.values),
+    segment: segmentLabel(group.dimensions, group.labels),
     dimensions: group.dimensions.join(' & '),
     n: group.stats.n,
     share: total.n > 0 ? group.stats.n / total.n : 0,

@@ -19,5 +19,5 @@ export {
   Verdict,
   toSegmentRow,
   type SegmentRowField,
-} from './rows.js';
+} from './snapshot.js';
 export { Report, ReportList, SegmentTable, SnapshotList, SnapshotMeta } from './resources.js';

@@ -5,7 +5,7 @@
  */
 import { Type, type Static } from 'typebox';
 import { ReportDefinition } from '../definition/index.js';
-import { SegmentRow, SnapshotTrigger } from './rows.js';
+import { SegmentRow, SnapshotTrigger } from './snapshot.js';
 
 const LatestSnapshot = Type.Object({ snapshot_id: Type.String(), sequence: Type.Integer(), created_at: Type.String({ format: 'date-time' }) });
 

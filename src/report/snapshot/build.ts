@@ -33,7 +33,7 @@ export function buildSnapshot(input: SnapshotInput): Snapshot {
   const { definition } = input;
   const words = vocabulary(definition);
   const basis = definition.value_basis;
-  const cellGroups = input.cells.map((cell) => ({ values: cell.values, stats: cellStats(cell, input.shifts) }));
+  const cellGroups = input.cells.map((cell) => ({ labels: cell.labels, stats: cellStats(cell, input.shifts) }));
   const { total, segments: groups } = rollUp(cellGroups, definition.dimensions, definition.crosses);
   const settings = { confidence: definition.confidence, minN: definition.min_n, valueBasis: basis };
 

@@ -1,10 +1,10 @@
 /** The fingerprint of a snapshot's inputs, to tell whether two snapshots were computed from the same data. */
 import { createHash } from 'node:crypto';
-import { compareValueLists } from '../../segments/index.js';
+import { compareLabelLists } from '../../segments/index.js';
 import type { SnapshotInput } from './input.js';
 
-function sortedCounts<T extends { values: string[] }>(rows: readonly T[], tail: (row: T) => number | null): T[] {
-  return [...rows].sort((left, right) => compareValueLists(left.values, right.values) || (tail(left) ?? -1) - (tail(right) ?? -1));
+function sortedCounts<T extends { labels: string[] }>(rows: readonly T[], tail: (row: T) => number | null): T[] {
+  return [...rows].sort((left, right) => compareLabelLists(left.labels, right.labels) || (tail(left) ?? -1) - (tail(right) ?? -1));
 }
 
 /**

@@ -112,8 +112,8 @@ export interface ProfileInput {
   dimensions: readonly string[];
   /** one-way groups of every dimension (from the roll-up) */
   oneWay: readonly Group[];
-  ageCounts: ReadonlyArray<{ values: string[]; age: number | null; count: number }>;
-  valueCounts: ReadonlyArray<{ values: string[]; valueCents: number; count: number }>;
+  ageCounts: ReadonlyArray<{ labels: string[]; age: number | null; count: number }>;
+  valueCounts: ReadonlyArray<{ labels: string[]; valueCents: number; count: number }>;
   valueSummary: (group: Group['stats']) => Summary;
   shifts: Shifts;
   confidence: number;
@@ -142,12 +142,12 @@ export function dimensionProfiles(input: ProfileInput): DimensionProfile[] {
   return input.dimensions.map((dimension, index) => {
     const groups = input.oneWay.filter((group) => group.dimensions.length === 1 && group.dimensions[0] === dimension);
     const ages = new Map<string, Map<number, number>>();
-    for (const entry of input.ageCounts) if (entry.age !== null) addCount(ages, entry.values[index] as string, entry.age, entry.count);
+    for (const entry of input.ageCounts) if (entry.age !== null) addCount(ages, entry.labels[index] as string, entry.age, entry.count);
     const values = new Map<string, Map<number, number>>();
-    for (const entry of input.valueCounts) addCount(values, entry.values[index] as string, entry.valueCents / 100, entry.count);
-    const table = frequencyTable(groups.map((group) => ({ label: group.values[0] as string, count: group.stats.n })));
+    for (const entry of input.valueCounts) addCount(values, entry.labels[index] as string, entry.valueCents / 100, entry.count);
+    const table = frequencyTable(groups.map((group) => ({ label: group.labels[0] as string, count: group.stats.n })));
     const rows = table.ok ? table.value : [];
-    const byLabel = new Map(groups.map((group) => [group.values[0] as string, group]));
+    const byLabel = new Map(groups.map((group) => [group.labels[0] as string, group]));
     const profiles: DimensionValueProfile[] = rows.map((row) => {
       const group = byLabel.get(row.label) as Group;
       return {
@@ -198,7 +198,7 @@ function histogramFigure(outcome: Outcome<Histogram>): HistogramFigure | null {
  * histogram is also null when the whole population's value counts were not read.
  * @throws StatsInputError when a count is not a non-negative integer (a programming error)
  * @example
- * populationHistograms([{ values: ['north'], age: 30, count: 2 }], [{ valueCents: 1250, count: 2 }]);
+ * populationHistograms([{ labels: ['north'], age: 30, count: 2 }], [{ valueCents: 1250, count: 2 }]);
  * // { age: { rule: 'sturges', bin_width: 0, bins: [{ low: 30, high: 30, count: 2 }], note: 'All values are equal, …' }, value: { … } }
  */
 export function populationHistograms(
@@ -222,7 +222,7 @@ function axisOf(entries: ReadonlyArray<{ value: number; count: number }>, histog
  * while the histogram has no more bins the grid's edges are the histogram's. Null when either
  * distribution is empty.
  * @example
- * ageValueGridAxes([{ values: ['north'], age: 30, count: 2 }, { values: ['south'], age: 50, count: 2 }], [{ valueCents: 0, count: 4 }]);
+ * ageValueGridAxes([{ labels: ['north'], age: 30, count: 2 }, { labels: ['south'], age: 50, count: 2 }], [{ valueCents: 0, count: 4 }]);
  * // { age: { low: 30, high: 50, bins: 3 }, valueCents: { low: 0, high: 0, bins: 1 } }
  */
 export function ageValueGridAxes(ageCounts: ProfileInput['ageCounts'], valueCounts: readonly PopulationValueCount[]): AgeValueGridAxes | null {

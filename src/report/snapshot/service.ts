@@ -139,12 +139,12 @@ function populationSource(definition: ReportDefinition): PopulationSource {
 function valueDistributionScope(cells: readonly CellAggregate[], definition: ReportDefinition): ValueDistributionScope {
   const valueCount = (cell: CellAggregate) => (definition.value_basis === 'per_unit' ? cell.n : cell.conversions);
   if (isExpandable(cells.reduce((sum, cell) => sum + valueCount(cell), 0))) return 'all';
-  const scope: Array<{ dimensionIndex: number; values: string[] }> = [];
+  const scope: Array<{ dimensionIndex: number; labels: string[] }> = [];
   definition.dimensions.forEach((_dimension, dimensionIndex) => {
     const sizes = new Map<string, number>();
-    for (const cell of cells) sizes.set(cell.values[dimensionIndex] as string, (sizes.get(cell.values[dimensionIndex] as string) ?? 0) + valueCount(cell));
+    for (const cell of cells) sizes.set(cell.labels[dimensionIndex] as string, (sizes.get(cell.labels[dimensionIndex] as string) ?? 0) + valueCount(cell));
     const small = [...sizes].filter(([, size]) => isExpandable(size)).map(([value]) => value);
-    if (small.length > 0) scope.push({ dimensionIndex, values: small });
+    if (small.length > 0) scope.push({ dimensionIndex, labels: small });
   });
   return scope;
 }

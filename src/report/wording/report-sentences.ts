@@ -8,7 +8,7 @@ import type { Comparison, Reversal, SnapshotSegment, Verdict } from '../shapes/i
 import { metricView } from './metric-view.js';
 import { describeSegment, type Vocabulary } from './vocabulary.js';
 
-/** Cautions every report shows, whatever its data (see DESIGN.md, "Cautions the product itself shows"). */
+/** Cautions every report shows, whatever its data (the README's cautions section says the same). */
 const CAUTIONS: readonly string[] = [
   'Targeting or excluding people by age, sex or similar traits is restricted in some industries and places, among them housing, credit, employment and insurance advertising. Check local law and take advice from qualified counsel before acting on these segments.',
   'Birth dates are personal data: keep only what this analysis needs, and erase a customer on request (DELETE /v1/customers/{customer_id} removes every row about them).',
