@@ -49,28 +49,11 @@ export async function createTestDatabase(dialect: Dialect): Promise<TestDatabase
     fs.copyFileSync(await migratedSqliteTemplate(), settings.file);
   }
   const handle = await openDatabase(settings);
-  if (settings.dialect === 'postgres') await migratePostgresSchema(handle, settings);
+  if (settings.dialect === 'postgres') await migrateToLatest(handle.db, settings);
   return { settings, handle, destroy: async () => {
     await handle.close();
     await dropTestDatabase(settings);
   } };
-}
-
-/**
- * The migrator first looks for its own tables through kysely's introspection, which reads every
- * schema on the server; when another test file drops its schema during that read, PostgreSQL
- * reports that schema missing. Nothing has been migrated yet at that point, so it is tried again.
- */
-async function migratePostgresSchema(handle: DatabaseHandle, settings: Extract<DatabaseSettings, { dialect: 'postgres' }>): Promise<void> {
-  for (let attempt = 1; ; attempt++) {
-    try {
-      await migrateToLatest(handle.db, settings);
-      return;
-    } catch (error) {
-      const otherSchemaDropped = error instanceof Error && /schema "[^"]+" does not exist/.test(error.message) && !error.message.includes(`"${settings.schema}"`);
-      if (!otherSchemaDropped || attempt === 3) throw error;
-    }
-  }
 }
 
 let sqliteTemplate: Promise<string> | undefined;
