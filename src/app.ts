@@ -1,6 +1,6 @@
 /**
  * Builds the HTTP application from its dependencies without listening, so tests drive it
- * through `inject` or supertest and `main.ts` alone decides where it listens.
+ * through `inject` and `main.ts` alone decides where it listens.
  */
 import accepts from '@fastify/accepts';
 import Fastify, { type FastifyInstance } from 'fastify';
