@@ -18,7 +18,9 @@ function migratorFor(db: Kysely<Database>, settings: DatabaseSettings): Migrator
   });
 }
 
-function appliedNames(error: unknown, results: Awaited<ReturnType<Migrator['migrateToLatest']>>['results']): string[] {
+type MigrationResults = Awaited<ReturnType<Migrator['migrateToLatest']>>['results'];
+
+function appliedNames(error: unknown, results: MigrationResults): string[] {
   if (error) {
     const failed = results?.find((result) => result.status === 'Error')?.migrationName ?? 'unknown';
     throw new MigrationError(`migration ${failed} failed: ${error instanceof Error ? error.message : String(error)}`);
@@ -26,18 +28,21 @@ function appliedNames(error: unknown, results: Awaited<ReturnType<Migrator['migr
   return (results ?? []).filter((result) => result.status === 'Success').map((result) => result.migrationName);
 }
 
-const INVALID_SCHEMA_NAME = '3F000';
+// invalid_schema_name, undefined_table, undefined_column: what a catalogue read reports when
+// another schema's tables vanish under it.
+const VANISHED_OBJECT_CODES = new Set(['3F000', '42P01', '42703']);
 
 /**
  * Whether a migration attempt failed only because another schema on the same PostgreSQL server
  * was dropped meanwhile: the migrator looks for its own tables through kysely's introspection,
- * which reads every schema, and a schema dropped during that read is reported missing. Nothing
- * has been migrated at that point, so the attempt can be repeated.
+ * which reads every schema, and an object dropped during that read is reported missing. The
+ * attempt is repeated only when no migration had started, so nothing is applied twice.
  */
-function failedOnAnotherSchema(error: unknown, settings: DatabaseSettings): boolean {
+function failedOnAnotherSchema(error: unknown, results: MigrationResults, settings: DatabaseSettings): boolean {
   if (settings.dialect !== 'postgres' || !(error instanceof Error)) return false;
   const code = (error as Error & { code?: unknown }).code;
-  return code === INVALID_SCHEMA_NAME && !error.message.includes(`"${settings.schema}"`);
+  const noMigrationStarted = (results ?? []).every((result) => result.status === 'NotExecuted');
+  return typeof code === 'string' && VANISHED_OBJECT_CODES.has(code) && noMigrationStarted && !error.message.includes(`"${settings.schema}"`);
 }
 
 // A busy server (many schemas made and dropped, as by parallel test suites) can fail several reads in a row.
@@ -48,7 +53,7 @@ const RETRY_PAUSE_MS = 25;
 export async function migrateToLatest(db: Kysely<Database>, settings: DatabaseSettings): Promise<string[]> {
   for (let attempt = 1; ; attempt++) {
     const { error, results } = await migratorFor(db, settings).migrateToLatest();
-    if (attempt < MIGRATION_ATTEMPTS && failedOnAnotherSchema(error, settings)) {
+    if (attempt < MIGRATION_ATTEMPTS && failedOnAnotherSchema(error, results, settings)) {
       await new Promise((resolve) => setTimeout(resolve, RETRY_PAUSE_MS * attempt));
       continue;
     }
