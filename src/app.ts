@@ -67,11 +67,13 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
   const reports = reportDependencies(deps.database, deps.logger, now);
   const ingest: IngestDependencies = {
     db: deps.database.db,
+    readDb: deps.database.readDb,
     logger: deps.logger,
     now,
     limits: {
       maxBytes: deps.config.maxUploadBytes,
       maxRows: deps.config.maxUploadRows,
+      idleTimeoutMs: deps.config.uploadIdleTimeoutMs,
       progressEveryRows: deps.config.ingestProgressEveryRows,
     },
   };

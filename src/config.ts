@@ -20,6 +20,8 @@ export interface Config {
   maxUploadBytes: number;
   /** Largest number of data rows accepted in one upload. */
   maxUploadRows: number;
+  /** Longest pause, in milliseconds, in the arrival of an upload body before it is answered 408. */
+  uploadIdleTimeoutMs: number;
   /** Rows between two progress log lines during a long upload. */
   ingestProgressEveryRows: number;
   /** Cron expression of the weekly refresh. */
@@ -69,6 +71,7 @@ export function loadConfig(env: Environment = process.env): Config {
     logLevel: readChoice(env, 'LOG_LEVEL', LOG_LEVELS, 'info'),
     maxUploadBytes: readInteger(env, 'MAX_UPLOAD_BYTES', 256 * 1024 * 1024, { min: 1024, max: 4 * 1024 ** 3 }),
     maxUploadRows: readInteger(env, 'MAX_UPLOAD_ROWS', 2_000_000, { min: 1, max: 100_000_000 }),
+    uploadIdleTimeoutMs: readInteger(env, 'UPLOAD_IDLE_TIMEOUT_MS', 30_000, { min: 100, max: 3_600_000 }),
     ingestProgressEveryRows: readInteger(env, 'INGEST_PROGRESS_EVERY_ROWS', 100_000, { min: 1, max: 100_000_000 }),
     refreshCron: readString(env, 'REFRESH_CRON', '0 6 * * 1'),
     refreshTimeZone: readTimeZone(env, 'REFRESH_TIME_ZONE', 'UTC'),

@@ -7,6 +7,8 @@
 import type { FastifyError, FastifyInstance, FastifyReply, FastifyRequest } from 'fastify';
 import { MalformedBodyError } from '../ingest/parse.js';
 import {
+  BodyIdleTimeoutError,
+  ClientAbortedError,
   EmptyUploadError,
   IdempotencyConflictError,
   RowsRejectedError,
@@ -42,7 +44,10 @@ function domainProblem(error: unknown): Problem | null {
       errors: [{ row: null, line: error.line, column: null, value: null, reason: error.message }],
     });
   }
-  if (error instanceof UploadTooLargeError) return new Problem('payload-too-large', error.message, { limit_bytes: error.limitBytes });
+  // The rest of such a body is never read, so the connection cannot carry another request.
+  if (error instanceof UploadTooLargeError) return new Problem('payload-too-large', error.message, { limit_bytes: error.limitBytes }, { connection: 'close' });
+  if (error instanceof BodyIdleTimeoutError) return new Problem('request-timeout', error.message, {}, { connection: 'close' });
+  if (error instanceof ClientAbortedError) return new Problem('malformed-body', error.message, {}, { connection: 'close' });
   if (error instanceof TooManyRowsError) return new Problem('payload-too-large', error.message, { limit_rows: error.limitRows });
   if (error instanceof EmptyUploadError) return new Problem('malformed-body', error.message);
   if (error instanceof IdempotencyConflictError) return new Problem('conflict', error.message);
@@ -122,8 +127,25 @@ export function answerRouterError(error: FastifyError, request: FastifyRequest, 
   sendProblem(reply, request, new Problem('invalid-request', `the request URL cannot be read: ${error.message}`));
 }
 
+const DISCONNECT_CODES = new Set(['ECONNRESET', 'ECONNABORTED', 'EPIPE', 'ERR_STREAM_PREMATURE_CLOSE']);
+
+/**
+ * The client went away mid-request: nothing is wrong with the service, and nobody is left to
+ * read the answer. A reset elsewhere (a database connection) counts only while this request's
+ * own connection is gone too.
+ */
+function isClientDisconnect(error: unknown, request: FastifyRequest): boolean {
+  if (error instanceof ClientAbortedError) return true;
+  const code = (error as { code?: unknown } | null)?.code;
+  return typeof code === 'string' && DISCONNECT_CODES.has(code) && (request.raw.destroyed || request.raw.socket.destroyed);
+}
+
 export function registerErrorHandling(app: FastifyInstance): void {
   app.setErrorHandler((error, request, reply) => {
+    if (isClientDisconnect(error, request)) {
+      request.log.info({ reason: error instanceof Error ? error.message : String(error) }, 'client disconnected');
+      return sendProblem(reply, request, new Problem('malformed-body', 'the client closed the connection before the request ended', {}, { connection: 'close' }));
+    }
     const problem = toProblem(error);
     if (problem.status >= 500) request.log.error({ err: error }, 'request failed');
     else request.log.info({ problem: problem.slug, detail: problem.detail }, 'request refused');

@@ -91,7 +91,7 @@ export const ingestRoutes: FastifyPluginAsync<IngestDependencies> = async (app, 
     { schema: { params: { type: 'object', properties: { ingest_id: { type: 'string' } }, required: ['ingest_id'] }, response: { 200: Receipt } } },
     async (request) => {
       const { ingest_id: ingestId } = request.params as { ingest_id: string };
-      const receipt = await findReceipt(deps.db, ingestId);
+      const receipt = await findReceipt(deps.readDb, ingestId);
       if (!receipt) throw new Problem('not-found', `no upload with id ${ingestId}`);
       return receipt;
     },
@@ -113,7 +113,7 @@ export const ingestRoutes: FastifyPluginAsync<IngestDependencies> = async (app, 
     async (request) => {
       const { ingest_id: ingestId } = request.params as { ingest_id: string };
       const { limit, offset } = request.query as { limit: number; offset: number };
-      const page = await findRejectedRows(deps.db, ingestId, { limit, offset });
+      const page = await findRejectedRows(deps.readDb, ingestId, { limit, offset });
       if (!page) throw new Problem('not-found', `no upload with id ${ingestId}`);
       return page;
     },

@@ -1,13 +1,15 @@
 /**
- * One upload from body to receipt: parse as a stream, check each row, write in batches inside
- * one transaction, and record the receipt. Either the whole upload lands (with its rejected
+ * One upload from body to receipt: receive the whole body (`body-spool.ts`), then parse it as a
+ * stream, check each row, write in batches inside one transaction, and record the receipt. Either the whole upload lands (with its rejected
  * rows listed, in skip mode) or nothing of it does.
  */
-import { createHash, randomUUID } from 'node:crypto';
-import { Transform, type Readable, type TransformCallback } from 'node:stream';
+import { randomUUID } from 'node:crypto';
+import type { Readable } from 'node:stream';
 import { setImmediate as nextTurn } from 'node:timers/promises';
 import type { Kysely } from 'kysely';
 import type { Logger } from '../logger.js';
+import { spoolBody, type SpooledBody } from './body-spool.js';
+export { BodyIdleTimeoutError, ClientAbortedError, UploadTooLargeError } from './body-spool.js';
 import { sqliteConnectionOf } from '../db/connect.js';
 import type { Database, IngestKind, IngestsTable, OnError, RejectedRowsTable } from '../db/tables.js';
 import { contactsKind, customersKind, salesKind, type PendingRow, type UploadKind } from './kinds.js';
@@ -17,12 +19,17 @@ import type { RowError } from './row-checks.js';
 
 export interface IngestLimits {
   maxBytes: number;
+  /** Longest pause in the arrival of an upload body before it is given up. */
+  idleTimeoutMs: number;
   maxRows: number;
   progressEveryRows: number;
 }
 
 export interface IngestDependencies {
+  /** the writer: uploads and erasure */
   db: Kysely<Database>;
+  /** reads that must not wait behind an upload's writes (receipts): on SQLite a second connection */
+  readDb: Kysely<Database>;
   logger: Logger;
   limits: IngestLimits;
   now: () => Date;
@@ -72,13 +79,6 @@ export class RowsRejectedError extends Error {
   }
 }
 
-export class UploadTooLargeError extends Error {
-  override name = 'UploadTooLargeError';
-  constructor(readonly limitBytes: number) {
-    super(`the upload is larger than ${limitBytes} bytes`);
-  }
-}
-
 export class TooManyRowsError extends Error {
   override name = 'TooManyRowsError';
   constructor(readonly limitRows: number) {
@@ -115,20 +115,21 @@ const KINDS: Record<IngestKind, UploadKind<unknown>> = {
 
 export async function ingestUpload(deps: IngestDependencies, request: UploadRequest): Promise<{ receipt: Receipt; replayed: boolean }> {
   const started = performance.now();
-  const meter = new BodyMeter(deps.limits.maxBytes);
-  const body = request.body.pipe(meter);
-  request.body.once('error', (error) => body.destroy(error));
-  // The body flows into the meter at once but is read only once the transaction is open. An
-  // 'error' event nobody hears would end the process, so the meter is heard from the start; the
-  // failure stays on the errored meter, and its reader meets it there. (pipeline() would also
-  // destroy the request, and the client would get a reset connection instead of a 413.)
-  body.on('error', () => {});
+  // The whole body arrives before the database is touched, so a slow or stalled client holds
+  // no transaction (on SQLite the single writer) while it sends.
+  const spooled = await spoolBody(request.body, { maxBytes: deps.limits.maxBytes, idleTimeoutMs: deps.limits.idleTimeoutMs });
+  try {
+    return await storeUpload(deps, request, spooled, started);
+  } finally {
+    await spooled.dispose();
+  }
+}
 
+async function storeUpload(deps: IngestDependencies, request: UploadRequest, spooled: SpooledBody, started: number): Promise<{ receipt: Receipt; replayed: boolean }> {
   if (request.idempotencyKey !== null) {
     const earlier = await repository.findIngestByIdempotencyKey(deps.db, request.idempotencyKey);
     if (earlier) {
-      await drain(body);
-      if (earlier.sha256 !== meter.sha256()) {
+      if (earlier.sha256 !== spooled.sha256) {
         throw new IdempotencyConflictError('this Idempotency-Key was used for an upload with a different body');
       }
       // The same bytes sent elsewhere (another kind, campaign, format or on_error) are another
@@ -141,6 +142,7 @@ export async function ingestUpload(deps: IngestDependencies, request: UploadRequ
       return { receipt: toReceipt(earlier), replayed: true };
     }
   }
+  const body = spooled.open();
 
   const kind = KINDS[request.kind];
   const ingestId = randomUUID();
@@ -219,7 +221,7 @@ export async function ingestUpload(deps: IngestDependencies, request: UploadRequ
       if (record.row % YIELD_EVERY_ROWS === 0) await nextTurn();
       if (record.row >= nextProgress) {
         const seconds = (performance.now() - started) / 1000;
-        log.info({ rows: record.row, rowsPerSecond: Math.round(record.row / seconds), megabytes: Math.round(meter.bytes / 1e5) / 10 }, 'upload progress');
+        log.info({ rows: record.row, rowsPerSecond: Math.round(record.row / seconds), megabytes: Math.round(spooled.bytes / 1e5) / 10 }, 'upload progress');
         nextProgress += deps.limits.progressEveryRows;
       }
     }
@@ -241,7 +243,7 @@ export async function ingestUpload(deps: IngestDependencies, request: UploadRequ
       updated: totals.updated,
       unchanged: totals.unchanged,
       rejected: totals.rejected,
-      sha256: meter.sha256(),
+      sha256: spooled.sha256,
       idempotency_key: request.idempotencyKey,
       received_at: receivedAt,
       duration_ms: Math.round(performance.now() - started),
@@ -295,31 +297,4 @@ export function toReceipt(row: IngestsTable): Receipt {
     received_at: row.received_at,
     duration_ms: Number(row.duration_ms),
   };
-}
-
-/** Counts and hashes the body as it streams past, and stops it at the size limit. */
-class BodyMeter extends Transform {
-  bytes = 0;
-  private readonly hash = createHash('sha256');
-  constructor(private readonly limitBytes: number) {
-    super();
-  }
-  override _transform(chunk: Buffer, _encoding: BufferEncoding, callback: TransformCallback): void {
-    this.bytes += chunk.length;
-    if (this.bytes > this.limitBytes) {
-      callback(new UploadTooLargeError(this.limitBytes));
-      return;
-    }
-    this.hash.update(chunk);
-    callback(null, chunk);
-  }
-  sha256(): string {
-    return this.hash.copy().digest('hex');
-  }
-}
-
-async function drain(stream: Readable): Promise<void> {
-  for await (const _chunk of stream) {
-    // reading is the point: the meter hashes what passes
-  }
 }

@@ -100,15 +100,15 @@ export async function createReport(deps: ReportDependencies, body: unknown): Pro
 
 /** Every saved report, oldest first, each with its latest snapshot. */
 export async function listReports(deps: ReportDependencies): Promise<ReportResource[]> {
-  const rows = await repository.listReports(deps.db);
-  return Promise.all(rows.map((row) => toResource(deps.db, row)));
+  const rows = await repository.listReports(deps.readDb);
+  return Promise.all(rows.map((row) => toResource(deps.readDb, row)));
 }
 
 /** @throws ReportNotFoundError */
 export async function getReport(deps: ReportDependencies, reportId: string): Promise<ReportResource> {
-  const row = await repository.findReport(deps.db, reportId);
+  const row = await repository.findReport(deps.readDb, reportId);
   if (!row) throw new ReportNotFoundError(reportId);
-  return toResource(deps.db, row);
+  return toResource(deps.readDb, row);
 }
 
 const DAY_MS = 86_400_000;
@@ -171,7 +171,7 @@ export async function refreshReport(deps: ReportDependencies, reportId: string, 
 
 async function computeAndStore(deps: ReportDependencies, reportId: string, trigger: SnapshotTrigger): Promise<Snapshot> {
   const started = performance.now();
-  const row = await repository.findReport(deps.db, reportId);
+  const row = await repository.findReport(deps.readDb, reportId);
   if (!row) throw new ReportNotFoundError(reportId);
   const definition = parseDefinition(row);
   deps.logger.info({ reportId, trigger }, 'refresh started');
@@ -200,7 +200,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   });
   const queriesDone = performance.now();
 
-  const previousBody = await repository.findSnapshotBody(deps.db, reportId, 'latest');
+  const previousBody = await repository.findSnapshotBody(deps.readDb, reportId, 'latest');
   const previousSnapshot = previousBody === undefined ? null : (JSON.parse(previousBody) as Snapshot);
   const snapshotId = randomUUID();
   let sequence = await repository.nextSnapshotSequence(deps.db, reportId);
@@ -258,9 +258,9 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
 
 /** @throws ReportNotFoundError */
 export async function listSnapshots(deps: ReportDependencies, reportId: string, page: { limit: number; offset: number }) {
-  const row = await repository.findReport(deps.db, reportId);
+  const row = await repository.findReport(deps.readDb, reportId);
   if (!row) throw new ReportNotFoundError(reportId);
-  const [snapshots, total] = await Promise.all([repository.listSnapshots(deps.db, reportId, page), repository.countSnapshots(deps.db, reportId)]);
+  const [snapshots, total] = await Promise.all([repository.listSnapshots(deps.readDb, reportId, page), repository.countSnapshots(deps.readDb, reportId)]);
   return { report_id: reportId, total, limit: page.limit, offset: page.offset, snapshots };
 }
 
@@ -269,9 +269,9 @@ export async function listSnapshots(deps: ReportDependencies, reportId: string, 
  * @throws ReportNotFoundError
  */
 export async function getSnapshotBody(deps: ReportDependencies, reportId: string, snapshotId: string): Promise<string | undefined> {
-  const row = await repository.findReport(deps.db, reportId);
+  const row = await repository.findReport(deps.readDb, reportId);
   if (!row) throw new ReportNotFoundError(reportId);
-  return repository.findSnapshotBody(deps.db, reportId, snapshotId);
+  return repository.findSnapshotBody(deps.readDb, reportId, snapshotId);
 }
 
 /**
