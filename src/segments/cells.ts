@@ -7,17 +7,8 @@
 import { sql, type RawBuilder } from 'kysely';
 import type { Executor } from '../db/executor.js';
 import { ageBandOf, isBuiltInDimension } from './dimensions.js';
-import { CONTACT_CELL_COLUMNS, VALUE, attributeColumn, basePopulation, plausibleAgeOf, populationTotals, toNumber, type AggregationRequest } from './population.js';
-import {
-  NO_SHIFTS,
-  exactTotals,
-  recentre,
-  shiftsFromTotals,
-  type Arithmetic,
-  type PairedShiftedSums,
-  type ShiftedSums,
-  type Shifts,
-} from './shifted-sums.js';
+import { CONTACT_CELL_COLUMNS, VALUE, attributeColumn, basePopulation, plausibleAgeOf, toNumber, type AggregationRequest } from './population.js';
+import { exactTotals, shiftsFromTotals, type Arithmetic, type MoneySums, type PairedShiftedSums, type ShiftedSums, type Shifts } from './shifted-sums.js';
 import { compareLabelLists } from './text-order.js';
 
 /** One finest cell: a combination of one value per dimension. */
@@ -26,18 +17,14 @@ export interface CellAggregate {
   labels: string[];
   n: number;
   conversions: number;
-  /** Value (cents) of every unit, shifted by `shifts.unitValue`. */
-  unitValue: ShiftedSums;
-  /** Value (cents) of the converted units, shifted by `shifts.convertedValue`. */
-  convertedValue: ShiftedSums;
+  /** Value (cents) of every unit, exact sums. */
+  unitValue: MoneySums;
+  /** Value (cents) of the converted units, exact sums. */
+  convertedValue: MoneySums;
   /** Ages of the units with a plausible age, shifted by `shifts.age`. */
   age: ShiftedSums;
-  /** Age and value (of the report's value basis) of the units with a plausible age. */
+  /** Age and value (of the report's value basis) of the units with a plausible age, about the report's shifts. */
   ageValue: PairedShiftedSums;
-}
-
-function term(expression: RawBuilder<unknown>, arithmetic: Arithmetic): RawBuilder<unknown> {
-  return arithmetic === 'exact' ? sql`(${expression})` : sql`cast(${expression} as double precision)`;
 }
 
 /**
@@ -54,17 +41,66 @@ function cellGroupColumns(request: AggregationRequest): string[] {
 }
 
 /**
- * Per group (converted is part of the key): n, Σ(v − c) and Σ(v − c)² with c the unit-value
- * shift. The converted units' sums about their own shift follow exactly in code
- * (`recentre`), so the query needs no CASE per row.
+ * Per group (converted is part of the key): n, Σv and Σv² in 64-bit integers, the fast and
+ * usual way. A sum beyond 2^63 makes the database raise an overflow (SQLite "integer overflow",
+ * PostgreSQL "bigint out of range"), or SQLite turns an overflowing product into a float; a sum
+ * beyond 2^53 is not exact as a JavaScript number. Either way `exactCellQuery` runs instead.
  */
-function cellQuery(request: AggregationRequest, shifts: Shifts, arithmetic: Arithmetic): RawBuilder<Record<string, unknown>> {
+function cellQuery(request: AggregationRequest): RawBuilder<Record<string, unknown>> {
   const groupColumns = cellGroupColumns(request).map((column) => sql.ref(`population.${column}`));
-  const deviation = term(sql`${VALUE} - ${sql.lit(shifts.unitValue)}`, arithmetic);
   return sql<Record<string, unknown>>`
-    select ${sql.join([...groupColumns, sql`count(*) as n`, sql`sum(${deviation}) as value_sum`, sql`sum(${deviation} * ${deviation}) as value_squares`])}
+    select ${sql.join([...groupColumns, sql`count(*) as n`, sql`sum(${VALUE}) as value_sum`, sql`sum(${VALUE} * ${VALUE}) as value_squares`])}
     from (${basePopulation(request.source, request.dimensions)}) population
     group by ${sql.join(groupColumns)}`;
+}
+
+/**
+ * Money in cents is split into four 16-bit parts v = Σ pᵢ·2^(16i) (cents are never negative, and
+ * below 2^63), so that every product pᵢ·pⱼ is below 2^32 and its sum over up to 2^31 units of one
+ * group stays inside a 64-bit integer on both engines; the sums come back as text and are put
+ * together exactly in BigInt (`moneySumsOfExactRow`). The same SQL runs on SQLite and PostgreSQL.
+ */
+const PART_BITS = 16;
+const PARTS = 4;
+const PART_PAIRS: Array<[number, number]> = [];
+for (let first = 0; first < PARTS; first++) for (let second = first; second < PARTS; second++) PART_PAIRS.push([first, second]);
+
+function valuePart(index: number): RawBuilder<unknown> {
+  return sql`((cast(${VALUE} as bigint) >> ${sql.lit(index * PART_BITS)}) & ${sql.lit(2 ** PART_BITS - 1)})`;
+}
+
+function exactCellQuery(request: AggregationRequest): RawBuilder<Record<string, unknown>> {
+  const groupColumns = cellGroupColumns(request).map((column) => sql.ref(`population.${column}`));
+  const partSums = Array.from({ length: PARTS }, (_unused, index) => sql`cast(sum(${valuePart(index)}) as text) as ${sql.ref(`p${index}`)}`);
+  const productSums = PART_PAIRS.map(([first, second]) => sql`cast(sum(${valuePart(first)} * ${valuePart(second)}) as text) as ${sql.ref(`q${first}${second}`)}`);
+  return sql<Record<string, unknown>>`
+    select ${sql.join([...groupColumns, sql`count(*) as n`, ...partSums, ...productSums])}
+    from (${basePopulation(request.source, request.dimensions)}) population
+    group by ${sql.join(groupColumns)}`;
+}
+
+function bigIntOf(value: unknown): bigint {
+  if (value === null || value === undefined) return 0n;
+  if (typeof value === 'bigint') return value;
+  const text = String(value).trim();
+  if (!/^-?\d+$/.test(text)) throw new Error(`the database returned a sum that is not a whole number: ${text}`);
+  return BigInt(text);
+}
+
+/** Σv and Σv² of one row of the exact cell query: Σv = Σ 2^(16i)·Σpᵢ, Σv² = Σ 2^(16(i+j))·(i = j ? 1 : 2)·Σpᵢpⱼ. */
+function moneySumsOfExactRow(row: Record<string, unknown>): { sum: bigint; squares: bigint } {
+  let sum = 0n;
+  for (let index = 0; index < PARTS; index++) sum += bigIntOf(row[`p${index}`]) << BigInt(index * PART_BITS);
+  let squares = 0n;
+  for (const [first, second] of PART_PAIRS) {
+    const weight = first === second ? 1n : 2n;
+    squares += (weight * bigIntOf(row[`q${first}${second}`])) << BigInt((first + second) * PART_BITS);
+  }
+  return { sum, squares };
+}
+
+function moneySumsOfRow(row: Record<string, unknown>): { sum: bigint; squares: bigint } {
+  return { sum: bigIntOf(toNumber(row['value_sum'])), squares: bigIntOf(toNumber(row['value_squares'])) };
 }
 
 /** The requested dimension values of one row of the cell query. */
@@ -94,46 +130,11 @@ function emptyCell(values: string[]): CellAggregate {
     labels: values,
     n: 0,
     conversions: 0,
-    unitValue: { n: 0, sumOfShifted: 0, sumOfSquaredShifted: 0 },
-    convertedValue: { n: 0, sumOfShifted: 0, sumOfSquaredShifted: 0 },
+    unitValue: { n: 0, sum: 0n, squares: 0n },
+    convertedValue: { n: 0, sum: 0n, squares: 0n },
     age: { n: 0, sumOfShifted: 0, sumOfSquaredShifted: 0 },
     ageValue: { n: 0, ageSum: 0, ageSquaredSum: 0, valueSum: 0, valueSquaredSum: 0, crossSum: 0 },
   };
-}
-
-function isExact(cell: CellAggregate): boolean {
-  return (
-    [cell.unitValue, cell.convertedValue, cell.age].every((sums) => Number.isSafeInteger(sums.sumOfShifted) && Number.isSafeInteger(sums.sumOfSquaredShifted)) &&
-    Object.values(cell.ageValue).every((value) => Number.isSafeInteger(value))
-  );
-}
-
-/**
- * The finest cells of the population with their sufficient statistics, and the count of units
- * per cell and age, from ONE GROUP BY over the cells, age and converted (`cellGroupColumns`),
- * with the value sums shifted by `shifts`. Age is part of the grouping key because it costs the
- * database nothing (a campaign's index is in that order; otherwise the rows are sorted once
- * either way) and makes every age statistic exact in code: within a group the age is one
- * number a, so its sums are n·(a − c), n·(a − c)² and, with the value, (a − c)·Σ(v − c′).
- * Runs in exact integer arithmetic, and again in floating point only if a sum overflows.
- * @throws whatever the database throws, other than an overflow
- */
-export async function cellAggregates(db: Executor, request: AggregationRequest, shifts: Shifts): Promise<CellAggregates> {
-  let arithmetic: Arithmetic = 'exact';
-  let rows: Array<Record<string, unknown>>;
-  try {
-    rows = (await cellQuery(request, shifts, 'exact').execute(db)).rows;
-  } catch (error) {
-    if (!isOverflow(error)) throw error;
-    arithmetic = 'floating';
-    rows = (await cellQuery(request, shifts, 'floating').execute(db)).rows;
-  }
-  return foldCellRows(
-    rows.map((row) => groupSums(row, shifts.unitValue, shifts, arithmetic)),
-    request,
-    shifts,
-    arithmetic,
-  );
 }
 
 export interface CellAggregates {
@@ -141,89 +142,93 @@ export interface CellAggregates {
   ageCounts: AgeCount[];
   /** Units that did not convert, per age (null: unknown), over the whole population. */
   unconvertedByAge: Map<number | null, number>;
+  /** Always `exact`: the money sums are exact integers whatever their size. */
   arithmetic: Arithmetic;
 }
 
-/** One row of the cell query with its sums about the report's shifts. */
+/** One row of the cell query with its exact money sums. */
 interface GroupSums {
   row: Record<string, unknown>;
   age: number | null;
   n: number;
-  conversions: number;
-  unitSum: number;
-  unitSquares: number;
-  convertedSum: number;
-  convertedSquares: number;
+  converted: boolean;
+  valueSum: bigint;
+  valueSquares: bigint;
 }
 
 function plausibleAgeOfRow(row: Record<string, unknown>): number | null {
   return plausibleAgeOf(row['raw_age'] === null || row['raw_age'] === undefined ? null : toNumber(row['raw_age']));
 }
 
-/** A row of the cell query, its sums shifted by `rowShift`, as sums about the report's shifts. */
-function groupSums(row: Record<string, unknown>, rowShift: number, shifts: Shifts, arithmetic: Arithmetic): GroupSums {
-  const n = toNumber(row['n']);
-  const converted = toNumber(row['converted']) === 1;
-  const unit = recentre(n, toNumber(row['value_sum']), toNumber(row['value_squares']), rowShift, shifts.unitValue, arithmetic);
-  const convertedSums = converted ? recentre(n, toNumber(row['value_sum']), toNumber(row['value_squares']), rowShift, shifts.convertedValue, arithmetic) : { sum: 0, squares: 0 };
-  return {
-    row,
-    age: plausibleAgeOfRow(row),
-    n,
-    conversions: converted ? n : 0,
-    unitSum: unit.sum,
-    unitSquares: unit.squares,
-    convertedSum: convertedSums.sum,
-    convertedSquares: convertedSums.squares,
-  };
-}
-
 /**
- * The shifts and the finest cells of the population, in one pass of the database when that
- * pass can be exact: the cell query runs unshifted, the population totals (and so the shifts,
- * `shiftsFromTotals`) are summed from its rows, and each row's sums are re-centred exactly
- * (`recentre`). The result is the one `populationTotals` followed by `cellAggregates` gives,
- * which is the fallback when an unshifted sum overflows in the database or is beyond 2^53 (not
- * exact as a number here).
+ * The groups of the cell query (cells, age and converted) with exact money sums: the 64-bit
+ * query when every sum it returns is exact, else the split query (`exactCellQuery`).
  * @throws whatever the database throws, other than an overflow
  */
-export async function shiftsAndCellAggregates(db: Executor, request: AggregationRequest): Promise<CellAggregates & { shifts: Shifts }> {
+async function cellGroups(db: Executor, request: AggregationRequest): Promise<GroupSums[]> {
   let rows: Array<Record<string, unknown>> | null;
   try {
-    rows = (await cellQuery(request, NO_SHIFTS, 'exact').execute(db)).rows;
+    rows = (await cellQuery(request).execute(db)).rows;
   } catch (error) {
     if (!isOverflow(error)) throw error;
     rows = null;
   }
   const exact = (row: Record<string, unknown>) => ['n', 'value_sum', 'value_squares'].every((column) => Number.isSafeInteger(toNumber(row[column])));
-  if (rows === null || !rows.every(exact)) {
-    const shifts = shiftsFromTotals(await populationTotals(db, request.source));
-    return { shifts, ...(await cellAggregates(db, request, shifts)) };
-  }
-  const shifts = shiftsFromTotals(
-    exactTotals(rows.map((row) => ({ n: toNumber(row['n']), converted: toNumber(row['converted']) === 1, valueSum: toNumber(row['value_sum']), age: plausibleAgeOfRow(row) }))),
-  );
-  return { shifts, ...foldCellRows(rows.map((row) => groupSums(row, 0, shifts, 'exact')), request, shifts, 'exact') };
+  const sumsOf = rows !== null && rows.every(exact) ? moneySumsOfRow : moneySumsOfExactRow;
+  if (rows === null || sumsOf === moneySumsOfExactRow) rows = (await exactCellQuery(request).execute(db)).rows;
+  return rows.map((row) => {
+    const { sum, squares } = sumsOf(row);
+    return { row, age: plausibleAgeOfRow(row), n: toNumber(row['n']), converted: toNumber(row['converted']) === 1, valueSum: sum, valueSquares: squares };
+  });
+}
+
+/**
+ * The finest cells of the population with their sufficient statistics, and the count of units
+ * per cell and age, from ONE GROUP BY over the cells, age and converted (`cellGroupColumns`).
+ * Age is part of the grouping key because it costs the database nothing (a campaign's index is
+ * in that order; otherwise the rows are sorted once either way) and makes every age statistic
+ * exact in code: within a group the age is one number a, so its sums are n·(a − c), n·(a − c)²
+ * and, with the value, (a − c)·Σ(v − c′). Money sums are exact at any size.
+ * @throws whatever the database throws, other than an overflow
+ */
+export async function cellAggregates(db: Executor, request: AggregationRequest, shifts: Shifts): Promise<CellAggregates> {
+  return foldCellRows(await cellGroups(db, request), request, shifts);
+}
+
+/**
+ * The shifts and the finest cells of the population in one pass of the database: the
+ * population totals (and so the shifts, `shiftsFromTotals`) are summed exactly from the groups
+ * of the cell query. The result is the one `populationTotals` followed by `cellAggregates` gives.
+ * @throws whatever the database throws, other than an overflow
+ */
+export async function shiftsAndCellAggregates(db: Executor, request: AggregationRequest): Promise<CellAggregates & { shifts: Shifts }> {
+  const groups = await cellGroups(db, request);
+  const shifts = shiftsFromTotals(exactTotals(groups.map((group) => ({ n: group.n, converted: group.converted, valueSum: group.valueSum, age: group.age }))));
+  return { shifts, ...foldCellRows(groups, request, shifts) };
+}
+
+/** Σ(v − c) and Σ(v − c)² of a group from its exact Σv and Σv², as numbers (for the age–value correlation). */
+function shiftedMoney(n: number, sum: bigint, squares: bigint, shift: number): { sum: number; squares: number } {
+  const count = BigInt(n);
+  const c = BigInt(shift);
+  return { sum: Number(sum - count * c), squares: Number(squares - 2n * c * sum + count * c * c) };
 }
 
 /** Merges the rows of the cell query into the requested cells and the counts per cell and age. */
-function foldCellRows(groups: readonly GroupSums[], request: AggregationRequest, shifts: Shifts, arithmetic: Arithmetic): CellAggregates {
+function foldCellRows(groups: readonly GroupSums[], request: AggregationRequest, shifts: Shifts): CellAggregates {
   const cells = new Map<string, CellAggregate>();
   const ageCounts = new Map<string, AgeCount>();
   const unconvertedByAge = new Map<number | null, number>();
-  for (const { row, age, n, conversions, unitSum, unitSquares, convertedSum, convertedSquares } of groups) {
+  for (const { row, age, n, converted, valueSum, valueSquares } of groups) {
+    const conversions = converted ? n : 0;
     const values = cellLabelsOf(row, request, age);
     const key = JSON.stringify(values);
     let cell = cells.get(key);
     if (!cell) cells.set(key, (cell = emptyCell(values)));
     cell.n += n;
     cell.conversions += conversions;
-    cell.unitValue = { n: cell.n, sumOfShifted: cell.unitValue.sumOfShifted + unitSum, sumOfSquaredShifted: cell.unitValue.sumOfSquaredShifted + unitSquares };
-    cell.convertedValue = {
-      n: cell.conversions,
-      sumOfShifted: cell.convertedValue.sumOfShifted + convertedSum,
-      sumOfSquaredShifted: cell.convertedValue.sumOfSquaredShifted + convertedSquares,
-    };
+    cell.unitValue = { n: cell.n, sum: cell.unitValue.sum + valueSum, squares: cell.unitValue.squares + valueSquares };
+    if (converted) cell.convertedValue = { n: cell.conversions, sum: cell.convertedValue.sum + valueSum, squares: cell.convertedValue.squares + valueSquares };
     const ageKey = `${key}|${age ?? ''}`;
     const ageCount = ageCounts.get(ageKey);
     if (ageCount) ageCount.count += n;
@@ -232,18 +237,18 @@ function foldCellRows(groups: readonly GroupSums[], request: AggregationRequest,
     if (age === null) continue;
     const shiftedAge = age - shifts.age;
     cell.age = { n: cell.age.n + n, sumOfShifted: cell.age.sumOfShifted + n * shiftedAge, sumOfSquaredShifted: cell.age.sumOfSquaredShifted + n * shiftedAge * shiftedAge };
-    const [pairs, valueSum, valueSquares] = request.valueBasis === 'per_unit' ? [n, unitSum, unitSquares] : [conversions, convertedSum, convertedSquares];
+    const pairs = request.valueBasis === 'per_unit' ? n : conversions;
+    if (pairs === 0) continue;
+    const money = shiftedMoney(n, valueSum, valueSquares, request.valueBasis === 'per_unit' ? shifts.unitValue : shifts.convertedValue);
     cell.ageValue = {
       n: cell.ageValue.n + pairs,
       ageSum: cell.ageValue.ageSum + pairs * shiftedAge,
       ageSquaredSum: cell.ageValue.ageSquaredSum + pairs * shiftedAge * shiftedAge,
-      valueSum: cell.ageValue.valueSum + valueSum,
-      valueSquaredSum: cell.ageValue.valueSquaredSum + valueSquares,
-      crossSum: cell.ageValue.crossSum + shiftedAge * valueSum,
+      valueSum: cell.ageValue.valueSum + money.sum,
+      valueSquaredSum: cell.ageValue.valueSquaredSum + money.squares,
+      crossSum: cell.ageValue.crossSum + shiftedAge * money.sum,
     };
   }
   const sorted = [...cells.values()].sort((left, right) => compareLabelLists(left.labels, right.labels));
-  // SQLite turns an overflowing integer product into a float without an error; a sum beyond
-  // 2^53 cannot be exact in JavaScript either. Either way the result is floating point.
-  return { cells: sorted, ageCounts: [...ageCounts.values()], unconvertedByAge, arithmetic: sorted.every(isExact) ? arithmetic : 'floating' };
+  return { cells: sorted, ageCounts: [...ageCounts.values()], unconvertedByAge, arithmetic: 'exact' };
 }

@@ -6,10 +6,15 @@
  */
 import { emptySummary, mergeSummaries, subtractSummary, summaryFromShiftedSums, type Summary } from '../stats/index.js';
 import type { CellAggregate } from './cells.js';
-import type { PairedShiftedSums, Shifts } from './shifted-sums.js';
+import { NO_MONEY, type MoneySums, type PairedShiftedSums, type Shifts } from './shifted-sums.js';
 import { compareLabelLists } from './text-order.js';
 
-/** The sufficient statistics of any group of units. Money is in major units (cents / 100). */
+/**
+ * The sufficient statistics of any group of units. Money is summed exactly in cents
+ * (`unitValueCents`, `convertedValueCents`: merging and subtracting groups is exact integer
+ * arithmetic, so the rest of a segment loses nothing to cancellation) and summarised in major
+ * units (cents / 100) with one rounding at the end.
+ */
 export interface GroupStats {
   n: number;
   conversions: number;
@@ -17,6 +22,8 @@ export interface GroupStats {
   unitValue: Summary;
   /** value of the converted units only */
   convertedValue: Summary;
+  unitValueCents: MoneySums;
+  convertedValueCents: MoneySums;
   /** ages of the units with a plausible age */
   age: Summary;
   /** age (years) and value (cents) sums of the value metric's units with a plausible age, about the report's shifts */
@@ -25,15 +32,39 @@ export interface GroupStats {
 
 const CENTS_PER_UNIT = 100;
 
+/**
+ * The summary (major units) of exact sums of cents: mean Σv / n and sum of squared deviations
+ * (n·Σv² − (Σv)²) / n, each numerator exact, so only the final division rounds: values that
+ * are all zero give a mean and spread of exactly 0, and any constant gives a spread of 0.
+ */
+export function summaryOfCents(money: MoneySums): Summary {
+  if (money.n === 0) return emptySummary();
+  const n = BigInt(money.n);
+  const deviations = n * money.squares - money.sum * money.sum;
+  return {
+    n: money.n,
+    mean: Number(money.sum) / (money.n * CENTS_PER_UNIT),
+    sumSquaredDeviations: deviations <= 0n ? 0 : Number(deviations) / (money.n * CENTS_PER_UNIT * CENTS_PER_UNIT),
+  };
+}
+
+function addMoney(a: MoneySums, b: MoneySums): MoneySums {
+  return { n: a.n + b.n, sum: a.sum + b.sum, squares: a.squares + b.squares };
+}
+
+function subtractMoney(total: MoneySums, part: MoneySums): MoneySums {
+  return { n: total.n - part.n, sum: total.sum - part.sum, squares: total.squares - part.squares };
+}
+
 /** Statistics of one cell, with value summaries converted from cents to major units. */
 export function cellStats(cell: CellAggregate, shifts: Shifts): GroupStats {
-  const money = (sums: CellAggregate['unitValue'], shift: number): Summary =>
-    summaryFromShiftedSums(sums.n, shift / CENTS_PER_UNIT, sums.sumOfShifted / CENTS_PER_UNIT, sums.sumOfSquaredShifted / (CENTS_PER_UNIT * CENTS_PER_UNIT));
   return {
     n: cell.n,
     conversions: cell.conversions,
-    unitValue: money(cell.unitValue, shifts.unitValue),
-    convertedValue: money(cell.convertedValue, shifts.convertedValue),
+    unitValue: summaryOfCents(cell.unitValue),
+    convertedValue: summaryOfCents(cell.convertedValue),
+    unitValueCents: cell.unitValue,
+    convertedValueCents: cell.convertedValue,
     age: summaryFromShiftedSums(cell.age.n, shifts.age, cell.age.sumOfShifted, cell.age.sumOfSquaredShifted),
     ageValue: { ...cell.ageValue },
   };
@@ -46,6 +77,8 @@ function emptyGroup(): GroupStats {
     conversions: 0,
     unitValue: emptySummary(),
     convertedValue: emptySummary(),
+    unitValueCents: NO_MONEY,
+    convertedValueCents: NO_MONEY,
     age: emptySummary(),
     ageValue: { n: 0, ageSum: 0, ageSquaredSum: 0, valueSum: 0, valueSquaredSum: 0, crossSum: 0 },
   };
@@ -57,11 +90,15 @@ function emptyGroup(): GroupStats {
  * @throws StatsInputError when a summary is invalid (from the statistics core)
  */
 function mergeGroups(a: GroupStats, b: GroupStats): GroupStats {
+  const unitValueCents = addMoney(a.unitValueCents, b.unitValueCents);
+  const convertedValueCents = addMoney(a.convertedValueCents, b.convertedValueCents);
   return {
     n: a.n + b.n,
     conversions: a.conversions + b.conversions,
-    unitValue: mergeSummaries(a.unitValue, b.unitValue),
-    convertedValue: mergeSummaries(a.convertedValue, b.convertedValue),
+    unitValue: summaryOfCents(unitValueCents),
+    convertedValue: summaryOfCents(convertedValueCents),
+    unitValueCents,
+    convertedValueCents,
     age: mergeSummaries(a.age, b.age),
     ageValue: {
       n: a.ageValue.n + b.ageValue.n,
@@ -76,11 +113,15 @@ function mergeGroups(a: GroupStats, b: GroupStats): GroupStats {
 
 /** The units of `total` that are not in `part` (the rest of a segment). */
 export function subtractGroup(total: GroupStats, part: GroupStats): GroupStats {
+  const unitValueCents = subtractMoney(total.unitValueCents, part.unitValueCents);
+  const convertedValueCents = subtractMoney(total.convertedValueCents, part.convertedValueCents);
   return {
     n: total.n - part.n,
     conversions: total.conversions - part.conversions,
-    unitValue: subtractSummary(total.unitValue, part.unitValue),
-    convertedValue: subtractSummary(total.convertedValue, part.convertedValue),
+    unitValue: summaryOfCents(unitValueCents),
+    convertedValue: summaryOfCents(convertedValueCents),
+    unitValueCents,
+    convertedValueCents,
     age: subtractSummary(total.age, part.age),
     ageValue: {
       n: total.ageValue.n - part.ageValue.n,

@@ -1,8 +1,18 @@
 /**
- * The arithmetic of shifted sums, pure: a report's sums are kept as Σ(x − c) and Σ(x − c)²
- * about shifts c, rounded means of the population, so that every term is a small exact
- * integer. Totals are summed in BigInt and re-centring moves sums between shifts exactly.
+ * The arithmetic of a report's sums, pure. Money is kept as exact integer sums of cents
+ * (BigInt: Σv and Σv² of a million amounts at the per-row cap are far beyond 2^63). Ages are
+ * kept as Σ(x − c) and Σ(x − c)² about a shift c, a rounded mean of the population, so that
+ * every term is a small exact integer. Totals are summed in BigInt.
  */
+
+/** Σv and Σv² of n amounts in cents, exactly. */
+export interface MoneySums {
+  n: number;
+  sum: bigint;
+  squares: bigint;
+}
+
+export const NO_MONEY: MoneySums = { n: 0, sum: 0n, squares: 0n };
 
 /** Σ(x − shift) and Σ(x − shift)² over n values; the shift is recorded beside them. */
 export interface ShiftedSums {
@@ -38,9 +48,9 @@ export interface PopulationTotals {
 }
 
 /**
- * `exact`: integer arithmetic, identical on both engines. `floating`: the fallback when a sum
- * of squares would overflow a 64-bit integer (SQLite raises "integer overflow", PostgreSQL
- * "bigint out of range"); then the last digits may differ between engines.
+ * `exact`: integer arithmetic, identical on both engines; money sums are always exact now.
+ * `floating`: what earlier snapshots say when a sum of squares overflowed a 64-bit integer and
+ * was summed in floating point instead.
  */
 export type Arithmetic = 'exact' | 'floating';
 
@@ -60,7 +70,7 @@ export function shiftsFromTotals(totals: PopulationTotals): Shifts {
 export interface UnshiftedGroup {
   n: number;
   converted: boolean;
-  valueSum: number;
+  valueSum: bigint;
   age: number | null;
 }
 
@@ -74,7 +84,7 @@ export function exactTotals(groups: Iterable<UnshiftedGroup>): PopulationTotals 
   let ageTotal = 0n;
   for (const group of groups) {
     const count = BigInt(group.n);
-    const sum = BigInt(group.valueSum);
+    const sum = group.valueSum;
     n += count;
     valueCents += sum;
     if (group.converted) {
@@ -94,21 +104,4 @@ export function exactTotals(groups: Iterable<UnshiftedGroup>): PopulationTotals 
     agedUnits: Number(agedUnits),
     ageTotal: Number(ageTotal),
   };
-}
-
-/**
- * Moves Σ(v − from) and Σ(v − from)² over n values to the shift `to`:
- * Σ(v − to) = Σ(v − from) − n·d and Σ(v − to)² = Σ(v − from)² − 2d·Σ(v − from) + n·d², d = to − from.
- * Exact in integer arithmetic (BigInt) when the inputs are exact integers, else in floating point.
- */
-export function recentre(n: number, sum: number, squares: number, from: number, to: number, arithmetic: Arithmetic): { sum: number; squares: number } {
-  if (from === to) return { sum, squares };
-  if (arithmetic === 'exact' && Number.isSafeInteger(sum) && Number.isSafeInteger(squares)) {
-    const d = BigInt(to - from);
-    const count = BigInt(n);
-    const total = BigInt(sum);
-    return { sum: Number(total - count * d), squares: Number(BigInt(squares) - 2n * d * total + count * d * d) };
-  }
-  const d = to - from;
-  return { sum: sum - n * d, squares: squares - 2 * d * sum + n * d * d };
 }

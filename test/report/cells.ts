@@ -25,8 +25,8 @@ export function cellsFromUnits(units: readonly TestUnit[], basis: 'per_unit' | '
       labels: members[0]!.labels,
       n: members.length,
       conversions: converted.length,
-      unitValue: { n: members.length, sumOfShifted: sum(members.map((unit) => unit.cents)), sumOfSquaredShifted: sum(members.map((unit) => unit.cents ** 2)) },
-      convertedValue: { n: converted.length, sumOfShifted: sum(converted.map((unit) => unit.cents)), sumOfSquaredShifted: sum(converted.map((unit) => unit.cents ** 2)) },
+      unitValue: { n: members.length, sum: BigInt(sum(members.map((unit) => unit.cents))), squares: BigInt(sum(members.map((unit) => unit.cents ** 2))) },
+      convertedValue: { n: converted.length, sum: BigInt(sum(converted.map((unit) => unit.cents))), squares: BigInt(sum(converted.map((unit) => unit.cents ** 2))) },
       age: { n: aged.length, sumOfShifted: sum(aged.map((unit) => unit.age as number)), sumOfSquaredShifted: sum(aged.map((unit) => (unit.age as number) ** 2)) },
       ageValue: {
         n: paired.length,

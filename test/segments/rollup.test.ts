@@ -33,8 +33,8 @@ function cellsOf(units: Unit[]): Array<{ labels: string[]; stats: ReturnType<typ
       labels: key.split('|'),
       n: members.length,
       conversions: converted.length,
-      unitValue: { n: members.length, sumOfShifted: sum(members.map((unit) => unit.cents - 1000)), sumOfSquaredShifted: sum(members.map((unit) => (unit.cents - 1000) ** 2)) },
-      convertedValue: { n: converted.length, sumOfShifted: sum(converted.map((unit) => unit.cents - 20000)), sumOfSquaredShifted: sum(converted.map((unit) => (unit.cents - 20000) ** 2)) },
+      unitValue: { n: members.length, sum: BigInt(sum(members.map((unit) => unit.cents))), squares: BigInt(sum(members.map((unit) => unit.cents ** 2))) },
+      convertedValue: { n: converted.length, sum: BigInt(sum(converted.map((unit) => unit.cents))), squares: BigInt(sum(converted.map((unit) => unit.cents ** 2))) },
       age: { n: members.length, sumOfShifted: sum(members.map((unit) => unit.age - 40)), sumOfSquaredShifted: sum(members.map((unit) => (unit.age - 40) ** 2)) },
       ageValue: { n: 0, ageSum: 0, ageSquaredSum: 0, valueSum: 0, valueSquaredSum: 0, crossSum: 0 },
     };

@@ -7,6 +7,11 @@ function sortedCounts<T extends { labels: string[] }>(rows: readonly T[], tail: 
   return [...rows].sort((left, right) => compareLabelLists(left.labels, right.labels) || (tail(left) ?? -1) - (tail(right) ?? -1));
 }
 
+/** JSON text of a cell, its exact money sums (BigInt) written as decimal digits. */
+function cellText(cell: unknown): string {
+  return JSON.stringify(cell, (_key, value: unknown) => (typeof value === 'bigint' ? value.toString() : value));
+}
+
 /**
  * A SHA-256 over everything the snapshot was computed from: the definition, the shifts and
  * every cell aggregate and grouped count (sorted), and the previous window's cells. Equal data
@@ -15,7 +20,7 @@ function sortedCounts<T extends { labels: string[] }>(rows: readonly T[], tail: 
 export function fingerprintOf(input: SnapshotInput): string {
   const hash = createHash('sha256');
   hash.update(JSON.stringify({ definition: input.definition, shifts: input.shifts, arithmetic: input.arithmetic }));
-  for (const cell of input.cells) hash.update(JSON.stringify(cell));
+  for (const cell of input.cells) hash.update(cellText(cell));
   for (const entry of sortedCounts(input.ageCounts, (row) => row.age)) hash.update(JSON.stringify(entry));
   for (const entry of sortedCounts(input.valueCounts, (row) => row.valueCents)) hash.update(JSON.stringify(entry));
   if (input.populationValueCounts) {
@@ -27,7 +32,7 @@ export function fingerprintOf(input: SnapshotInput): string {
   }
   if (input.previousWindow) {
     hash.update(JSON.stringify({ from: input.previousWindow.from, to: input.previousWindow.to, shifts: input.previousWindow.shifts }));
-    for (const cell of input.previousWindow.cells) hash.update(JSON.stringify(cell));
+    for (const cell of input.previousWindow.cells) hash.update(cellText(cell));
   }
   return hash.digest('hex');
 }

@@ -233,6 +233,9 @@ export function ageValueGridAxes(ageCounts: ProfileInput['ageCounts'], valueCoun
     valueCounts.map((entry) => ({ value: entry.valueCents, count: entry.count })),
     histograms.value.bins.length,
   );
+  // Values are binned by exact integer arithmetic; a spend beyond 2^53 cents (about 90 trillion
+  // in major units) is not an exact number here, so such a population has no grid.
+  if (valueCents !== null && !(Number.isSafeInteger(valueCents.low) && Number.isSafeInteger(valueCents.high))) return null;
   return age === null || valueCents === null ? null : { age, valueCents };
 }
 
