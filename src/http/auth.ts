@@ -3,7 +3,7 @@
  * missing from the table needs an admin key (fail closed), and a test checks that every
  * registered route is listed. Admin keys are accepted everywhere.
  */
-import type { FastifyInstance } from 'fastify';
+import type { FastifyInstance, FastifyRequest } from 'fastify';
 import type { Kysely } from 'kysely';
 import { verifyKey, type Role } from '../auth/keys.js';
 import type { Database } from '../db/tables.js';
@@ -35,6 +35,11 @@ function accessFor(method: string, url: string): Access {
   return ROUTE_ACCESS[`${method} ${url}`] ?? ['admin'];
 }
 
+/** Whether a route (by its URL pattern) is open to anyone; every public route is a GET. */
+export function isPublicRoute(url: string): boolean {
+  return accessFor('GET', url) === 'public';
+}
+
 declare module 'fastify' {
   interface FastifyRequest {
     /** The verified key of this request; null on public routes and in open mode. */
@@ -56,7 +61,14 @@ export function presentedKey(header: string | undefined): string | null {
   return null;
 }
 
-export function registerAuth(app: FastifyInstance, options: { db: Kysely<Database>; mode: 'keys' | 'open' }): void {
+export interface AuthOptions {
+  db: Kysely<Database>;
+  mode: 'keys' | 'open';
+  /** Told of every refused key; a problem it returns (429) is answered instead of 401. */
+  onKeyRefused?: (request: FastifyRequest) => Promise<Problem | null>;
+}
+
+export function registerAuth(app: FastifyInstance, options: AuthOptions): void {
   app.decorateRequest('apiKey', null);
   if (options.mode === 'open') return;
   app.addHook('onRequest', async (request, reply) => {
@@ -74,6 +86,8 @@ export function registerAuth(app: FastifyInstance, options: { db: Kysely<Databas
     }
     const verified = await verifyKey(options.db, presented);
     if (!verified) {
+      const limited = await options.onKeyRefused?.(request);
+      if (limited) return sendProblem(reply, request, limited);
       return sendProblem(
         reply.header('www-authenticate', challenge === 'Bearer' ? 'Bearer error="invalid_token"' : challenge),
         request,
