@@ -147,4 +147,23 @@ describe.each(TEST_DIALECTS)('report definitions and snapshots over HTTP (%s)', 
     expect(again.statusCode).toBe(304);
     expect(again.body).toBe('');
   });
+
+  // These three were once accepted, and every refresh of such a report then failed with 500.
+  test.each([0.9999999999999999, 1e-300, 5e-324])('a confidence of %j is refused when the report is defined', async (confidence) => {
+    const response = await context.app.inject({ method: 'POST', url: '/v1/reports', payload: { name: 'Too sure', source: { campaign_ids: ['autumn'] }, confidence } });
+    expect(response.statusCode).toBe(400);
+    expect(response.json()).toMatchObject({ type: '/problems/invalid-request', errors: [{ field: 'body/confidence', reason: expect.stringContaining('from 0.5 to 0.9999') }] });
+  });
+
+  test.each([0.5, 0.9999])('a report at the confidence edge %j refreshes', async (confidence) => {
+    const report = await createReport(context.app, { name: `Edge ${confidence}`, source: { campaign_ids: ['autumn'] }, confidence, min_n: 2 });
+    const snapshot = await refresh(context.app, report.report_id);
+    expect(snapshot.definition.confidence).toBe(confidence);
+    expect(snapshot.segments.length).toBeGreaterThan(0);
+    const tested = snapshot.segments.filter((row) => row.tested);
+    expect(tested.length).toBeGreaterThan(0);
+    for (const segment of tested) {
+      expect([segment.rate_diff_ci_low, segment.rate_diff_ci_high].every(Number.isFinite), segment.segment).toBe(true);
+    }
+  });
 });
