@@ -5,6 +5,7 @@
  * without internals in the body.
  */
 import type { FastifyError, FastifyInstance, FastifyReply, FastifyRequest } from 'fastify';
+import { redactKeys } from '../auth/redact.js';
 import { MalformedBodyError } from '../ingest/parse.js';
 import {
   EmptyUploadError,
@@ -111,7 +112,10 @@ export function sendProblem(reply: FastifyReply, request: FastifyRequest, proble
   // Problem details keep one shape everywhere. A route's response schema for the same status
   // describes its own body (/healthz declares a health body for 503) and would reject a problem
   // there, turning a 503 under load into a 500; plain JSON serialization keeps every field.
-  return reply.code(problem.status).type('application/problem+json').serializer(JSON.stringify).send(problem.toBody(request.url));
+  // A key a client put into the URL (refused, but still part of it) is not echoed back.
+  const body = problem.toBody(redactKeys(request.url));
+  body.detail = redactKeys(body.detail);
+  return reply.code(problem.status).type('application/problem+json').serializer(JSON.stringify).send(body);
 }
 
 /**
