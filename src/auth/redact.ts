@@ -8,7 +8,7 @@
 /** `sgr_` (or `sgr%5F`) and everything after it that a key or its URL encoding can hold. */
 const KEY_TOKEN = /sgr(?:_|%5f)[A-Za-z0-9_%-]*/gi;
 
-export const REDACTED_KEY = 'sgr_[redacted]';
+const REDACTED_KEY = 'sgr_[redacted]';
 
 /** The text with every key-like token replaced by `sgr_[redacted]`. */
 export function redactKeys(text: string): string {
