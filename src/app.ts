@@ -7,6 +7,7 @@ import Fastify, { type FastifyInstance } from 'fastify';
 import type { Config } from './config.js';
 import type { DatabaseHandle } from './db/connect.js';
 import { registerAuth } from './http/auth.js';
+import { registerCrossSiteCheck } from './http/cross-site.js';
 import { answerRouterError, registerErrorHandling } from './http/errors.js';
 import { registerLimits } from './http/limits.js';
 import { registerRateLimits } from './http/rate-limits.js';
@@ -85,6 +86,7 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
 
   // The address limit runs before authentication, so key guessing is limited too.
   const rateLimits = await registerRateLimits(app, deps.config);
+  registerCrossSiteCheck(app, { allowedOrigins: deps.config.corsOrigins });
   registerAuth(app, {
     db: deps.database.readDb,
     mode: deps.config.authMode,

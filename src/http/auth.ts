@@ -31,6 +31,18 @@ export const ROUTE_ACCESS: Record<string, Access> = {
   'GET /reports/:report_id': ['read'],
 };
 
+/**
+ * Where Basic credentials are accepted: what a browser reads (the report page and the data it
+ * links to), by GET or HEAD only. A browser resends Basic credentials it once used on any
+ * request to the service, another site's forms included; a key must arrive as a bearer token,
+ * which no browser attaches on its own, for anything else.
+ */
+const BASIC_ROUTES = new Set(['/reports/:report_id', '/v1/reports/:report_id/segments', '/v1/reports/:report_id/snapshots/:snapshot_id']);
+
+function acceptsBasic(method: string, url: string): boolean {
+  return (method === 'GET' || method === 'HEAD') && BASIC_ROUTES.has(url);
+}
+
 function accessFor(method: string, url: string): Access {
   return ROUTE_ACCESS[`${method} ${url}`] ?? ['admin'];
 }
@@ -74,6 +86,8 @@ export function registerAuth(app: FastifyInstance, options: AuthOptions): void {
   app.addHook('onRequest', async (request, reply) => {
     const routeUrl = request.routeOptions.url;
     if (routeUrl === undefined) return; // no such route: the 404 handler answers
+    // A CORS preflight carries no credentials by design; it only asks what the browser may send.
+    if (request.method === 'OPTIONS') return;
     const access = accessFor(request.method === 'HEAD' ? 'GET' : request.method, routeUrl);
     if (access === 'public') return;
     const presented = presentedKey(request.headers.authorization);
@@ -83,6 +97,15 @@ export function registerAuth(app: FastifyInstance, options: AuthOptions): void {
     const challenge = fromBrowser ? 'Basic realm="segrank", charset="UTF-8"' : 'Bearer';
     if (!presented) {
       return sendProblem(reply.header('www-authenticate', challenge), request, new Problem('unauthorized', 'send an API key as "Authorization: Bearer <key>"'));
+    }
+    if (/^\s*basic\s/i.test(request.headers.authorization ?? '') && !acceptsBasic(request.method, routeUrl)) {
+      const limited = await options.onKeyRefused?.(request);
+      if (limited) return sendProblem(reply, request, limited);
+      return sendProblem(
+        reply.header('www-authenticate', 'Bearer'),
+        request,
+        new Problem('unauthorized', 'Basic credentials are accepted only when reading the report page and the data it links to; send the key as "Authorization: Bearer <key>"'),
+      );
     }
     const verified = await verifyKey(options.db, presented);
     if (!verified) {
