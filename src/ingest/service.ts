@@ -36,6 +36,8 @@ export interface UploadRequest {
   contentType: string;
   onError: OnError;
   idempotencyKey: string | null;
+  /** Whose Idempotency-Keys this upload's is among: the sending API key's id, or "open" without keys. */
+  idempotencyScope: string;
 }
 
 export interface Receipt {
@@ -125,7 +127,7 @@ export async function ingestUpload(deps: IngestDependencies, request: UploadRequ
   body.on('error', () => {});
 
   if (request.idempotencyKey !== null) {
-    const earlier = await repository.findIngestByIdempotencyKey(deps.db, request.idempotencyKey);
+    const earlier = await repository.findIngestByIdempotencyKey(deps.db, request.idempotencyScope, request.idempotencyKey);
     if (earlier) {
       await drain(body);
       if (earlier.sha256 !== meter.sha256()) {
@@ -243,6 +245,7 @@ export async function ingestUpload(deps: IngestDependencies, request: UploadRequ
       rejected: totals.rejected,
       sha256: meter.sha256(),
       idempotency_key: request.idempotencyKey,
+      idempotency_scope: request.idempotencyKey === null ? null : request.idempotencyScope,
       received_at: receivedAt,
       duration_ms: Math.round(performance.now() - started),
     };
