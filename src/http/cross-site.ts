@@ -26,7 +26,7 @@ function hostOf(origin: string): string | null {
 }
 
 /** Why the request is refused as cross-site, or null when it is not. */
-export function crossSiteReason(request: Pick<FastifyRequest, 'method' | 'headers'>, allowedOrigins: readonly string[]): string | null {
+function crossSiteReason(request: Pick<FastifyRequest, 'method' | 'headers'>, allowedOrigins: readonly string[]): string | null {
   if (!STATE_CHANGING.has(request.method)) return null;
   const origin = request.headers.origin;
   if (origin !== undefined && allowedOrigins.includes(origin)) return null;
