@@ -63,12 +63,17 @@ export async function registerRateLimits(app: FastifyInstance, config: Config): 
     perKey > 0 ? app.createRateLimit({ max: perKey, timeWindow, keyGenerator: (request) => `key:${request.apiKey?.keyId ?? 'open'}` }) : null;
   const openMode = config.authMode === 'open';
 
+  /**
+   * Public routes, unknown routes and preflights are never authenticated, so whatever key they
+   * carry they count against the address; elsewhere a presented key is judged (and a refused
+   * one counted) once it has been verified.
+   */
   const countsAgainstAddress = (request: FastifyRequest): boolean => {
     const route = request.routeOptions.url;
     if (route !== undefined && UNLIMITED_ROUTES.has(route)) return false;
-    // A request presenting a key is judged once the key has been verified.
-    if (!openMode && presentedKey(request.headers.authorization) !== null) return false;
-    return !openMode || route === undefined || isPublicRoute(route);
+    if (route === undefined || isPublicRoute(route) || request.method === 'OPTIONS') return true;
+    if (openMode) return false; // counted against the service's one implicit key
+    return presentedKey(request.headers.authorization) === null;
   };
 
   app.addHook('onRequest', async (request) => {
@@ -80,7 +85,7 @@ export async function registerRateLimits(app: FastifyInstance, config: Config): 
   // preParsing runs after every onRequest hook, authentication's included, and before a body is read.
   app.addHook('preParsing', async (request, _reply, payload) => {
     const route = request.routeOptions.url;
-    if (byKey === null || route === undefined || UNLIMITED_ROUTES.has(route)) return payload;
+    if (byKey === null || route === undefined || UNLIMITED_ROUTES.has(route) || request.method === 'OPTIONS') return payload;
     if (request.apiKey === null && !(openMode && !isPublicRoute(route))) return payload;
     const outcome = await byKey(request);
     if (!outcome.isAllowed && outcome.isExceeded) throw limitProblem(perKey, windowSeconds, 'with this API key', outcome.ttlInSeconds);
