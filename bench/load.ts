@@ -17,7 +17,7 @@ const connections = Math.min(200, Math.max(1, Number(process.argv[3] ?? 50)));
 const postgresUrl = /^postgres(ql)?:\/\//.test(process.env['DATABASE_URL'] ?? '') ? (process.env['DATABASE_URL'] as string) : null;
 const directory = fs.mkdtempSync(path.join(os.tmpdir(), 'segrank-load-'));
 const env = postgresUrl ? { DATABASE_URL: postgresUrl, DATABASE_SCHEMA: `load_${process.pid}` } : { DATABASE_URL: path.join(directory, 'load.sqlite') };
-const service = await startServiceProcess({ ...env, RATE_LIMIT_PER_MINUTE: '0' });
+const service = await startServiceProcess({ ...env, RATE_LIMIT_PER_KEY: '0', RATE_LIMIT_PER_ADDRESS: '0' });
 
 async function post(url: string, contentType: string, body: string): Promise<Response> {
   return fetch(`${service.url}${url}`, { method: 'POST', headers: { 'content-type': contentType }, body });

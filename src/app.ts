@@ -7,8 +7,10 @@ import Fastify, { type FastifyInstance } from 'fastify';
 import type { Config } from './config.js';
 import type { DatabaseHandle } from './db/connect.js';
 import { registerAuth } from './http/auth.js';
+import { registerCrossSiteCheck } from './http/cross-site.js';
 import { answerRouterError, registerErrorHandling } from './http/errors.js';
 import { registerLimits } from './http/limits.js';
+import { registerRateLimits } from './http/rate-limits.js';
 import { healthRoutes } from './http/health-routes.js';
 import { ingestRoutes } from './http/ingest-routes.js';
 import { openapiRoutes } from './http/openapi-routes.js';
@@ -84,7 +86,14 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
     charts.clear();
   });
 
-  registerAuth(app, { db: deps.database.readDb, mode: deps.config.authMode });
+  // The address limit runs before authentication, so key guessing is limited too.
+  const rateLimits = await registerRateLimits(app, deps.config);
+  registerCrossSiteCheck(app, { allowedOrigins: deps.config.corsOrigins });
+  registerAuth(app, {
+    db: deps.database.readDb,
+    mode: deps.config.authMode,
+    ...(rateLimits ? { onKeyRefused: (request) => rateLimits.failedAuthentication(request) } : {}),
+  });
   await registerLimits(app, deps.config);
   await app.register(accepts);
   await app.register(healthRoutes, { db: deps.database.readDb });

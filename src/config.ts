@@ -37,8 +37,15 @@ export interface Config {
    * machine only — refused unless the service listens on a loopback address.
    */
   authMode: 'keys' | 'open';
-  /** Requests per minute per API key (or per address without one); 0 turns the limit off. */
-  rateLimitPerMinute: number;
+  /** Requests per window per API key (every non-public route in open mode counts as one key); 0 turns the limit off. */
+  rateLimitPerKey: number;
+  /**
+   * Requests per window per client address that carry no valid key: public routes (but
+   * `/healthz`), requests without a key and failed authentications; 0 turns the limit off.
+   */
+  rateLimitPerAddress: number;
+  /** Length of the rate-limit window, in seconds. */
+  rateLimitWindowSeconds: number;
   /** Longest time one request may take, in milliseconds (an upload of 200 MB included). */
   requestTimeoutMs: number;
   /** Event-loop delay above which new requests get 503 with Retry-After; 0 turns the check off. */
@@ -78,7 +85,9 @@ export function loadConfig(env: Environment = process.env): Config {
     scheduleEnabled: readBoolean(env, 'SCHEDULE_ENABLED', true),
     shutdownGraceMs: readInteger(env, 'SHUTDOWN_GRACE_MS', 10_000, { min: 0, max: 600_000 }),
     authMode: readAuthMode(env, host),
-    rateLimitPerMinute: readInteger(env, 'RATE_LIMIT_PER_MINUTE', 6000, { min: 0, max: 10_000_000 }),
+    rateLimitPerKey: readInteger(env, 'RATE_LIMIT_PER_KEY', 6000, { min: 0, max: 10_000_000 }),
+    rateLimitPerAddress: readInteger(env, 'RATE_LIMIT_PER_ADDRESS', 600, { min: 0, max: 10_000_000 }),
+    rateLimitWindowSeconds: readInteger(env, 'RATE_LIMIT_WINDOW_SECONDS', 60, { min: 1, max: 86_400 }),
     requestTimeoutMs: readInteger(env, 'REQUEST_TIMEOUT_MS', 600_000, { min: 1000, max: 3_600_000 }),
     maxEventLoopDelayMs: readInteger(env, 'MAX_EVENT_LOOP_DELAY_MS', 2000, { min: 0, max: 600_000 }),
     maxHeapUsedMiB: readInteger(env, 'MAX_HEAP_USED_MIB', 0, { min: 0, max: 1_000_000 }),

@@ -8,17 +8,28 @@ import { countActiveKeys, createKey } from './auth/keys.js';
 import type { Config } from './config.js';
 import { openDatabase } from './db/connect.js';
 import { migrateToLatest } from './db/migrate.js';
+import type { Writable } from 'node:stream';
+import type { DestinationStream } from 'pino';
 import { createLogger } from './logger.js';
 
-export async function startService(config: Config) {
-  const logger = createLogger(config.logLevel);
+export interface ServiceOutput {
+  /** Where the JSON log lines go; standard output by default. */
+  log?: DestinationStream;
+  /** Where the first admin key is shown, apart from the logs; standard error by default. */
+  notice?: Writable;
+}
+
+export async function startService(config: Config, output: ServiceOutput = {}) {
+  const logger = createLogger(config.logLevel, output.log === undefined ? {} : { destination: output.log });
   const database = await openDatabase(config.database, logger);
   const applied = await migrateToLatest(database.db, config.database);
   if (applied.length > 0) logger.info({ applied }, 'migrations applied');
   if (config.authMode === 'keys' && (await countActiveKeys(database.db)) === 0) {
     const issued = await createKey(database.db, 'admin', 'first admin key');
-    // Shown once, on the terminal only (not in the JSON log), so the operator can create the others.
-    process.stdout.write(`\nNo API key existed, so one admin key was created. It is shown only now; keep it safe:\n${issued.key}\n\n`);
+    // Shown once, as plain text on standard error: never in the JSON log stream, which is often
+    // shipped to a log store where anyone with read access would find it.
+    (output.notice ?? process.stderr).write(`\nNo API key existed, so one admin key was created. It is shown only now; keep it safe:\n${issued.key}\n\n`);
+    logger.info({ keyId: issued.keyId }, 'first admin key created and shown on standard error');
   }
   const app = await buildApp({ config, database, logger });
   app.addHook('onClose', async () => {

@@ -72,6 +72,8 @@ export interface IngestsTable {
   rejected: number;
   sha256: string;
   idempotency_key: string | null;
+  /** Who may replay the key: the id of the API key that sent it ("open" without keys); null without a key. */
+  idempotency_scope: string | null;
   received_at: string;
   duration_ms: number;
 }

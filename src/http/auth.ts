@@ -3,7 +3,7 @@
  * missing from the table needs an admin key (fail closed), and a test checks that every
  * registered route is listed. Admin keys are accepted everywhere.
  */
-import type { FastifyInstance } from 'fastify';
+import type { FastifyInstance, FastifyRequest } from 'fastify';
 import type { Kysely } from 'kysely';
 import { verifyKey, type Role } from '../auth/keys.js';
 import type { Database } from '../db/tables.js';
@@ -31,8 +31,25 @@ export const ROUTE_ACCESS: Record<string, Access> = {
   'GET /reports/:report_id': ['read'],
 };
 
+/**
+ * Where Basic credentials are accepted: what a browser reads (the report page and the data it
+ * links to), by GET or HEAD only. A browser resends Basic credentials it once used on any
+ * request to the service, another site's forms included; a key must arrive as a bearer token,
+ * which no browser attaches on its own, for anything else.
+ */
+const BASIC_ROUTES = new Set(['/reports/:report_id', '/v1/reports/:report_id/segments', '/v1/reports/:report_id/snapshots/:snapshot_id']);
+
+function acceptsBasic(method: string, url: string): boolean {
+  return (method === 'GET' || method === 'HEAD') && BASIC_ROUTES.has(url);
+}
+
 function accessFor(method: string, url: string): Access {
   return ROUTE_ACCESS[`${method} ${url}`] ?? ['admin'];
+}
+
+/** Whether a route (by its URL pattern) is open to anyone; every public route is a GET. */
+export function isPublicRoute(url: string): boolean {
+  return accessFor('GET', url) === 'public';
 }
 
 declare module 'fastify' {
@@ -56,12 +73,21 @@ export function presentedKey(header: string | undefined): string | null {
   return null;
 }
 
-export function registerAuth(app: FastifyInstance, options: { db: Kysely<Database>; mode: 'keys' | 'open' }): void {
+export interface AuthOptions {
+  db: Kysely<Database>;
+  mode: 'keys' | 'open';
+  /** Told of every refused key; a problem it returns (429) is answered instead of 401. */
+  onKeyRefused?: (request: FastifyRequest) => Promise<Problem | null>;
+}
+
+export function registerAuth(app: FastifyInstance, options: AuthOptions): void {
   app.decorateRequest('apiKey', null);
   if (options.mode === 'open') return;
   app.addHook('onRequest', async (request, reply) => {
     const routeUrl = request.routeOptions.url;
     if (routeUrl === undefined) return; // no such route: the 404 handler answers
+    // A CORS preflight carries no credentials by design; it only asks what the browser may send.
+    if (request.method === 'OPTIONS') return;
     const access = accessFor(request.method === 'HEAD' ? 'GET' : request.method, routeUrl);
     if (access === 'public') return;
     const presented = presentedKey(request.headers.authorization);
@@ -72,8 +98,19 @@ export function registerAuth(app: FastifyInstance, options: { db: Kysely<Databas
     if (!presented) {
       return sendProblem(reply.header('www-authenticate', challenge), request, new Problem('unauthorized', 'send an API key as "Authorization: Bearer <key>"'));
     }
+    if (/^\s*basic\s/i.test(request.headers.authorization ?? '') && !acceptsBasic(request.method, routeUrl)) {
+      const limited = await options.onKeyRefused?.(request);
+      if (limited) return sendProblem(reply, request, limited);
+      return sendProblem(
+        reply.header('www-authenticate', 'Bearer'),
+        request,
+        new Problem('unauthorized', 'Basic credentials are accepted only when reading the report page and the data it links to; send the key as "Authorization: Bearer <key>"'),
+      );
+    }
     const verified = await verifyKey(options.db, presented);
     if (!verified) {
+      const limited = await options.onKeyRefused?.(request);
+      if (limited) return sendProblem(reply, request, limited);
       return sendProblem(
         reply.header('www-authenticate', challenge === 'Bearer' ? 'Bearer error="invalid_token"' : challenge),
         request,

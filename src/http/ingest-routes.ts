@@ -52,7 +52,8 @@ export const ingestRoutes: FastifyPluginAsync<IngestDependencies> = async (app, 
     const { on_error: onError } = request.query as { on_error: OnError };
     return ingestUpload(
       { ...deps, logger: request.log },
-      { kind, campaignId, body, format, contentType: mediaType, onError, idempotencyKey },
+      // Idempotency-Keys are the sending API key's own: another key's same value is another upload.
+      { kind, campaignId, body, format, contentType: mediaType, onError, idempotencyKey, idempotencyScope: request.apiKey?.keyId ?? 'open' },
     );
   };
 

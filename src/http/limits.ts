@@ -1,11 +1,10 @@
 /**
  * Protective limits, each from a well-kept fastify plugin: security headers, CORS (off unless
- * origins are configured), a per-key rate limit, and 503 with Retry-After when the process is
- * under memory or event-loop pressure. Errors leave as problem details like every other.
+ * origins are configured) and 503 with Retry-After when the process is under memory or
+ * event-loop pressure (rate limits are in rate-limits.ts). Errors leave as problem details like every other.
  */
 import cors from '@fastify/cors';
 import helmet from '@fastify/helmet';
-import rateLimit from '@fastify/rate-limit';
 import underPressure from '@fastify/under-pressure';
 import type { FastifyInstance } from 'fastify';
 import v8 from 'node:v8';
@@ -26,17 +25,6 @@ export async function registerLimits(app: FastifyInstance, config: Config): Prom
   });
   if (config.corsOrigins.length > 0) {
     await app.register(cors, { origin: config.corsOrigins, methods: ['GET', 'POST', 'DELETE'], allowedHeaders: ['authorization', 'content-type', 'idempotency-key', 'if-none-match'] });
-  }
-  if (config.rateLimitPerMinute > 0) {
-    await app.register(rateLimit, {
-      max: config.rateLimitPerMinute,
-      timeWindow: 60_000,
-      keyGenerator: (request) => (request.apiKey ? `key:${request.apiKey.keyId}` : `ip:${request.ip}`),
-      errorResponseBuilder: (_request, context) => {
-        const problem = new Problem('rate-limited', `more than ${context.max} requests in ${context.after}; try again later`, {}, { 'retry-after': String(Math.ceil(context.ttl / 1000)) });
-        return Object.assign(problem, { statusCode: 429 });
-      },
-    });
   }
   const heapLimitBytes = config.maxHeapUsedMiB > 0 ? config.maxHeapUsedMiB * 1024 * 1024 : 0.9 * v8.getHeapStatistics().heap_size_limit;
   await app.register(underPressure, {

@@ -15,6 +15,7 @@ export const PROBLEM_TYPES = {
   conflict: { status: 409, title: 'Conflict' },
   unauthorized: { status: 401, title: 'Authentication required' },
   forbidden: { status: 403, title: 'Not allowed for this key' },
+  'cross-site': { status: 403, title: 'Cross-site request refused' },
   'rate-limited': { status: 429, title: 'Too many requests' },
   unavailable: { status: 503, title: 'Service unavailable' },
   'request-timeout': { status: 408, title: 'Request timeout' },

@@ -409,8 +409,8 @@ export async function findIngest(db: Executor, ingestId: string): Promise<Ingest
   return db.selectFrom('ingests').selectAll().where('ingest_id', '=', ingestId).executeTakeFirst();
 }
 
-export async function findIngestByIdempotencyKey(db: Executor, key: string): Promise<IngestsTable | undefined> {
-  return db.selectFrom('ingests').selectAll().where('idempotency_key', '=', key).executeTakeFirst();
+export async function findIngestByIdempotencyKey(db: Executor, scope: string, key: string): Promise<IngestsTable | undefined> {
+  return db.selectFrom('ingests').selectAll().where('idempotency_scope', '=', scope).where('idempotency_key', '=', key).executeTakeFirst();
 }
 
 export async function listRejectedRows(db: Executor, ingestId: string, page: { limit: number; offset: number }): Promise<RejectedRowsTable[]> {

@@ -43,6 +43,8 @@ export interface UploadRequest {
   contentType: string;
   onError: OnError;
   idempotencyKey: string | null;
+  /** Whose Idempotency-Keys this upload's is among: the sending API key's id, or "open" without keys. */
+  idempotencyScope: string;
 }
 
 export interface Receipt {
@@ -127,7 +129,7 @@ export async function ingestUpload(deps: IngestDependencies, request: UploadRequ
 
 async function storeUpload(deps: IngestDependencies, request: UploadRequest, spooled: SpooledBody, started: number): Promise<{ receipt: Receipt; replayed: boolean }> {
   if (request.idempotencyKey !== null) {
-    const earlier = await repository.findIngestByIdempotencyKey(deps.db, request.idempotencyKey);
+    const earlier = await repository.findIngestByIdempotencyKey(deps.db, request.idempotencyScope, request.idempotencyKey);
     if (earlier) {
       if (earlier.sha256 !== spooled.sha256) {
         throw new IdempotencyConflictError('this Idempotency-Key was used for an upload with a different body');
@@ -245,6 +247,7 @@ async function storeUpload(deps: IngestDependencies, request: UploadRequest, spo
       rejected: totals.rejected,
       sha256: spooled.sha256,
       idempotency_key: request.idempotencyKey,
+      idempotency_scope: request.idempotencyKey === null ? null : request.idempotencyScope,
       received_at: receivedAt,
       duration_ms: Math.round(performance.now() - started),
     };

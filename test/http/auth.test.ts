@@ -70,11 +70,20 @@ describe.each(TEST_DIALECTS)('API keys and roles on %s', (dialect) => {
     expect((await upload(`Bearer ${ingest.key}`)).statusCode).toBe(401);
   });
 
-  it('accepts the key as the password of Basic credentials, which a browser can send', async () => {
+  it('accepts the key as the password of Basic credentials where a browser reads, and nowhere else', async () => {
+    const reader = await createKey(testApp.database.handle.db, 'read', 'dashboard');
+    const basic = (key: string) => `Basic ${Buffer.from(`anyone:${key}`).toString('base64')}`;
+    const pull = await testApp.app.inject({ method: 'GET', url: '/v1/reports/none/segments', headers: { authorization: basic(reader.key) } });
+    expect(pull.statusCode).toBe(404); // past authentication: the report does not exist
+    const page = await testApp.app.inject({ method: 'GET', url: '/reports/none', headers: { authorization: basic(reader.key) } });
+    expect(page.statusCode).toBe(404);
+    expect((await testApp.app.inject({ method: 'GET', url: '/v1/reports/none/segments', headers: { authorization: basic('wrong') } })).statusCode).toBe(401);
+    // A browser resends Basic credentials on any request, another site's included: nothing else takes them.
     const ingest = await createKey(testApp.database.handle.db, 'ingest', 'uploads');
-    const basic = `Basic ${Buffer.from(`anyone:${ingest.key}`).toString('base64')}`;
-    expect((await upload(basic)).statusCode).toBe(201);
-    expect((await upload(`Basic ${Buffer.from('anyone:wrong').toString('base64')}`)).statusCode).toBe(401);
+    const uploaded = await upload(basic(ingest.key));
+    expect(uploaded.statusCode).toBe(401);
+    expect(uploaded.json().detail).toMatch(/Basic credentials are accepted only when reading the report page/);
+    expect((await testApp.app.inject({ method: 'GET', url: '/v1/reports', headers: { authorization: basic(reader.key) } })).statusCode).toBe(401);
   });
 
   it('asks a browser following a link to the CSV pull for Basic credentials', async () => {

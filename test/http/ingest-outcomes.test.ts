@@ -3,6 +3,7 @@
  * the bad ones in skip mode, exact counts on re-upload, and one receipt per Idempotency-Key.
  */
 import { describe, expect, it } from 'vitest';
+import { createKey } from '../../src/auth/keys.js';
 import type { TestApp } from '../support/app.js';
 import { TEST_DIALECTS } from '../support/database.js';
 import {
@@ -299,6 +300,26 @@ describe.each(TEST_DIALECTS)('Idempotency-Key on %s', (dialect) => {
     problemOf(await upload(testApp.app, '/v1/customers', CSV, csvText(CUSTOMER_HEADER, 'C1,1985-04-12,Northvale,web,nobody'), withKey('retry-me')), 422);
     const corrected = await upload(testApp.app, '/v1/customers', CSV, body, withKey('retry-me'));
     expect(corrected.statusCode).toBe(201);
+  });
+
+  it('keeps each API key\'s Idempotency-Keys its own: another key with the same value and body gets its own upload', async () => {
+    const testApp = await startApp(dialect, { authMode: 'keys' });
+    const first = await createKey(testApp.database.handle.db, 'ingest', 'nightly export');
+    const second = await createKey(testApp.database.handle.db, 'ingest', 'partner feed');
+    const send = (key: string) => upload(testApp.app, '/v1/customers', CSV, body, { headers: { 'idempotency-key': 'weekly-2026-24', authorization: `Bearer ${key}` } });
+    const mine = await send(first.key);
+    expect(mine.statusCode).toBe(201);
+    const theirs = await send(second.key);
+    expect(theirs.statusCode).toBe(201);
+    expect(theirs.headers['idempotent-replayed']).toBe('false');
+    expect(receiptOf(theirs).ingest_id).not.toBe(receiptOf(mine).ingest_id);
+    expect(receiptOf(theirs)).toMatchObject({ idempotency_key: 'weekly-2026-24', inserted: 0, unchanged: 1 });
+    // Each key still replays its own receipt.
+    const again = await send(first.key);
+    expect(again.statusCode).toBe(200);
+    expect(receiptOf(again).ingest_id).toBe(receiptOf(mine).ingest_id);
+    const againTheirs = await send(second.key);
+    expect(receiptOf(againTheirs).ingest_id).toBe(receiptOf(theirs).ingest_id);
   });
 
   it('keeps uploads without a key independent', async () => {

@@ -147,4 +147,44 @@ describe.each(TEST_DIALECTS)('report definitions and snapshots over HTTP (%s)', 
     expect(again.statusCode).toBe(304);
     expect(again.body).toBe('');
   });
+
+  // These three were once accepted, and every refresh of such a report then failed with 500.
+  test.each([0.9999999999999999, 1e-300, 5e-324])('a confidence of %j is refused when the report is defined', async (confidence) => {
+    const response = await context.app.inject({ method: 'POST', url: '/v1/reports', payload: { name: 'Too sure', source: { campaign_ids: ['autumn'] }, confidence } });
+    expect(response.statusCode).toBe(400);
+    expect(response.json()).toMatchObject({ type: '/problems/invalid-request', errors: [{ field: 'body/confidence', reason: expect.stringContaining('from 0.5 to 0.9999') }] });
+  });
+
+  test.each([0.5, 0.9999])('a report at the confidence edge %j refreshes', async (confidence) => {
+    const report = await createReport(context.app, { name: `Edge ${confidence}`, source: { campaign_ids: ['autumn'] }, confidence, min_n: 2 });
+    const snapshot = await refresh(context.app, report.report_id);
+    expect(snapshot.definition.confidence).toBe(confidence);
+    expect(snapshot.segments.length).toBeGreaterThan(0);
+    const tested = snapshot.segments.filter((row) => row.tested);
+    expect(tested.length).toBeGreaterThan(0);
+    for (const segment of tested) {
+      expect([segment.rate_diff_ci_low, segment.rate_diff_ci_high].every(Number.isFinite), segment.segment).toBe(true);
+    }
+  });
+
+  test('a definition with 30,000 bad crosses gets a short answer: the first 100 problems and their count', async () => {
+    const crosses = Array.from({ length: 30_000 }, (_, index) => [`no_such_dimension_${index}`]);
+    const payload = JSON.stringify({ name: 'Crossed', source: { campaign_ids: ['autumn'] }, crosses });
+    expect(payload.length).toBeGreaterThan(800_000);
+    const response = await context.app.inject({ method: 'POST', url: '/v1/reports', headers: { 'content-type': 'application/json' }, payload });
+    expect(response.statusCode).toBe(400);
+    const problem = response.json();
+    expect(problem.errors).toHaveLength(100);
+    // One problem per malformed pair, and one for the list's length.
+    expect(problem.error_count).toBe(30_001);
+    expect(problem.detail).toBe('the report definition has 30001 problems; see errors (the first 100)');
+    expect(response.body.length).toBeLessThan(20_000);
+  });
+
+  test('well-formed pairs past the limit of 15 are one problem', async () => {
+    const crosses = Array.from({ length: 30_000 }, () => ['alpha', 'beta']);
+    const response = await context.app.inject({ method: 'POST', url: '/v1/reports', payload: { name: 'Crossed', source: { campaign_ids: ['autumn'] }, crosses } });
+    expect(response.statusCode).toBe(400);
+    expect(response.json()).toMatchObject({ error_count: 1, errors: [{ field: 'body/crosses', reason: 'may list at most 15 pairs (every pair of 6 dimensions)' }] });
+  });
 });

@@ -90,10 +90,30 @@ describe('report definitions', () => {
     expect(issues.map((issue) => issue.field)).toEqual(['body/age_bands/0', 'body/age_bands/2']);
   });
 
-  test.each([0, 1, 1.5, -0.2, '0.95'])('a confidence of %j is refused', async (confidence) => {
+  // The last three were once accepted, and every refresh of such a report failed.
+  test.each([0, 1, 1.5, -0.2, '0.95', 0.4999, 0.99991, 0.9999999999999999, 1e-300, 5e-324])('a confidence of %j is refused', async (confidence) => {
     expect(await issuesOf({ name: 'x', source: { campaign_ids: ['spring'] }, confidence })).toEqual([
-      { field: 'body/confidence', reason: expect.stringContaining('strictly between 0 and 1') },
+      { field: 'body/confidence', reason: expect.stringContaining('from 0.5 to 0.9999') },
     ]);
+  });
+
+  test.each([0.5, 0.9999])('a confidence of %j, at the edge of the range, is accepted', async (confidence) => {
+    expect((await normalizeDefinition({ name: 'x', source: { campaign_ids: ['spring'] }, confidence }, lookup)).confidence).toBe(confidence);
+  });
+
+  test('more than 15 crosses are refused once, not once per pair', async () => {
+    const crosses = Array.from({ length: 16 }, () => ['region', 'channel']);
+    expect(await issuesOf({ name: 'x', source: { campaign_ids: ['spring'] }, crosses })).toEqual([
+      { field: 'body/crosses', reason: 'may list at most 15 pairs (every pair of 6 dimensions)' },
+    ]);
+  });
+
+  test('15 crosses, every pair of six dimensions, are accepted', async () => {
+    const dimensions = ['age_band', 'region', 'channel', 'customer_type', 'loyalty_tier', 'shoe_size'];
+    const crosses = dimensions.flatMap((first, index) => dimensions.slice(index + 1).map((second) => [first, second]));
+    expect(crosses).toHaveLength(15);
+    const accepting: DefinitionLookup = { ...lookup, missingAttributes: async () => [] };
+    expect((await normalizeDefinition({ name: 'x', source: { campaign_ids: ['spring'] }, dimensions, crosses }, accepting)).crosses).toHaveLength(15);
   });
 
   test.each([1, 0, 2.5])('a min_n of %j is refused', async (minN) => {

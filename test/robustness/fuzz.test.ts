@@ -350,7 +350,7 @@ describe.each(TEST_DIALECTS)('random uploads on %s', (dialect) => {
   beforeAll(async () => {
     // Neither the per-client rate limit nor load shedding is under test here; a long local run
     // (FUZZ_RUNS) would reach the one, and a busy shared machine can trip the other.
-    testApp = await createTestApp(dialect, { rateLimitPerMinute: 0, maxEventLoopDelayMs: 0 });
+    testApp = await createTestApp(dialect, { rateLimitPerKey: 0, rateLimitPerAddress: 0, maxEventLoopDelayMs: 0 });
     const seeded = await upload(testApp.app, '/v1/customers', CSV, THREE_CUSTOMERS);
     expect(seeded.statusCode, seeded.body).toBe(201);
   });

@@ -24,7 +24,14 @@ const DIMENSIONS = {
 } as const;
 const AGE_BANDS = { minItems: 1, maxItems: 20, default: [18, 25, 35, 45, 55, 65], description: 'increasing lower band edges in years' } as const;
 const MIN_N = { minimum: 2, maximum: 1_000_000, default: 30, description: 'segments (and rests) smaller than this are not tested' } as const;
-const CONFIDENCE = { exclusiveMinimum: 0, exclusiveMaximum: 1, default: 0.95 } as const;
+/**
+ * Past 0.9999 the interval's quantile and the tests' tails run into the limits of double
+ * precision (0.9999999999999999, 1e-300 and 5e-324 were accepted once and every refresh then
+ * failed); below 0.5 an interval would be narrower than the estimate's own spread and mean nothing.
+ */
+const CONFIDENCE = { minimum: 0.5, maximum: 0.9999, default: 0.95, description: 'confidence level of the intervals, from 0.5 to 0.9999' } as const;
+/** Six dimensions make at most 15 pairs; a longer list can only repeat or misname them. */
+const CROSSES = { maxItems: 15, description: 'pairs of the dimensions for two-way segments; every pair when left out, [] for none' } as const;
 const CHOICES = {
   adjustment: { enum: ['bh', 'holm', 'none'], default: 'bh', description: 'multiplicity adjustment of the p-values' },
   value_basis: { enum: ['per_unit', 'per_conversion'], default: 'per_unit' },
@@ -65,7 +72,7 @@ export const ReportDefinitionBody = Type.Object(
     name: Type.String(NAME),
     source: ReportSource,
     dimensions: Type.Optional(Type.Array(Type.String(), DIMENSIONS)),
-    crosses: Type.Optional(Type.Array(DimensionPair, { description: 'pairs of the dimensions for two-way segments; every pair when left out, [] for none' })),
+    crosses: Type.Optional(Type.Array(DimensionPair, CROSSES)),
     age_bands: Type.Optional(Type.Array(Type.Integer({ minimum: MIN_PLAUSIBLE_AGE, maximum: MAX_PLAUSIBLE_AGE }), AGE_BANDS)),
     min_n: Type.Optional(Type.Integer(MIN_N)),
     confidence: Type.Optional(Type.Number(CONFIDENCE)),
@@ -143,7 +150,12 @@ const REASONS: Record<string, { reason: (value: unknown, keyword: string) => str
     reason: (_value, keyword) => (keyword === 'maxItems' ? `may list at most ${DIMENSIONS.maxItems} dimensions` : 'must be a non-empty list of dimension names'),
   },
   '/dimensions/*': { reason: (value) => unknownDimension(value) },
-  '/crosses': { reason: () => 'must be a list of dimension pairs such as [["age_band", "region"]], or [] for none' },
+  '/crosses': {
+    reason: (_value, keyword) =>
+      keyword === 'maxItems'
+        ? `may list at most ${CROSSES.maxItems} pairs (every pair of ${DIMENSIONS.maxItems} dimensions)`
+        : 'must be a list of dimension pairs such as [["age_band", "region"]], or [] for none',
+  },
   '/crosses/*': { reason: () => 'must be a pair of two dimension names' },
   '/crosses/*/*': { reason: () => 'must be a pair of two dimension names', at: (path) => path.slice(0, path.lastIndexOf('/')) },
   '/age_bands': {
@@ -158,7 +170,7 @@ const REASONS: Record<string, { reason: (value: unknown, keyword: string) => str
   '/min_n': { reason: (value) => `must be a whole number from ${MIN_N.minimum} to ${MIN_N.maximum}, ${got(value)}` },
   '/confidence': {
     reason: (value) =>
-      `must be a number strictly between ${CONFIDENCE.exclusiveMinimum} and ${CONFIDENCE.exclusiveMaximum}, such as ${CONFIDENCE.default}, ${got(value)}`,
+      `must be a number from ${CONFIDENCE.minimum} to ${CONFIDENCE.maximum}, such as ${CONFIDENCE.default}, ${got(value)}`,
   },
   ...Object.fromEntries(
     (Object.keys(CHOICES) as Array<keyof typeof CHOICES>).map((name) => [
