@@ -64,7 +64,10 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
   });
 
   // Built once and shared by the plugins that need them.
-  const reports = reportDependencies(deps.database, deps.logger, now);
+  const reports = reportDependencies(deps.database, deps.logger, now, {
+    publicationThreshold: deps.config.publicationThreshold,
+    maxLabelsPerDimension: deps.config.maxLabelsPerDimension,
+  });
   const ingest: IngestDependencies = {
     db: deps.database.db,
     logger: deps.logger,

@@ -9,7 +9,7 @@ import { ageValueGridAxes, ageValueGridCells, populationHistograms } from '../..
 import { distributionCharts, distributionFallback } from '../../src/view/distributions.js';
 import { createTestApp, type TestApp } from '../support/app.js';
 import { TEST_DIALECTS } from '../support/database.js';
-import { createReport, refresh, uploadRows, REPORT_TEST_SETTINGS } from '../support/report-data.js';
+import { createReport, refresh, uploadRows, ARITHMETIC_TEST_SETTINGS } from '../support/report-data.js';
 
 /**
  * Twelve customers of known age (born 15 January, contacted 1 March 2026, so the age is
@@ -85,7 +85,7 @@ const snapshots = new Map<string, { perUnit: Snapshot; perConversion: Snapshot; 
 describe.each(TEST_DIALECTS)('distribution data on %s', (dialect) => {
   let context: TestApp;
   beforeAll(async () => {
-    context = await createTestApp(dialect, REPORT_TEST_SETTINGS);
+    context = await createTestApp(dialect, ARITHMETIC_TEST_SETTINGS);
     await uploadRows(context.app, '/v1/customers', CUSTOMERS);
     await uploadRows(context.app, '/v1/campaigns/spring/contacts', CONTACTS);
     await uploadRows(context.app, '/v1/sales', SALES);

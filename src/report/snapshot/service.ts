@@ -23,6 +23,7 @@ import type { PreviousWindow } from '../analysis/index.js';
 import { buildSnapshot } from './build.js';
 import { normalizeDefinition, type ReportDefinition } from '../definition/index.js';
 import { ageGridAxis, ageValueGridAxes, isExpandable } from './profiles.js';
+import { storedTextIsWithheldAt, withholdSnapshot } from './withholding.js';
 import * as repository from '../store/index.js';
 import { renderSegmentTable, type RenderedTable, type SegmentTableCache, type TableFormat } from '../../present/index.js';
 import type { Report, Snapshot } from '../shapes/index.js';
@@ -35,11 +36,26 @@ export interface ReportDependencies {
   readDb: Kysely<Database>;
   logger: Logger;
   now: () => Date;
+  /** No published figure describes fewer units than this (withholding.ts). */
+  publicationThreshold: number;
+  /** Most distinct labels a dimension of a report may have. */
+  maxLabelsPerDimension: number;
 }
 
-/** The dependencies of the report functions, from an open database, a logger and a clock. */
-export function reportDependencies(database: DatabaseHandle, logger: Logger, now: () => Date): ReportDependencies {
-  return { dialect: database.dialect, db: database.db, readDb: database.readDb, logger, now };
+export type ReportLimits = Pick<ReportDependencies, 'publicationThreshold' | 'maxLabelsPerDimension'>;
+
+/** The dependencies of the report functions, from an open database, a logger, a clock and the report settings. */
+export function reportDependencies(database: DatabaseHandle, logger: Logger, now: () => Date, limits: ReportLimits): ReportDependencies {
+  return { dialect: database.dialect, db: database.db, readDb: database.readDb, logger, now, ...limits };
+}
+
+/**
+ * Stored snapshot text as it may be served: withheld at the current threshold. Snapshots
+ * stored before withholding existed, or under a lower threshold, are withheld as they are read.
+ */
+function publishedText(body: string, threshold: number): string {
+  if (storedTextIsWithheldAt(body, threshold)) return body;
+  return JSON.stringify(withholdSnapshot(JSON.parse(body) as Snapshot, threshold));
 }
 
 /** A saved report as the API returns it: its definition, id, creation time and latest snapshot. */
@@ -201,7 +217,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   const queriesDone = performance.now();
 
   const previousBody = await repository.findSnapshotBody(deps.db, reportId, 'latest');
-  const previousSnapshot = previousBody === undefined ? null : (JSON.parse(previousBody) as Snapshot);
+  const previousSnapshot = previousBody === undefined ? null : (JSON.parse(publishedText(previousBody, deps.publicationThreshold)) as Snapshot);
   const snapshotId = randomUUID();
   let sequence = await repository.nextSnapshotSequence(deps.db, reportId);
   const snapshot = buildSnapshot({
@@ -209,6 +225,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
     definition,
     ...data,
     previousSnapshot,
+    publicationThreshold: deps.publicationThreshold,
   });
   const computed = performance.now();
   snapshot.duration_ms = Math.round(computed - started);
@@ -271,7 +288,8 @@ export async function listSnapshots(deps: ReportDependencies, reportId: string, 
 export async function getSnapshotBody(deps: ReportDependencies, reportId: string, snapshotId: string): Promise<string | undefined> {
   const row = await repository.findReport(deps.db, reportId);
   if (!row) throw new ReportNotFoundError(reportId);
-  return repository.findSnapshotBody(deps.db, reportId, snapshotId);
+  const body = await repository.findSnapshotBody(deps.db, reportId, snapshotId);
+  return body === undefined ? undefined : publishedText(body, deps.publicationThreshold);
 }
 
 /**
@@ -291,7 +309,7 @@ export async function segmentTable(
   if (cached) return cached;
   const stored = await repository.findSnapshotBody(deps.readDb, reportId, resolvedId);
   if (stored === undefined) return undefined;
-  const table = renderSegmentTable(JSON.parse(stored) as Snapshot, format);
+  const table = renderSegmentTable(JSON.parse(publishedText(stored, deps.publicationThreshold)) as Snapshot, format);
   cache.set(reportId, format, table);
   return table;
 }
