@@ -214,9 +214,12 @@ function withholdPopulation(population: PopulationFigures, threshold: number): {
 
 /**
  * The snapshot as it may be published at `threshold`: see the module comment. Returns a new
- * snapshot; the one passed in is not changed.
+ * snapshot (or the one passed in, when it was withheld at this threshold or above already);
+ * the one passed in is not changed.
  */
 export function withholdSnapshot(snapshot: Snapshot, threshold: number): Snapshot {
+  // Already withheld at this threshold or above: a second pass would count the withheld cells as empty.
+  if (isWithheldAt(snapshot, threshold)) return snapshot;
   const hidden = segmentsToWithhold(snapshot.segments, snapshot.population.n, threshold);
   const segments = withholdSegmentList(snapshot.segments, hidden, threshold);
 
@@ -248,9 +251,10 @@ export function withholdSnapshot(snapshot: Snapshot, threshold: number): Snapsho
   };
   for (const segment of segments) segment.summary = segmentSummary(segment, context);
 
+  const withheldSegments = segments.filter((segment) => segment.withheld_below !== null).length;
   const disclosure: Disclosure = {
     threshold,
-    withheld_segments: segments.filter((segment) => segment.withheld_below !== null).length,
+    withheld_segments: withheldSegments,
     withheld_dimension_values: withheldValues,
     withheld_histogram_bars: bars,
     withheld_grid_cells: gridCells,
@@ -275,6 +279,7 @@ export function withholdSnapshot(snapshot: Snapshot, threshold: number): Snapsho
       familySize: definition.rank_by === 'conversion_rate' ? snapshot.row_counts.rate_tests : snapshot.row_counts.value_tests,
       top: segments[0] ?? null,
       reversals: reversals.length,
+      withheld: { segments: withheldSegments, threshold },
     }),
     disclosure,
   };
