@@ -17,7 +17,7 @@ import { reportRoutes } from './http/report-routes.js';
 import type { IngestDependencies } from './ingest/service.js';
 import type { Logger } from './logger.js';
 import { SegmentTableCache } from './present/index.js';
-import { reportDependencies } from './report/snapshot/index.js';
+import { redactStoredSnapshots, reportDependencies } from './report/snapshot/index.js';
 import { refreshSchedulePlugin } from './schedule/plugin.js';
 import { createChartCache } from './view/chart-cache.js';
 
@@ -72,6 +72,7 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
     db: deps.database.db,
     logger: deps.logger,
     now,
+    redactSnapshots: (trx, customer) => redactStoredSnapshots(trx, customer, { threshold: deps.config.publicationThreshold, now }),
     limits: {
       maxBytes: deps.config.maxUploadBytes,
       maxRows: deps.config.maxUploadRows,

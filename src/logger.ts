@@ -2,6 +2,7 @@
  * Logging: pino, JSON lines by default and readable colour output only on a terminal.
  * Secrets never reach a log line: authorization headers and key material are redacted.
  */
+import { createHmac, randomBytes } from 'node:crypto';
 import pino from 'pino';
 import type { FastifyBaseLogger } from 'fastify';
 import type { LogLevel } from './config.js';
@@ -18,6 +19,19 @@ export const REDACTED_PATHS = [
   'key',
   'token',
 ];
+
+// Drawn at start-up and never stored or logged: without it a pseudonym cannot be confirmed
+// by hashing candidate ids, and pseudonyms do not link across restarts.
+const PSEUDONYM_KEY = randomBytes(32);
+
+/**
+ * A keyed hash (HMAC-SHA-256, first 16 hex digits) standing in for a customer id in log lines:
+ * lines about the same customer can be matched within one run of the service, the id itself
+ * is never written.
+ */
+export function logPseudonym(id: string): string {
+  return createHmac('sha256', PSEUDONYM_KEY).update(id, 'utf8').digest('hex').slice(0, 16);
+}
 
 export function createLogger(level: LogLevel, options: { pretty?: boolean } = {}): pino.Logger {
   const pretty = options.pretty ?? process.stdout.isTTY === true;

@@ -162,13 +162,20 @@ describe('withholding histogram bars and grid cells', () => {
 
   test('bars below the threshold lose their count, and the next-smallest goes too when the withheld total is below it', () => {
     const snapshot = withholdSnapshot({ ...base, population: { ...base.population, age_histogram: histogram([0, 3, 50, 20, 12]) }, disclosure: undefined } as unknown as Snapshot, 10);
-    expect(snapshot.population.age_histogram?.bins.map((bin) => bin.count)).toEqual([0, null, 50, 20, null]);
+    expect(snapshot.population.age_histogram?.bins.map((bin) => bin.count)).toEqual([0, null, 50, 20]);
     expect(snapshot.disclosure?.withheld_histogram_bars).toBeGreaterThanOrEqual(2);
   });
 
   test('bars that together reach the threshold are withheld alone', () => {
     const snapshot = withholdSnapshot({ ...base, population: { ...base.population, age_histogram: histogram([6, 5, 50, 20]) } } as Snapshot, 10);
-    expect(snapshot.population.age_histogram?.bins.map((bin) => bin.count)).toEqual([null, null, 50, 20]);
+    expect(snapshot.population.age_histogram?.bins.map((bin) => bin.count)).toEqual([50, 20]);
+  });
+
+  test('withheld and empty bars at the ends are left out, so the edges do not give the extremes of a few units', () => {
+    const snapshot = withholdSnapshot({ ...base, population: { ...base.population, age_histogram: histogram([40, 0, 30, 0, 0, 1]) } } as Snapshot, 10);
+    // The 1 is withheld with the next-smallest bar (30); from the end, every withheld or empty bar goes.
+    expect(snapshot.population.age_histogram?.bins.map((bin) => [bin.low, bin.count])).toEqual([[0, 40]]);
+    expect(snapshot.disclosure?.withheld_histogram_bars).toBe(2);
   });
 
   test('grid cells below the threshold are left out, with the same complementary rule', () => {

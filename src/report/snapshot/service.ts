@@ -245,6 +245,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
         duration_ms: snapshot.duration_ms,
         trigger,
         body: JSON.stringify(snapshot),
+        redacted_at: null,
       });
       break;
     } catch (error) {
@@ -303,14 +304,16 @@ export async function segmentTable(
   snapshotId: string,
   format: TableFormat,
 ): Promise<RenderedTable | undefined> {
-  const resolvedId = snapshotId === 'latest' ? await repository.latestSnapshotId(deps.readDb, reportId) : snapshotId;
-  if (resolvedId === undefined) return undefined;
-  const cached = cache.get(reportId, resolvedId, format);
+  // An erasure may redact a stored snapshot, so a rendered table is kept per version of the body.
+  const version = await repository.snapshotVersion(deps.readDb, reportId, snapshotId);
+  if (version === undefined) return undefined;
+  const versionKey = `${version.snapshot_id}@${version.redacted_at ?? ''}`;
+  const cached = cache.get(reportId, versionKey, format);
   if (cached) return cached;
-  const stored = await repository.findSnapshotBody(deps.readDb, reportId, resolvedId);
+  const stored = await repository.findSnapshotBody(deps.readDb, reportId, version.snapshot_id);
   if (stored === undefined) return undefined;
   const table = renderSegmentTable(JSON.parse(publishedText(stored, deps.publicationThreshold)) as Snapshot, format);
-  cache.set(reportId, format, table);
+  cache.set(reportId, format, table, versionKey);
   return table;
 }
 

@@ -188,10 +188,15 @@ function withholdHistogram(histogram: HistogramFigure | null | undefined, thresh
     histogram.bins.map((bin) => bin.count),
     threshold,
   );
-  return {
-    histogram: { ...histogram, bins: histogram.bins.map((bin, index) => ({ ...bin, count: counts[index] ?? null })) },
-    withheld: counts.filter((count) => count === null).length,
-  };
+  const bins = histogram.bins.map((bin, index) => ({ ...bin, count: counts[index] ?? null }));
+  // The outer edges of the bins are the smallest and largest values, and the bin width gives
+  // one from the other: withheld (and then empty) bars at either end are left out, so the
+  // extremes of a few units are not published through the edges.
+  let first = 0;
+  let last = bins.length - 1;
+  while (first <= last && (bins[first] as { count: number | null }).count === null) first += 1;
+  while (last >= first && ((bins[last] as { count: number | null }).count ?? 0) === 0) last -= 1;
+  return { histogram: { ...histogram, bins: bins.slice(first, last + 1) }, withheld: counts.filter((count) => count === null).length };
 }
 
 function withholdPopulation(population: PopulationFigures, threshold: number): { population: PopulationFigures; bars: number; gridCells: number } {
