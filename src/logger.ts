@@ -33,11 +33,32 @@ export function logPseudonym(id: string): string {
   return createHmac('sha256', PSEUDONYM_KEY).update(id, 'utf8').digest('hex').slice(0, 16);
 }
 
+const CUSTOMER_PATH = /^(\/v1\/customers\/)([^/?#]+)/;
+
+/** A request path with the customer id of `/v1/customers/{id}` replaced by its pseudonym. */
+export function pathForLog(url: string): string {
+  return url.replace(CUSTOMER_PATH, (_match, prefix: string, id: string) => {
+    let decoded = id;
+    try {
+      decoded = decodeURIComponent(id);
+    } catch {
+      // a malformed escape names no customer; its raw text is hashed
+    }
+    return `${prefix}~${logPseudonym(decoded)}`;
+  });
+}
+
+/** The request as a log line shows it: fastify's usual fields, the path without customer ids. */
+export function requestForLog(request: { method?: string; url?: string; host?: string; ip?: string; socket?: { remotePort?: number } }): object {
+  return { method: request.method, url: pathForLog(request.url ?? ''), host: request.host, remoteAddress: request.ip, remotePort: request.socket?.remotePort };
+}
+
 export function createLogger(level: LogLevel, options: { pretty?: boolean } = {}): pino.Logger {
   const pretty = options.pretty ?? process.stdout.isTTY === true;
   return pino({
     level,
     redact: { paths: REDACTED_PATHS, censor: '[redacted]' },
+    serializers: { req: requestForLog },
     ...(pretty ? { transport: { target: 'pino-pretty', options: { translateTime: 'SYS:standard', ignore: 'pid,hostname' } } } : {}),
   });
 }
