@@ -17,6 +17,7 @@ export {
 export {
   ReportNotFoundError,
   SnapshotNotFoundError,
+  TooManyLabelsError,
   createReport,
   getReport,
   getSnapshotBody,

@@ -9,6 +9,7 @@ import type { Database, ReportsTable, SnapshotTrigger } from '../../db/tables.js
 import type { Logger } from '../../logger.js';
 import {
   gridCountsOf,
+  labelCounts,
   shiftsAndCellAggregates,
   sourceQuality,
   valueCountsByAgeBin,
@@ -21,7 +22,7 @@ import {
 } from '../../segments/index.js';
 import type { PreviousWindow } from '../analysis/index.js';
 import { buildSnapshot } from './build.js';
-import { normalizeDefinition, type ReportDefinition } from '../definition/index.js';
+import { InvalidDefinitionError, normalizeDefinition, type ReportDefinition } from '../definition/index.js';
 import { ageGridAxis, ageValueGridAxes, isExpandable } from './profiles.js';
 import { storedTextIsWithheldAt, withholdSnapshot } from './withholding.js';
 import * as repository from '../store/index.js';
@@ -94,7 +95,30 @@ async function toResource(db: Kysely<Database>, row: ReportsTable): Promise<Repo
 }
 
 /**
- * Checks and saves a report definition.
+ * A dimension of a report has more distinct labels than `MAX_LABELS_PER_DIMENSION`: its
+ * segments would be many, tiny and mostly withheld, and the snapshot and page huge.
+ */
+export class TooManyLabelsError extends Error {
+  override name = 'TooManyLabelsError';
+  constructor(
+    readonly reportId: string,
+    readonly dimensions: ReadonlyArray<{ dimension: string; labels: number }>,
+    readonly limit: number,
+  ) {
+    super(
+      `${dimensions.map(({ dimension, labels }) => `dimension ${dimension} has ${labels} distinct labels`).join('; ')} in the report's population, more than the ${limit} a dimension may have (MAX_LABELS_PER_DIMENSION); remove it from the report's dimensions or group its labels before uploading`,
+    );
+  }
+}
+
+/** The dimensions with more labels than the limit, from their counts in definition order. */
+function dimensionsOverLimit(dimensions: readonly string[], counts: readonly number[], limit: number): Array<{ dimension: string; labels: number }> {
+  return dimensions.flatMap((dimension, index) => ((counts[index] ?? 0) > limit ? [{ dimension, labels: counts[index] as number }] : []));
+}
+
+/**
+ * Checks and saves a report definition. A dimension that already has more labels in the
+ * report's population than the limit is refused here, where the data can tell.
  * @throws InvalidDefinitionError listing every problem of the body
  */
 export async function createReport(deps: ReportDependencies, body: unknown): Promise<ReportResource> {
@@ -102,6 +126,16 @@ export async function createReport(deps: ReportDependencies, body: unknown): Pro
     missingCampaigns: (ids) => repository.missingCampaigns(deps.readDb, ids),
     missingAttributes: (names) => repository.missingAttributes(deps.readDb, names),
   });
+  const counts = await labelCounts(deps.readDb, { source: populationSource(definition), dimensions: definition.dimensions, ageEdges: definition.age_bands });
+  const over = dimensionsOverLimit(definition.dimensions, counts, deps.maxLabelsPerDimension);
+  if (over.length > 0) {
+    throw new InvalidDefinitionError(
+      over.map(({ dimension, labels }) => ({
+        field: `body/dimensions/${definition.dimensions.indexOf(dimension)}`,
+        reason: `${dimension} has ${labels} distinct labels in this report's population, more than the ${deps.maxLabelsPerDimension} a dimension may have (MAX_LABELS_PER_DIMENSION)`,
+      })),
+    );
+  }
   const row: ReportsTable = {
     report_id: randomUUID(),
     name: definition.name,
@@ -165,6 +199,10 @@ function valueDistributionScope(cells: readonly CellAggregate[], definition: Rep
   return scope;
 }
 
+function distinctLabels(cells: readonly CellAggregate[], dimensionCount: number): number[] {
+  return Array.from({ length: dimensionCount }, (_unused, index) => new Set(cells.map((cell) => cell.labels[index])).size);
+}
+
 // One refresh at a time per report in this process, so each snapshot compares with the one before it.
 const refreshesInFlight = new Map<string, Promise<unknown>>();
 
@@ -198,6 +236,10 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   if (deps.dialect === 'postgres') transaction = transaction.setIsolationLevel('repeatable read');
   const data = await transaction.execute(async (trx) => {
     const { shifts, cells, ageCounts, unconvertedByAge, arithmetic } = await shiftsAndCellAggregates(trx, request);
+    // The data may have grown since the definition was saved: checked on the cells, before any
+    // segment is built, so a dimension of thousands of labels costs one query, not a snapshot.
+    const over = dimensionsOverLimit(definition.dimensions, distinctLabels(cells, definition.dimensions.length), deps.maxLabelsPerDimension);
+    if (over.length > 0) throw new TooManyLabelsError(reportId, over, deps.maxLabelsPerDimension);
     const valueCounts = await valueDistribution(trx, request, valueDistributionScope(cells, definition), cells);
     const ageAxis = ageGridAxis(ageCounts);
     const valuesByAgeBin = await valueCountsByAgeBin(trx, request, ageAxis, unconvertedByAge);
