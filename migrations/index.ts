@@ -8,6 +8,7 @@ import * as reports from './0002_reports.js';
 import * as apiKeys from './0003_api_keys.js';
 import * as contactDimensions from './0004_contact_dimensions.js';
 import * as idempotencyPerKey from './0006_idempotency_per_key.js';
+import * as snapshotRedaction from './0007_snapshot_redaction.js';
 
 export const migrations: Record<string, Migration> = {
   '0001_records': records,
@@ -15,4 +16,5 @@ export const migrations: Record<string, Migration> = {
   '0003_api_keys': apiKeys,
   '0004_contact_dimensions': contactDimensions,
   '0006_idempotency_per_key': idempotencyPerKey,
+  '0007_snapshot_redaction': snapshotRedaction,
 };

@@ -19,7 +19,7 @@ import { reportRoutes } from './http/report-routes.js';
 import type { IngestDependencies } from './ingest/service.js';
 import type { Logger } from './logger.js';
 import { SegmentTableCache } from './present/index.js';
-import { reportDependencies } from './report/snapshot/index.js';
+import { redactStoredSnapshots, reportDependencies } from './report/snapshot/index.js';
 import { refreshSchedulePlugin } from './schedule/plugin.js';
 import { createChartCache } from './view/chart-cache.js';
 
@@ -66,12 +66,16 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
   });
 
   // Built once and shared by the plugins that need them.
-  const reports = reportDependencies(deps.database, deps.logger, now);
+  const reports = reportDependencies(deps.database, deps.logger, now, {
+    publicationThreshold: deps.config.publicationThreshold,
+    maxLabelsPerDimension: deps.config.maxLabelsPerDimension,
+  });
   const ingest: IngestDependencies = {
     db: deps.database.db,
     readDb: deps.database.readDb,
     logger: deps.logger,
     now,
+    redactSnapshots: (trx, customer) => redactStoredSnapshots(trx, customer, { threshold: deps.config.publicationThreshold, now }),
     limits: {
       maxBytes: deps.config.maxUploadBytes,
       maxRows: deps.config.maxUploadRows,

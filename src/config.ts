@@ -56,6 +56,13 @@ export interface Config {
   loadSampleIntervalMs: number;
   /** Origins allowed to call the API from a browser; empty means CORS stays off. */
   corsOrigins: string[];
+  /**
+   * Smallest number of units a published figure may describe: segments, age × value cells,
+   * histogram bars and dimension values below it are withheld (small-cell suppression).
+   */
+  publicationThreshold: number;
+  /** Most distinct labels one dimension of a report may have; a report over it is refused. */
+  maxLabelsPerDimension: number;
 }
 
 export class ConfigError extends Error {
@@ -63,6 +70,10 @@ export class ConfigError extends Error {
 }
 
 const LOG_LEVELS: readonly LogLevel[] = ['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent'];
+
+/** Fewer units than this are never described on their own (see README, Privacy). */
+export const DEFAULT_PUBLICATION_THRESHOLD = 10;
+export const DEFAULT_MAX_LABELS_PER_DIMENSION = 100;
 
 const DEFAULT_SQLITE_FILE = path.join('data', 'segrank.sqlite');
 
@@ -93,6 +104,8 @@ export function loadConfig(env: Environment = process.env): Config {
     maxHeapUsedMiB: readInteger(env, 'MAX_HEAP_USED_MIB', 0, { min: 0, max: 1_000_000 }),
     loadSampleIntervalMs: readInteger(env, 'LOAD_SAMPLE_INTERVAL_MS', 5000, { min: 10, max: 600_000 }),
     corsOrigins: readOrigins(env, 'CORS_ORIGINS'),
+    publicationThreshold: readInteger(env, 'PUBLICATION_THRESHOLD', DEFAULT_PUBLICATION_THRESHOLD, { min: 1, max: 1_000_000 }),
+    maxLabelsPerDimension: readInteger(env, 'MAX_LABELS_PER_DIMENSION', DEFAULT_MAX_LABELS_PER_DIMENSION, { min: 2, max: 100_000 }),
   };
 }
 

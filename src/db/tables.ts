@@ -131,7 +131,11 @@ export interface ReportsTable {
   created_at: string;
 }
 
-/** One computed snapshot of a report. Never updated once written; `body` is the whole snapshot as JSON text. */
+/**
+ * One computed snapshot of a report; `body` is the whole snapshot as JSON text. Its figures
+ * never change; an erasure may only remove from it what it held about the erased customer
+ * (src/report/snapshot/redaction.ts), and then sets `redacted_at`.
+ */
 export interface ReportSnapshotsTable {
   snapshot_id: string;
   report_id: string;
@@ -144,6 +148,8 @@ export interface ReportSnapshotsTable {
   duration_ms: number;
   trigger: SnapshotTrigger;
   body: string;
+  /** when an erasure last redacted the body; null if never (migration 0007) */
+  redacted_at: string | null;
 }
 
 /** Bookkeeping of a scheduled job: its last completed run and the lock that keeps runs from overlapping. */

@@ -17,7 +17,7 @@ import {
   UploadTooLargeError,
 } from '../ingest/service.js';
 import { InvalidDefinitionError } from '../report/definition/index.js';
-import { ReportNotFoundError, SnapshotNotFoundError } from '../report/snapshot/index.js';
+import { ReportNotFoundError, SnapshotNotFoundError, TooManyLabelsError } from '../report/snapshot/index.js';
 import { Problem } from './problems.js';
 
 /**
@@ -71,6 +71,9 @@ function domainProblem(error: unknown): Problem | null {
     return new Problem('invalid-request', detail, listed(error.issues.map((issue) => ({ field: issue.field, reason: issue.reason }))));
   }
   if (error instanceof ReportNotFoundError) return new Problem('not-found', error.message);
+  if (error instanceof TooManyLabelsError) {
+    return new Problem('too-many-labels', error.message, { dimensions: error.dimensions.map(({ dimension, labels }) => ({ dimension, labels })), limit: error.limit });
+  }
   if (error instanceof SnapshotNotFoundError) {
     const { reportId, snapshotId } = error;
     return new Problem(

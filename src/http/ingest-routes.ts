@@ -9,6 +9,7 @@ import { eraseCustomer } from '../ingest/erasure.js';
 import { formatFromContentType, parseContentType } from '../ingest/media-type.js';
 import { findReceipt, findRejectedRows } from '../ingest/receipts.js';
 import { ingestUpload, type IngestDependencies } from '../ingest/service.js';
+import { logPseudonym } from '../logger.js';
 import { Problem } from './problems.js';
 import { Receipt, RejectedRowsPage } from './schemas.js';
 
@@ -125,9 +126,10 @@ export const ingestRoutes: FastifyPluginAsync<IngestDependencies> = async (app, 
     { schema: { params: { type: 'object', properties: { customer_id: { type: 'string' } }, required: ['customer_id'] } } },
     async (request, reply) => {
       const { customer_id: customerId } = request.params as { customer_id: string };
-      const erased = await eraseCustomer(deps.db, customerId);
+      const { erased, snapshotsRedacted } = await eraseCustomer(deps.db, customerId, deps.redactSnapshots);
       if (!erased) throw new Problem('not-found', `no customer with id ${customerId}`);
-      request.log.info({ customerId }, 'customer erased');
+      // Logs carry no customer id: a keyed hash matches lines about one customer within this run.
+      request.log.info({ customer: logPseudonym(customerId), snapshotsRedacted }, 'customer erased');
       return reply.code(204).send();
     },
   );

@@ -424,6 +424,22 @@ export async function listRejectedRows(db: Executor, ingestId: string, page: { l
     .execute();
 }
 
+/**
+ * What the reports may hold about one customer, read before erasing them: the labels the
+ * customer has in each customer dimension (built-in columns and extra attributes) and the
+ * campaigns they were contacted in. Undefined when there is no such customer.
+ */
+export async function customerLabels(db: Executor, customerId: string): Promise<{ labels: Record<string, string>; campaignIds: string[] } | undefined> {
+  const customer = await db.selectFrom('customers').select(['region', 'channel', 'customer_type']).where('customer_id', '=', customerId).executeTakeFirst();
+  if (!customer) return undefined;
+  const attributes = await db.selectFrom('customer_attributes').select(['name', 'value']).where('customer_id', '=', customerId).execute();
+  const campaigns = await db.selectFrom('campaign_contacts').select('campaign_id').distinct().where('customer_id', '=', customerId).execute();
+  const labels: Record<string, string> = {};
+  for (const attribute of attributes) labels[attribute.name] = attribute.value;
+  Object.assign(labels, { region: customer.region, channel: customer.channel, customer_type: customer.customer_type });
+  return { labels, campaignIds: campaigns.map((row) => row.campaign_id) };
+}
+
 /** Erases one customer and every row about them; returns false when there was no such customer. */
 export async function eraseCustomer(db: Executor, customerId: string): Promise<boolean> {
   await db.deleteFrom('campaign_contacts').where('customer_id', '=', customerId).execute();

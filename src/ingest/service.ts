@@ -16,6 +16,7 @@ import { contactsKind, customersKind, salesKind, type PendingRow, type UploadKin
 import { DEFAULT_PARSE_LIMITS, parseRecords, type ParsedRecord, type UploadFormat } from './parse.js';
 import * as repository from './repository.js';
 import type { RowError } from './row-checks.js';
+import type { SnapshotRedaction } from './erasure.js';
 
 export interface IngestLimits {
   maxBytes: number;
@@ -33,6 +34,8 @@ export interface IngestDependencies {
   logger: Logger;
   limits: IngestLimits;
   now: () => Date;
+  /** what an erasure does to stored snapshots (the report layer's redaction), if anything */
+  redactSnapshots?: SnapshotRedaction;
 }
 
 export interface UploadRequest {

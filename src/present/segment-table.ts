@@ -42,8 +42,9 @@ export class SegmentTableCache {
     return this.entries.get(tableKey(reportId, snapshotId, format));
   }
 
-  set(reportId: string, format: TableFormat, table: RenderedTable): void {
-    this.entries.set(tableKey(reportId, table.snapshotId, format), table);
+  /** `version` names the version of the snapshot's body the table was rendered from (its id by default). */
+  set(reportId: string, format: TableFormat, table: RenderedTable, version: string = table.snapshotId): void {
+    this.entries.set(tableKey(reportId, version, format), table);
     }
 
   clear(): void {

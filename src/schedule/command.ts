@@ -34,7 +34,10 @@ export async function runRefreshCommand(args: string[], config: Config): Promise
   const database = await openDatabase(config.database, logger);
   try {
     await migrateToLatest(database.db, config.database);
-    const deps = reportDependencies(database, logger, () => new Date());
+    const deps = reportDependencies(database, logger, () => new Date(), {
+      publicationThreshold: config.publicationThreshold,
+      maxLabelsPerDimension: config.maxLabelsPerDimension,
+    });
     const reportIds = args.includes('--all') ? (await listReports(database.db)).map((report) => report.report_id) : args.length > 0 ? args : undefined;
     const result = await runWeeklyRefresh(deps, { trigger: 'command', ...(reportIds === undefined ? {} : { reportIds }) });
     if (!result.ran) {

@@ -21,7 +21,9 @@ export function createChartCache(capacity = CACHED_CHART_SETS): ChartCache {
   const drawings = new LRUCache<string, Promise<ChartFigure[]>>({ max: capacity });
   return {
     chartsFor(shown, history) {
-      const key = [shown.report_id, shown.snapshot_id, ...history.map((snapshot) => snapshot.snapshot_id)].join('|');
+      // An erasure may redact stored snapshots: the time it did is part of each snapshot's key.
+      const version = (snapshot: Snapshot) => `${snapshot.snapshot_id}@${snapshot.disclosure?.redacted_at ?? ''}`;
+      const key = [shown.report_id, version(shown), ...history.map(version)].join('|');
       let charts = drawings.get(key);
       if (charts === undefined) {
         const drawing = reportCharts(shown, history);

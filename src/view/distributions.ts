@@ -24,7 +24,7 @@ export function readHistogram(population: object, key: string): HistogramData | 
   const { rule, bin_width: binWidth, bins, note } = candidate as Record<string, unknown>;
   if (typeof rule !== 'string' || !isFiniteNumber(binWidth) || !Array.isArray(bins) || bins.length === 0) return null;
   const wellFormed = bins.every(
-    (bin: unknown) => typeof bin === 'object' && bin !== null && isFiniteNumber((bin as Record<string, unknown>)['low']) && isFiniteNumber((bin as Record<string, unknown>)['high']) && isFiniteNumber((bin as Record<string, unknown>)['count']),
+    (bin: unknown) => typeof bin === 'object' && bin !== null && isFiniteNumber((bin as Record<string, unknown>)['low']) && isFiniteNumber((bin as Record<string, unknown>)['high']) && (isFiniteNumber((bin as Record<string, unknown>)['count']) || (bin as Record<string, unknown>)['count'] === null),
   );
   if (!wellFormed) return null;
   return { rule, bin_width: binWidth, bins: bins as HistogramData['bins'], note: typeof note === 'string' ? note : null };

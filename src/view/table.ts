@@ -45,7 +45,10 @@ const COLUMNS: readonly Column[] = [
     heading: 'n',
     type: 'number',
     numeric: true,
-    cell: (segment) => ({ text: html`${formatCount(segment.n)}<span class="ci">${formatPercent(segment.share)} of all</span>`, sortKey: String(segment.n) }),
+    cell: (segment) =>
+      segment.n === null || segment.share === null
+        ? { text: html`fewer than ${formatCount(segment.withheld_below ?? 0)}<span class="ci">withheld</span>`, sortKey: '0' }
+        : { text: html`${formatCount(segment.n)}<span class="ci">${formatPercent(segment.share)} of all</span>`, sortKey: String(segment.n) },
   },
   {
     heading: 'Conversion rate',

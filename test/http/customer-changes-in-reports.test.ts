@@ -21,7 +21,8 @@ describe.each(TEST_DIALECTS)('customer changes and campaign reports on %s', (dia
   });
 
   async function setUp(): Promise<{ post: (url: string, body: string) => Promise<number>; refresh: () => Promise<SnapshotBody>; copiesOf: (customerId: string) => Promise<unknown[]> }> {
-    testApp = await createTestApp(dialect, { maxEventLoopDelayMs: 0 });
+    // One moved customer is followed into segments of one: every figure published (threshold 1).
+    testApp = await createTestApp(dialect, { maxEventLoopDelayMs: 0, publicationThreshold: 1 });
     const { app, database } = testApp;
     const post = async (url: string, body: string) => (await upload(app, url, CSV, body + '\n')).statusCode;
     const customers = ['customer_id,birth_date,region,channel,customer_type'];

@@ -11,7 +11,7 @@ import pcorrtest from '@stdlib/stats-pcorrtest';
 import ttest from '@stdlib/stats-ttest';
 import ttest2 from '@stdlib/stats-ttest2';
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
-import type { Snapshot, SnapshotSegment } from '../../src/report/shapes/index.js';
+import { isPublished, type Snapshot, type SnapshotSegment } from '../../src/report/shapes/index.js';
 import {
   adjustPValues,
   cohensH,
@@ -305,7 +305,7 @@ describe.each(TEST_DIALECTS)('every field of a small snapshot (%s)', (dialect) =
   });
 
   test('the minimum detectable difference is the rate rise (or fall) with 80% power against the rest', () => {
-    for (const segment of snapshot.segments) {
+    for (const segment of snapshot.segments.filter(isPublished)) {
       const rest = segment.rest;
       const direction = (segment.rate_diff as number) >= 0 ? 'increase' : 'decrease';
       const core = minimumDetectableRateDifference({ n1: segment.n, n2: rest.n, baselineRate: rest.conversion_rate as number, alpha: 0.05, power: 0.8, direction });
@@ -317,7 +317,7 @@ describe.each(TEST_DIALECTS)('every field of a small snapshot (%s)', (dialect) =
   });
 
   test('verdicts follow the documented rule and the ranking is by the lower Wilson bound', () => {
-    for (const segment of snapshot.segments) {
+    for (const segment of snapshot.segments.filter(isPublished)) {
       const significant = (segment.rate_p_adjusted as number) < 0.05;
       const mddUp = minimumDetectableRateDifference({ n1: segment.n, n2: segment.rest.n, baselineRate: segment.rest.conversion_rate as number, alpha: 0.05, power: 0.8, direction: 'increase' });
       const mddDown = minimumDetectableRateDifference({ n1: segment.n, n2: segment.rest.n, baselineRate: segment.rest.conversion_rate as number, alpha: 0.05, power: 0.8, direction: 'decrease' });

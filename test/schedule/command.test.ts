@@ -17,7 +17,7 @@ describe.each(TEST_DIALECTS)('segrank refresh (%s)', (dialect) => {
   beforeAll(async () => {
     database = await createTestDatabase(dialect);
     config = { ...loadConfig({}), database: database.settings, logLevel: 'silent' };
-    const deps: ReportDependencies = { dialect, db: database.handle.db, readDb: database.handle.readDb, logger: pino({ level: 'silent' }), now: () => new Date() };
+    const deps: ReportDependencies = { dialect, db: database.handle.db, readDb: database.handle.readDb, logger: pino({ level: 'silent' }), now: () => new Date(), publicationThreshold: 10, maxLabelsPerDimension: 100 };
     const now = new Date().toISOString();
     await database.handle.db.insertInto('campaigns').values({ campaign_id: 'cli', created_at: now }).execute();
     weekly = (await createReport(deps, { name: 'Weekly', source: { campaign_ids: ['cli'] }, refresh: 'weekly' })).report_id;

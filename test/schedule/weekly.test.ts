@@ -54,7 +54,7 @@ describe.each(TEST_DIALECTS)('the weekly refresh (%s)', (dialect) => {
 
   beforeAll(async () => {
     database = await createTestDatabase(dialect);
-    deps = { dialect, db: database.handle.db, readDb: database.handle.readDb, logger: pino({ level: 'silent' }), now: () => new Date() };
+    deps = { dialect, db: database.handle.db, readDb: database.handle.readDb, logger: pino({ level: 'silent' }), now: () => new Date(), publicationThreshold: 10, maxLabelsPerDimension: 100 };
     const db = database.handle.db;
     const now = '2026-06-01T00:00:00.000Z';
     await db

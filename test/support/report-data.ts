@@ -117,3 +117,9 @@ export async function uploadDataset(app: FastifyInstance, dataset: ReturnType<ty
  * load shedding, so it is switched off.
  */
 export const REPORT_TEST_SETTINGS = { maxEventLoopDelayMs: 0 } as const;
+/**
+ * For suites that check the arithmetic of every figure on a dozen or a few hundred invented
+ * units: the publication threshold at 1 publishes every figure. Withholding itself is checked
+ * at the default threshold in test/report/withholding.test.ts and test/http/disclosure.test.ts.
+ */
+export const ARITHMETIC_TEST_SETTINGS = { ...REPORT_TEST_SETTINGS, publicationThreshold: 1 } as const;

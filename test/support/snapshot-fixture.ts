@@ -73,6 +73,7 @@ function segment(figures: SegmentFigures): SnapshotSegment {
     min_detectable_diff: 0.05,
     verdict: figures.verdict,
     summary: `Sentence about ${figures.dimension} ${figures.value}.`,
+    withheld_below: null,
     values: { [figures.dimension]: figures.value },
     tested,
     rest: { n: 1000 - figures.n, conversions: 100, conversion_rate: 0.1, value_n: 1000 - figures.n, value_mean: 5 },

@@ -7,7 +7,7 @@ import { newcombeDifferenceInterval, welchTTest, type Summary } from '../../stat
 import type { CellAggregate, Shifts } from '../../segments/index.js';
 import { cellStats, rollUp } from '../../segments/index.js';
 import type { ReportDefinition } from '../definition/index.js';
-import type { Comparison, SegmentChange, Snapshot, SnapshotSegment } from '../shapes/index.js';
+import { isPublished, type Comparison, type PublishedSegment, type SegmentChange, type Snapshot, type SnapshotSegment } from '../shapes/index.js';
 import { valueOrNull } from './outcome.js';
 import { segmentLabel } from './segment-row.js';
 import { valueSummary } from './segment-tests.js';
@@ -58,14 +58,16 @@ function figuresOfWindow(previousWindow: PreviousWindow, definition: ReportDefin
 /** Every segment's figures as the previous snapshot stored them. */
 function figuresOfSnapshot(previousSnapshot: Snapshot): Map<string, PreviousFigures> {
   return new Map(
-    previousSnapshot.segments.map((segment) => {
+    previousSnapshot.segments.flatMap((segment): Array<[string, PreviousFigures]> => {
+      // A withheld segment keeps no figures, so a later snapshot has nothing to compare it with.
       const stored = segment.sufficient_statistics;
-      return [segment.segment, { n: stored.n, conversions: stored.conversions, value: { n: stored.value.n, mean: stored.value.mean, sumSquaredDeviations: stored.value.sum_squared_deviations } }];
+      if (stored === null) return [];
+      return [[segment.segment, { n: stored.n, conversions: stored.conversions, value: { n: stored.value.n, mean: stored.value.mean, sumSquaredDeviations: stored.value.sum_squared_deviations } }]];
     }),
   );
 }
 
-function summaryOf(segment: SnapshotSegment): Summary {
+function summaryOf(segment: PublishedSegment): Summary {
   const stored = segment.sufficient_statistics.value;
   return { n: stored.n, mean: stored.mean, sumSquaredDeviations: stored.sum_squared_deviations };
 }
@@ -107,7 +109,7 @@ export function recordChanges(
       segment.previous_rank = previousRank;
       segment.rank_movement = previousRank !== null && segment.rank !== null ? previousRank - segment.rank : null;
     }
-    if (previousFigures && basis.compared_with !== null) {
+    if (previousFigures && basis.compared_with !== null && isPublished(segment)) {
       const current = { n: segment.n, conversions: segment.conversions, value: summaryOf(segment) };
       segment.change = computeChange(current, previousFigures.get(segment.segment), basis.compared_with, definition.confidence);
     }

@@ -16,7 +16,7 @@ function rankingKey(segment: SnapshotSegment, definition: ReportDefinition): num
  * n (larger first) and then by name; untested ones after them by n and name, without a rank.
  */
 export function rankSegments(segments: SnapshotSegment[], definition: ReportDefinition): SnapshotSegment[] {
-  const byNameAndSize = (left: SnapshotSegment, right: SnapshotSegment) => right.n - left.n || compareText(left.segment, right.segment);
+  const byNameAndSize = (left: SnapshotSegment, right: SnapshotSegment) => (right.n ?? 0) - (left.n ?? 0) || compareText(left.segment, right.segment);
   const tested = segments.filter((segment) => segment.tested);
   const untested = segments.filter((segment) => !segment.tested);
   tested.sort((left, right) => {

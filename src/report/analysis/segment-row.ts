@@ -4,7 +4,7 @@
  */
 import type { Group, GroupStats } from '../../segments/index.js';
 import type { ReportDefinition } from '../definition/index.js';
-import type { SnapshotSegment } from '../shapes/index.js';
+import type { PublishedSegment } from '../shapes/index.js';
 import { valueOrNull } from './outcome.js';
 import { statisticNotes, type SegmentStatistics } from './segment-tests.js';
 
@@ -18,7 +18,7 @@ export function segmentLabel(dimensions: readonly string[], values: readonly str
 }
 
 /** The segment's row before adjustment, verdict and ranking (their fields hold placeholders until then). */
-export function segmentRow(group: Group, rest: GroupStats, statistics: SegmentStatistics, total: GroupStats, definition: ReportDefinition): SnapshotSegment {
+export function segmentRow(group: Group, rest: GroupStats, statistics: SegmentStatistics, total: GroupStats, definition: ReportDefinition): PublishedSegment {
   const rate = valueOrNull(statistics.rate);
   const difference = valueOrNull(statistics.difference);
   const lift = valueOrNull(statistics.lift);
@@ -62,6 +62,7 @@ export function segmentRow(group: Group, rest: GroupStats, statistics: SegmentSt
     min_detectable_diff: definition.rank_by === 'conversion_rate' ? rateMdd : valueOrNull(statistics.valueMdd),
     verdict: 'too_small',
     summary: '',
+    withheld_below: null,
     values,
     tested: statistics.tested,
     rest: {

@@ -21,9 +21,9 @@ export const SegmentRow = Type.Object({
   rank: nullable(Type.Integer(), { description: '1 = first; null for segments that were not tested (they are listed after the tested ones)' }),
   segment: Type.String({ description: 'dimension=value, joined by " & " for a two-way segment, e.g. age_band=25-34 & region=North' }),
   dimensions: Type.String({ description: 'the dimension names, joined by " & "' }),
-  n: Type.Integer(),
-  share: Type.Number({ description: 'n / population, a fraction' }),
-  conversions: Type.Integer(),
+  n: nullable(Type.Integer(), { description: 'units; null when the segment is withheld (see withheld_below)' }),
+  share: NullableNumber('n / population, a fraction; null when withheld'),
+  conversions: nullable(Type.Integer(), { description: 'null when withheld' }),
   conversion_rate: NullableNumber(),
   conversion_rate_ci_low: NullableNumber(),
   conversion_rate_ci_high: NullableNumber(),
@@ -47,6 +47,10 @@ export const SegmentRow = Type.Object({
   min_detectable_diff: NullableNumber('at 80% power, in the unit of the ranking metric: a rate difference (fraction) or money (major units)'),
   verdict: Verdict,
   summary: Type.String(),
+  withheld_below: nullable(Type.Integer(), {
+    description:
+      'null for a published segment; otherwise the publication threshold: the segment (or its rest) has fewer units than this, or its figures would let a smaller one be recovered by subtraction, so every figure is null and it is not tested',
+  }),
 });
 export type SegmentRow = Static<typeof SegmentRow>;
 
@@ -84,19 +88,19 @@ export const SnapshotSegment = Type.Object({
   ...SegmentRow.properties,
   values: Type.Record(Type.String(), Type.String()),
   tested: Type.Boolean(),
-  rest: RestFigures,
-  value_n: Type.Integer({ description: 'units behind value_mean: every unit (per_unit) or the converted ones (per_conversion)' }),
+  rest: nullable(RestFigures, { description: 'null when the segment is withheld' }),
+  value_n: nullable(Type.Integer(), { description: 'units behind value_mean: every unit (per_unit) or the converted ones (per_conversion); null when withheld' }),
   rate_z: NullableNumber(),
   value_t: NullableNumber(),
   value_degrees_of_freedom: NullableNumber(),
   effect_sizes: Type.Object({ cohens_h: NullableNumber(), hedges_g: NullableNumber() }),
-  sufficient_statistics: Type.Object(
-    {
+  sufficient_statistics: nullable(
+    Type.Object({
       n: Type.Integer(),
       conversions: Type.Integer(),
       value: Type.Object({ n: Type.Integer(), mean: Type.Number(), sum_squared_deviations: Type.Number() }),
-    },
-    { description: 'so a later snapshot can compare with this one' },
+    }),
+    { description: 'so a later snapshot can compare with this one; null when withheld' },
   ),
   previous_rank: nullable(Type.Integer()),
   rank_movement: nullable(Type.Integer(), { description: 'positive: moved up (towards rank 1) since the previous snapshot' }),
@@ -178,7 +182,9 @@ export type DataQuality = Static<typeof DataQuality>;
 export const HistogramFigure = Type.Object({
   rule: Type.String({ description: "how the number of bins was chosen: 'sturges', 'freedman-diaconis' or 'fixed'" }),
   bin_width: Type.Number(),
-  bins: Type.Array(Type.Object({ low: Type.Number(), high: Type.Number(), count: Type.Integer() })),
+  bins: Type.Array(
+    Type.Object({ low: Type.Number(), high: Type.Number(), count: nullable(Type.Integer(), { description: 'null when withheld: fewer units than the publication threshold' }) }),
+  ),
   note: nullable(Type.String(), { description: 'why the rule was not applied as asked (or all values are equal), or null' }),
 });
 export type HistogramFigure = Static<typeof HistogramFigure>;
@@ -247,6 +253,20 @@ const RowCounts = Type.Object({
 });
 export type RowCounts = Static<typeof RowCounts>;
 
+/** What the publication threshold withheld from a snapshot (Hundepool et al. 2012, small-cell suppression). */
+export const Disclosure = Type.Object({
+  threshold: Type.Integer({ description: 'no published figure describes fewer units than this' }),
+  withheld_segments: Type.Integer(),
+  withheld_dimension_values: Type.Integer({ description: 'dimension values left out of the dimension profiles' }),
+  withheld_histogram_bars: Type.Integer(),
+  withheld_grid_cells: Type.Integer({ description: 'cells of the age × value grid left out' }),
+  withheld_reversals: Type.Integer(),
+  redacted_at: nullable(Type.String({ format: 'date-time' }), {
+    description: 'when an erasure last removed from this stored snapshot the labels of withheld segments the erased customer belonged to; null if never',
+  }),
+});
+export type Disclosure = Static<typeof Disclosure>;
+
 export const SnapshotTrigger = Type.Unsafe<'manual' | 'schedule' | 'command'>({ type: 'string', enum: ['manual', 'schedule', 'command'] });
 
 /** The whole snapshot, as stored and as `GET …/snapshots/{id}` returns it. */
@@ -270,8 +290,24 @@ export const Snapshot = Type.Object({
   reversals: Type.Array(Reversal),
   comparison: Comparison,
   data_quality: DataQuality,
+  disclosure: Type.Optional(Disclosure),
 });
 export type Snapshot = Static<typeof Snapshot>;
+
+/** A segment whose figures are published: every count is there. */
+export type PublishedSegment = SnapshotSegment & {
+  n: number;
+  share: number;
+  conversions: number;
+  value_n: number;
+  rest: RestFigures;
+  sufficient_statistics: NonNullable<SnapshotSegment['sufficient_statistics']>;
+};
+
+/** Whether the segment's figures are published (not withheld by the publication threshold). */
+export function isPublished(segment: SnapshotSegment): segment is PublishedSegment {
+  return segment.withheld_below === null && segment.n !== null && segment.rest !== null && segment.sufficient_statistics !== null;
+}
 
 /** The flat row of a snapshot segment, fields in the fixed order. */
 export function toSegmentRow(segment: SegmentRow): SegmentRow {

@@ -22,6 +22,8 @@ import { fingerprintOf } from './fingerprint.js';
 import type { SnapshotInput } from './input.js';
 import { dataQualityOf, populationFigures } from './population.js';
 import { dimensionProfiles } from './profiles.js';
+import { withholdSnapshot } from './withholding.js';
+import { DEFAULT_PUBLICATION_THRESHOLD } from '../../config.js';
 
 /**
  * Computes a whole snapshot (all but `duration_ms`, which the caller measures).
@@ -35,7 +37,10 @@ export function buildSnapshot(input: SnapshotInput): Snapshot {
   const basis = definition.value_basis;
   const cellGroups = input.cells.map((cell) => ({ labels: cell.labels, stats: cellStats(cell, input.shifts) }));
   const { total, segments: groups } = rollUp(cellGroups, definition.dimensions, definition.crosses);
-  const settings = { confidence: definition.confidence, minN: definition.min_n, valueBasis: basis };
+  const threshold = input.publicationThreshold ?? DEFAULT_PUBLICATION_THRESHOLD;
+  // A segment below the publication threshold is withheld, so it is not tested either: the
+  // adjustment's family then holds only segments whose figures can be shown.
+  const settings = { confidence: definition.confidence, minN: Math.max(definition.min_n, threshold), valueBasis: basis };
 
   const analysed = groups.map((group) => {
     const rest = subtractGroup(total, group.stats);
@@ -97,7 +102,7 @@ export function buildSnapshot(input: SnapshotInput): Snapshot {
   const population = populationFigures(input, total, definition);
   const testedCount = segments.filter((segment) => segment.tested).length;
 
-  return {
+  return withholdSnapshot({
     snapshot_id: input.identity.snapshotId,
     report_id: input.identity.reportId,
     report_name: input.identity.reportName,
@@ -133,5 +138,5 @@ export function buildSnapshot(input: SnapshotInput): Snapshot {
     reversals,
     comparison,
     data_quality: dataQualityOf(input, total, definition),
-  };
+  }, threshold);
 }

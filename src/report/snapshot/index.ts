@@ -4,6 +4,7 @@
  */
 export { buildSnapshot } from './build.js';
 export type { SnapshotInput } from './input.js';
+export { redactStoredSnapshots } from './redaction.js';
 export {
   MAX_EXPANDED_VALUES,
   ageValueGridAxes,
@@ -16,6 +17,7 @@ export {
 export {
   ReportNotFoundError,
   SnapshotNotFoundError,
+  TooManyLabelsError,
   createReport,
   getReport,
   getSnapshotBody,

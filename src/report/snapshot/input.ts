@@ -41,4 +41,6 @@ export interface SnapshotInput {
   /** sales reports: the window of the same length just before this one */
   previousWindow: PreviousWindow | null;
   previousSnapshot: Snapshot | null;
+  /** No published figure describes fewer units than this (withholding.ts); the service's setting, 10 when absent. */
+  publicationThreshold?: number;
 }

@@ -9,6 +9,7 @@ import type { Database, ReportsTable, SnapshotTrigger } from '../../db/tables.js
 import type { Logger } from '../../logger.js';
 import {
   gridCountsOf,
+  labelCounts,
   shiftsAndCellAggregates,
   sourceQuality,
   valueCountsByAgeBin,
@@ -21,8 +22,9 @@ import {
 } from '../../segments/index.js';
 import type { PreviousWindow } from '../analysis/index.js';
 import { buildSnapshot } from './build.js';
-import { normalizeDefinition, type ReportDefinition } from '../definition/index.js';
+import { InvalidDefinitionError, normalizeDefinition, type ReportDefinition } from '../definition/index.js';
 import { ageGridAxis, ageValueGridAxes, isExpandable } from './profiles.js';
+import { storedTextIsWithheldAt, withholdSnapshot } from './withholding.js';
 import * as repository from '../store/index.js';
 import { renderSegmentTable, type RenderedTable, type SegmentTableCache, type TableFormat } from '../../present/index.js';
 import type { Report, Snapshot } from '../shapes/index.js';
@@ -35,11 +37,26 @@ export interface ReportDependencies {
   readDb: Kysely<Database>;
   logger: Logger;
   now: () => Date;
+  /** No published figure describes fewer units than this (withholding.ts). */
+  publicationThreshold: number;
+  /** Most distinct labels a dimension of a report may have. */
+  maxLabelsPerDimension: number;
 }
 
-/** The dependencies of the report functions, from an open database, a logger and a clock. */
-export function reportDependencies(database: DatabaseHandle, logger: Logger, now: () => Date): ReportDependencies {
-  return { dialect: database.dialect, db: database.db, readDb: database.readDb, logger, now };
+export type ReportLimits = Pick<ReportDependencies, 'publicationThreshold' | 'maxLabelsPerDimension'>;
+
+/** The dependencies of the report functions, from an open database, a logger, a clock and the report settings. */
+export function reportDependencies(database: DatabaseHandle, logger: Logger, now: () => Date, limits: ReportLimits): ReportDependencies {
+  return { dialect: database.dialect, db: database.db, readDb: database.readDb, logger, now, ...limits };
+}
+
+/**
+ * Stored snapshot text as it may be served: withheld at the current threshold. Snapshots
+ * stored before withholding existed, or under a lower threshold, are withheld as they are read.
+ */
+function publishedText(body: string, threshold: number): string {
+  if (storedTextIsWithheldAt(body, threshold)) return body;
+  return JSON.stringify(withholdSnapshot(JSON.parse(body) as Snapshot, threshold));
 }
 
 /** A saved report as the API returns it: its definition, id, creation time and latest snapshot. */
@@ -78,7 +95,30 @@ async function toResource(db: Kysely<Database>, row: ReportsTable): Promise<Repo
 }
 
 /**
- * Checks and saves a report definition.
+ * A dimension of a report has more distinct labels than `MAX_LABELS_PER_DIMENSION`: its
+ * segments would be many, tiny and mostly withheld, and the snapshot and page huge.
+ */
+export class TooManyLabelsError extends Error {
+  override name = 'TooManyLabelsError';
+  constructor(
+    readonly reportId: string,
+    readonly dimensions: ReadonlyArray<{ dimension: string; labels: number }>,
+    readonly limit: number,
+  ) {
+    super(
+      `${dimensions.map(({ dimension, labels }) => `dimension ${dimension} has ${labels} distinct labels`).join('; ')} in the report's population, more than the ${limit} a dimension may have (MAX_LABELS_PER_DIMENSION); remove it from the report's dimensions or group its labels before uploading`,
+    );
+  }
+}
+
+/** The dimensions with more labels than the limit, from their counts in definition order. */
+function dimensionsOverLimit(dimensions: readonly string[], counts: readonly number[], limit: number): Array<{ dimension: string; labels: number }> {
+  return dimensions.flatMap((dimension, index) => ((counts[index] ?? 0) > limit ? [{ dimension, labels: counts[index] as number }] : []));
+}
+
+/**
+ * Checks and saves a report definition. A dimension that already has more labels in the
+ * report's population than the limit is refused here, where the data can tell.
  * @throws InvalidDefinitionError listing every problem of the body
  */
 export async function createReport(deps: ReportDependencies, body: unknown): Promise<ReportResource> {
@@ -86,6 +126,16 @@ export async function createReport(deps: ReportDependencies, body: unknown): Pro
     missingCampaigns: (ids) => repository.missingCampaigns(deps.readDb, ids),
     missingAttributes: (names) => repository.missingAttributes(deps.readDb, names),
   });
+  const counts = await labelCounts(deps.readDb, { source: populationSource(definition), dimensions: definition.dimensions, ageEdges: definition.age_bands });
+  const over = dimensionsOverLimit(definition.dimensions, counts, deps.maxLabelsPerDimension);
+  if (over.length > 0) {
+    throw new InvalidDefinitionError(
+      over.map(({ dimension, labels }) => ({
+        field: `body/dimensions/${definition.dimensions.indexOf(dimension)}`,
+        reason: `${dimension} has ${labels} distinct labels in this report's population, more than the ${deps.maxLabelsPerDimension} a dimension may have (MAX_LABELS_PER_DIMENSION)`,
+      })),
+    );
+  }
   const row: ReportsTable = {
     report_id: randomUUID(),
     name: definition.name,
@@ -149,6 +199,10 @@ function valueDistributionScope(cells: readonly CellAggregate[], definition: Rep
   return scope;
 }
 
+function distinctLabels(cells: readonly CellAggregate[], dimensionCount: number): number[] {
+  return Array.from({ length: dimensionCount }, (_unused, index) => new Set(cells.map((cell) => cell.labels[index])).size);
+}
+
 // One refresh at a time per report in this process, so each snapshot compares with the one before it.
 const refreshesInFlight = new Map<string, Promise<unknown>>();
 
@@ -182,6 +236,10 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   if (deps.dialect === 'postgres') transaction = transaction.setIsolationLevel('repeatable read');
   const data = await transaction.execute(async (trx) => {
     const { shifts, cells, ageCounts, unconvertedByAge, arithmetic } = await shiftsAndCellAggregates(trx, request);
+    // The data may have grown since the definition was saved: checked on the cells, before any
+    // segment is built, so a dimension of thousands of labels costs one query, not a snapshot.
+    const over = dimensionsOverLimit(definition.dimensions, distinctLabels(cells, definition.dimensions.length), deps.maxLabelsPerDimension);
+    if (over.length > 0) throw new TooManyLabelsError(reportId, over, deps.maxLabelsPerDimension);
     const valueCounts = await valueDistribution(trx, request, valueDistributionScope(cells, definition), cells);
     const ageAxis = ageGridAxis(ageCounts);
     const valuesByAgeBin = await valueCountsByAgeBin(trx, request, ageAxis, unconvertedByAge);
@@ -201,7 +259,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   const queriesDone = performance.now();
 
   const previousBody = await repository.findSnapshotBody(deps.readDb, reportId, 'latest');
-  const previousSnapshot = previousBody === undefined ? null : (JSON.parse(previousBody) as Snapshot);
+  const previousSnapshot = previousBody === undefined ? null : (JSON.parse(publishedText(previousBody, deps.publicationThreshold)) as Snapshot);
   const snapshotId = randomUUID();
   let sequence = await repository.nextSnapshotSequence(deps.db, reportId);
   const snapshot = buildSnapshot({
@@ -209,6 +267,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
     definition,
     ...data,
     previousSnapshot,
+    publicationThreshold: deps.publicationThreshold,
   });
   const computed = performance.now();
   snapshot.duration_ms = Math.round(computed - started);
@@ -228,6 +287,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
         duration_ms: snapshot.duration_ms,
         trigger,
         body: JSON.stringify(snapshot),
+        redacted_at: null,
       });
       break;
     } catch (error) {
@@ -271,7 +331,8 @@ export async function listSnapshots(deps: ReportDependencies, reportId: string, 
 export async function getSnapshotBody(deps: ReportDependencies, reportId: string, snapshotId: string): Promise<string | undefined> {
   const row = await repository.findReport(deps.readDb, reportId);
   if (!row) throw new ReportNotFoundError(reportId);
-  return repository.findSnapshotBody(deps.readDb, reportId, snapshotId);
+  const body = await repository.findSnapshotBody(deps.readDb, reportId, snapshotId);
+  return body === undefined ? undefined : publishedText(body, deps.publicationThreshold);
 }
 
 /**
@@ -285,14 +346,16 @@ export async function segmentTable(
   snapshotId: string,
   format: TableFormat,
 ): Promise<RenderedTable | undefined> {
-  const resolvedId = snapshotId === 'latest' ? await repository.latestSnapshotId(deps.readDb, reportId) : snapshotId;
-  if (resolvedId === undefined) return undefined;
-  const cached = cache.get(reportId, resolvedId, format);
+  // An erasure may redact a stored snapshot, so a rendered table is kept per version of the body.
+  const version = await repository.snapshotVersion(deps.readDb, reportId, snapshotId);
+  if (version === undefined) return undefined;
+  const versionKey = `${version.snapshot_id}@${version.redacted_at ?? ''}`;
+  const cached = cache.get(reportId, versionKey, format);
   if (cached) return cached;
-  const stored = await repository.findSnapshotBody(deps.readDb, reportId, resolvedId);
+  const stored = await repository.findSnapshotBody(deps.readDb, reportId, version.snapshot_id);
   if (stored === undefined) return undefined;
-  const table = renderSegmentTable(JSON.parse(stored) as Snapshot, format);
-  cache.set(reportId, format, table);
+  const table = renderSegmentTable(JSON.parse(publishedText(stored, deps.publicationThreshold)) as Snapshot, format);
+  cache.set(reportId, format, table, versionKey);
   return table;
 }
 

@@ -5,7 +5,6 @@ export {
   findSnapshotBody,
   insertReport,
   insertSnapshot,
-  latestSnapshotId,
   latestSnapshotMeta,
   listReportIdsByRefresh,
   listReports,
@@ -13,5 +12,8 @@ export {
   missingAttributes,
   missingCampaigns,
   nextSnapshotSequence,
+  replaceRedactedBody,
+  snapshotBodies,
+  snapshotVersion,
   type SnapshotMeta,
 } from './repository.js';

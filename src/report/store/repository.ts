@@ -57,7 +57,7 @@ export async function missingAttributes(db: Executor, names: string[]): Promise<
   return missing;
 }
 
-export type SnapshotMeta = Omit<ReportSnapshotsTable, 'body'>;
+export type SnapshotMeta = Omit<ReportSnapshotsTable, 'body' | 'redacted_at'>;
 
 const META_COLUMNS = ['snapshot_id', 'report_id', 'sequence', 'created_at', 'fingerprint', 'population_rows', 'segment_count', 'duration_ms', 'trigger'] as const;
 
@@ -96,23 +96,42 @@ export async function latestSnapshotMeta(db: Executor, reportId: string): Promis
   return row ? toMeta(row) : undefined;
 }
 
-/**
- * The id of a report's newest snapshot, or undefined when it has none. Asked on every BI pull
- * of `latest`: on SQLite it runs as one cached prepared statement (through kysely it was
- * compiled and prepared again each time, about a fifth of a pull's CPU).
- */
-export async function latestSnapshotId(db: Kysely<Database>, reportId: string): Promise<string | undefined> {
-  const connection = sqliteConnectionOf(db);
-  if (connection === null) return (await latestSnapshotMeta(db, reportId))?.snapshot_id;
-  return prepared(connection, 'select snapshot_id from report_snapshots where report_id = ? order by sequence desc limit 1', 'first column').get(reportId) as string | undefined;
-}
-
 /** The body of one snapshot (`latest` for the newest); undefined when there is none. */
 export async function findSnapshotBody(db: Executor, reportId: string, snapshotId: string): Promise<string | undefined> {
   let query = db.selectFrom('report_snapshots').select('body').where('report_id', '=', reportId);
   query = snapshotId === 'latest' ? query.orderBy('sequence', 'desc').limit(1) : query.where('snapshot_id', '=', snapshotId);
   const row = await query.executeTakeFirst();
   return row?.body;
+}
+
+/**
+ * The id of a snapshot (`latest` for the newest) with the time an erasure last redacted it,
+ * which together name one version of its body; undefined when there is none. The `latest`
+ * look-up runs on every BI pull: on SQLite as one cached prepared statement.
+ */
+export async function snapshotVersion(db: Kysely<Database>, reportId: string, snapshotId: string): Promise<{ snapshot_id: string; redacted_at: string | null } | undefined> {
+  const connection = sqliteConnectionOf(db);
+  if (connection !== null) {
+    const text =
+      snapshotId === 'latest'
+        ? 'select snapshot_id, redacted_at from report_snapshots where report_id = ? order by sequence desc limit 1'
+        : 'select snapshot_id, redacted_at from report_snapshots where report_id = ? and snapshot_id = ?';
+    const parameters = snapshotId === 'latest' ? [reportId] : [reportId, snapshotId];
+    return prepared(connection, text).get(...parameters) as { snapshot_id: string; redacted_at: string | null } | undefined;
+  }
+  let query = db.selectFrom('report_snapshots').select(['snapshot_id', 'redacted_at']).where('report_id', '=', reportId);
+  query = snapshotId === 'latest' ? query.orderBy('sequence', 'desc').limit(1) : query.where('snapshot_id', '=', snapshotId);
+  return query.executeTakeFirst();
+}
+
+/** Every snapshot of a report with its body, oldest first (erasure rewrites them one by one). */
+export async function snapshotBodies(db: Executor, reportId: string): Promise<Array<{ snapshot_id: string; body: string }>> {
+  return db.selectFrom('report_snapshots').select(['snapshot_id', 'body']).where('report_id', '=', reportId).orderBy('sequence').execute();
+}
+
+/** Replaces a snapshot's body after an erasure redacted it. */
+export async function replaceRedactedBody(db: Executor, snapshotId: string, body: string, redactedAt: string): Promise<void> {
+  await db.updateTable('report_snapshots').set({ body, redacted_at: redactedAt }).where('snapshot_id', '=', snapshotId).execute();
 }
 
 /** The sequence number the next snapshot of a report takes: one more than the highest so far. */

@@ -24,6 +24,8 @@ export interface ReportSummaryInput {
   familySize: number;
   top: SnapshotSegment | null;
   reversals: number;
+  /** segments withheld by the publication threshold (counted among the too-small ones), and that threshold */
+  withheld?: { segments: number; threshold: number };
 }
 
 const ADJUSTMENT_NAMES: Record<ReportDefinition['adjustment'], string> = {
@@ -59,6 +61,12 @@ export function reportSummary(input: ReportSummaryInput): string {
     ` ${formatCount(counts.better)} do better, ${formatCount(counts.worse)} do worse, ${formatCount(counts.no_detectable_difference)} show no detectable difference and ${formatCount(counts.inconclusive)} are inconclusive;`,
     ` ${formatCount(counts.too_small)} have fewer than ${formatCount(definition.min_n)} ${words.units} (or leave fewer than that outside) and were not tested.`,
   ];
+  if (input.withheld !== undefined && input.withheld.segments > 0) {
+    const threshold = formatCount(input.withheld.threshold);
+    parts.push(
+      ` Of the segments not tested, ${formatCount(input.withheld.segments)} are shown without figures: they describe fewer than ${threshold} ${words.units}, or their figures would let such a group be recovered by subtraction.`,
+    );
+  }
   if (input.top !== null && input.top.rank === 1) {
     const view = metricView(input.top, definition.rank_by, words);
     if (view.estimate !== null) {

@@ -6,7 +6,7 @@
  */
 import { formatConfidence, formatCount, formatPoints, formatPValue, formatRank, formatRatio, formatSignedMoney } from './format.js';
 import type { ReportDefinition } from '../definition/index.js';
-import type { SnapshotSegment, Verdict } from '../shapes/index.js';
+import { isPublished, type PublishedSegment, type SnapshotSegment, type Verdict } from '../shapes/index.js';
 import { metricView, type MetricView } from './metric-view.js';
 import { describeSegment, type Vocabulary } from './vocabulary.js';
 
@@ -42,7 +42,7 @@ function against(view: MetricView): string {
 }
 
 /** Why a figure is missing, in words without numbers of their own. */
-function missingReason(segment: SnapshotSegment, metric: ReportDefinition['rank_by'], words: Vocabulary): string {
+function missingReason(segment: PublishedSegment, metric: ReportDefinition['rank_by'], words: Vocabulary): string {
   if (metric === 'conversion_rate') {
     if (segment.rate_p_value === null) return 'The rates could not be compared.';
     return '';
@@ -53,7 +53,7 @@ function missingReason(segment: SnapshotSegment, metric: ReportDefinition['rank_
   return '';
 }
 
-function liftClause(segment: SnapshotSegment, metric: ReportDefinition['rank_by']): string {
+function liftClause(segment: PublishedSegment, metric: ReportDefinition['rank_by']): string {
   if (metric !== 'conversion_rate') return '';
   if (segment.lift !== null) return ` That is ${formatRatio(segment.lift)} times the rest's rate.`;
   if (segment.rest.conversions === 0) return " The lift cannot be computed: the rest has no conversions to divide by.";
@@ -73,7 +73,7 @@ function familyPhrase(context: SentenceContext, metric: ReportDefinition['rank_b
     : `after allowing for the ${formatCount(context.familySizes[metric])} segments tested`;
 }
 
-function mainSentence(segment: SnapshotSegment, context: SentenceContext): string {
+function mainSentence(segment: PublishedSegment, context: SentenceContext): string {
   const metric = context.definition.rank_by;
   const words = context.vocabulary;
   const view = metricView(segment, metric, words);
@@ -116,7 +116,7 @@ function mainSentence(segment: SnapshotSegment, context: SentenceContext): strin
   return `${opening}${missing ? ` ${missing}` : ''}${liftClause(segment, metric)}${notReliable}${detectable}`;
 }
 
-function secondarySentence(segment: SnapshotSegment, context: SentenceContext): string {
+function secondarySentence(segment: PublishedSegment, context: SentenceContext): string {
   if (!segment.tested) return '';
   const alpha = 1 - context.definition.confidence;
   const other = context.definition.rank_by === 'conversion_rate' ? 'value' : 'conversion_rate';
@@ -126,7 +126,7 @@ function secondarySentence(segment: SnapshotSegment, context: SentenceContext): 
   return ` Its ${view.name} is also ${direction}: ${view.level(view.estimate)} against ${view.level(view.rest)} for the rest (${adjustedPhrase(view, context)}).`;
 }
 
-function changeSentence(segment: SnapshotSegment, context: SentenceContext): string {
+function changeSentence(segment: PublishedSegment, context: SentenceContext): string {
   const change = segment.change;
   if (change === null) return '';
   const since = change.compared_with === 'previous_window' ? 'the previous window of the same length' : 'the previous snapshot';
@@ -157,13 +157,13 @@ const JUMP_PLACES = 3;
 const LITTLE_DATA_MULTIPLE_OF_MIN_N = 10;
 
 /** Whether a segment rose into the top ranks on little data (see the thresholds above). */
-function jumpedOnLittleData(segment: SnapshotSegment, context: SentenceContext): boolean {
+function jumpedOnLittleData(segment: PublishedSegment, context: SentenceContext): boolean {
   if (!context.hasPreviousSnapshot || segment.rank === null || segment.rank > TOP_RANKS_WATCHED) return false;
   if (segment.n >= LITTLE_DATA_MULTIPLE_OF_MIN_N * context.definition.min_n) return false;
   return segment.previous_rank === null || segment.previous_rank - segment.rank >= JUMP_PLACES;
 }
 
-function rankSentence(segment: SnapshotSegment, context: SentenceContext): string {
+function rankSentence(segment: PublishedSegment, context: SentenceContext): string {
   if (!context.hasPreviousSnapshot || segment.rank === null) return '';
   let sentence = '';
   if (segment.previous_rank === null) sentence = ` It is new in the ranking at rank ${formatRank(segment.rank)}.`;
@@ -175,6 +175,16 @@ function rankSentence(segment: SnapshotSegment, context: SentenceContext): strin
 }
 
 /**
+ * A withheld segment is described without a single figure: neither how many it holds nor
+ * how they did, only that it is below the publication threshold or withheld beside one.
+ */
+function withheldSentence(segment: SnapshotSegment, context: SentenceContext): string {
+  const who = capitalize(describeSegment(segment.values));
+  const threshold = formatCount(segment.withheld_below ?? 0);
+  return `${who}: figures withheld. It has fewer than ${threshold} ${context.vocabulary.units} (or leaves fewer than ${threshold} outside it), or its figures would let such a group be recovered by subtraction; no published figure describes fewer than ${threshold} ${context.vocabulary.units}.`;
+}
+
+/**
  * The `summary` of one segment: its verdict in words with the figures behind it, what the
  * data could have detected when the answer is not clear, and any change since last time.
  * @example
@@ -182,5 +192,6 @@ function rankSentence(segment: SnapshotSegment, context: SentenceContext): strin
  * // 'Region North has a higher conversion rate than the rest: 18.2% (95% CI 15.1% to 21.6%) against 10.3% for the rest, …'
  */
 export function segmentSummary(segment: SnapshotSegment, context: SentenceContext): string {
+  if (!isPublished(segment)) return withheldSentence(segment, context);
   return `${mainSentence(segment, context)}${secondarySentence(segment, context)}${changeSentence(segment, context)}${rankSentence(segment, context)}`;
 }

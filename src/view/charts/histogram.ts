@@ -13,7 +13,8 @@ import { niceScale } from './scale.js';
 export interface HistogramData {
   rule: 'sturges' | 'freedman-diaconis' | 'fixed' | string;
   bin_width: number;
-  bins: ReadonlyArray<{ low: number; high: number; count: number }>;
+  /** a null count is a bar withheld by the publication threshold: not drawn, listed as withheld */
+  bins: ReadonlyArray<{ low: number; high: number; count: number | null }>;
   /** why the rule was not applied as asked, or null */
   note: string | null;
 }
@@ -53,15 +54,16 @@ export function binRuleSentence(data: HistogramData, unit: string, format: (valu
 }
 
 export function histogramSpec(data: HistogramData, subject: HistogramSubject): TopLevelSpec {
+  const shown = data.bins.filter((bin): bin is { low: number; high: number; count: number } => bin.count !== null);
   const counts = niceScale(
-    data.bins.map((bin) => bin.count),
+    shown.map((bin) => bin.count),
     0,
     5,
   );
   return {
     width: 380,
     height: 190,
-    data: { values: data.bins.map((bin) => ({ ...bin })) },
+    data: { values: shown.map((bin) => ({ ...bin })) },
     layer: [
       {
         name: 'bins',
@@ -84,8 +86,12 @@ export function histogramSpec(data: HistogramData, subject: HistogramSubject): T
  * const figure = await histogramChart(data, { id: 'age-histogram', name: 'age', unit: 'years', unitsWord: 'customers', format: String, leftOut: '' });
  */
 export async function histogramChart(data: HistogramData, subject: HistogramSubject): Promise<ChartFigure> {
-  const total = data.bins.reduce((sum, bin) => sum + bin.count, 0);
-  const fullest = data.bins.reduce<HistogramData['bins'][number] | null>((best, bin) => (best === null || bin.count > best.count ? bin : best), null);
+  const shown = data.bins.filter((bin): bin is { low: number; high: number; count: number } => bin.count !== null);
+  const withheld = data.bins.length - shown.length;
+  const total = shown.reduce((sum, bin) => sum + bin.count, 0);
+  const fullest = shown.reduce<(typeof shown)[number] | null>((best, bin) => (best === null || bin.count > best.count ? bin : best), null);
+  const withheldSentence =
+    withheld === 0 ? '' : ` ${formatCount(withheld)} bar${withheld === 1 ? ' is' : 's are'} withheld and not drawn: too few ${subject.unitsWord} to show on their own.`;
   const first = data.bins[0];
   const last = data.bins[data.bins.length - 1];
   return {
@@ -93,13 +99,13 @@ export async function histogramChart(data: HistogramData, subject: HistogramSubj
     heading: `Histogram of ${subject.name}`,
     svg: await renderChart(histogramSpec(data, subject)),
     wide: false,
-    label: `Histogram of ${subject.name} over ${formatCount(total)} ${subject.unitsWord}${
+    label: `Histogram of ${subject.name} over ${formatCount(total)} ${subject.unitsWord}${withheld === 0 ? '' : ' shown'}${
       first && last ? `, from ${subject.format(first.low)} to ${subject.format(last.high)} ${subject.unit}` : ''
     }, in ${data.bins.length} bins${fullest ? `; the fullest bin is ${subject.format(fullest.low)} to ${subject.format(fullest.high)} with ${formatCount(fullest.count)}` : ''}.`,
-    caption: html`${binRuleSentence(data, subject.unit, subject.format)}${subject.leftOut ? ` ${subject.leftOut}` : ''}`,
+    caption: html`${binRuleSentence(data, subject.unit, subject.format)}${subject.leftOut ? ` ${subject.leftOut}` : ''}${withheldSentence}`,
     data: {
       columns: [`from (${subject.unit})`, `to (${subject.unit})`, subject.unitsWord],
-      rows: data.bins.map((bin) => [subject.format(bin.low), subject.format(bin.high), formatCount(bin.count)]),
+      rows: data.bins.map((bin) => [subject.format(bin.low), subject.format(bin.high), bin.count === null ? 'withheld' : formatCount(bin.count)]),
     },
   };
 }

@@ -5,7 +5,7 @@
  */
 import type { TopLevelSpec } from 'vega-lite';
 import { formatCount, formatPValue, formatRank } from '../../report/wording/index.js';
-import type { Snapshot, Verdict } from '../../report/shapes/index.js';
+import { isPublished, type PublishedSegment, type Snapshot, type Verdict } from '../../report/shapes/index.js';
 import type { ChartFigure } from '../figure.js';
 import { html } from '../html.js';
 import { confidenceLabel, rankingMetric } from '../metric.js';
@@ -41,7 +41,7 @@ export function intervalRows(snapshot: Snapshot): IntervalRow[] {
   const metric = rankingMetric(snapshot.definition);
   const drawn = (value: number | null) => (value === null ? null : value * metric.drawnScale);
   return snapshot.segments
-    .filter((segment) => segment.tested && segment.rank !== null)
+    .filter((segment): segment is PublishedSegment => segment.tested && segment.rank !== null && isPublished(segment))
     .sort((left, right) => (left.rank as number) - (right.rank as number))
     .map((segment) => {
       const difference = metric.differenceOf(segment);
