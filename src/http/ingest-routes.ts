@@ -60,12 +60,12 @@ export const ingestRoutes: FastifyPluginAsync<IngestDependencies> = async (app, 
 
   app.post('/v1/customers', { schema: { querystring: uploadQuerySchema, response: uploadResponses } }, async (request, reply) => {
     const { receipt, replayed } = await upload(request, 'customers', null);
-    return reply.code(replayed ? 200 : 201).header('location', `/v1/ingests/${receipt.ingest_id}`).header('idempotent-replayed', String(replayed)).send(receipt);
+    return reply.code(replayed ? 200 : 201).header('location', `/v1/ingests/${receipt.ingest_id}`).header('segrank-receipt-replayed', String(replayed)).send(receipt);
   });
 
   app.post('/v1/sales', { schema: { querystring: uploadQuerySchema, response: uploadResponses } }, async (request, reply) => {
     const { receipt, replayed } = await upload(request, 'sales', null);
-    return reply.code(replayed ? 200 : 201).header('location', `/v1/ingests/${receipt.ingest_id}`).header('idempotent-replayed', String(replayed)).send(receipt);
+    return reply.code(replayed ? 200 : 201).header('location', `/v1/ingests/${receipt.ingest_id}`).header('segrank-receipt-replayed', String(replayed)).send(receipt);
   });
 
   app.post(
@@ -82,7 +82,7 @@ export const ingestRoutes: FastifyPluginAsync<IngestDependencies> = async (app, 
       // Surrounding spaces are dropped as in every other identifier, so spaces alone name nothing.
       if (campaignId.trim() === '') throw new Problem('invalid-request', 'campaign_id must not be blank');
       const { receipt, replayed } = await upload(request, 'contacts', campaignId.trim());
-      return reply.code(replayed ? 200 : 201).header('location', `/v1/ingests/${receipt.ingest_id}`).header('idempotent-replayed', String(replayed)).send(receipt);
+      return reply.code(replayed ? 200 : 201).header('location', `/v1/ingests/${receipt.ingest_id}`).header('segrank-receipt-replayed', String(replayed)).send(receipt);
     },
   );
 

@@ -5,26 +5,10 @@
 import type { Kysely } from 'kysely';
 import type { Database } from '../db/tables.js';
 import * as repository from './repository.js';
-import { toReceipt, type Receipt } from './service.js';
+import type { Receipt, RejectedRowsPage } from './receipt.js';
+import { toReceipt } from './service.js';
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/;
-
-interface RejectedRow {
-  row: number;
-  line: number;
-  column: string | null;
-  value: string | null;
-  reason: string;
-}
-
-export interface RejectedRowsPage {
-  ingest_id: string;
-  /** every row the upload rejected, not only this page's */
-  total: number;
-  limit: number;
-  offset: number;
-  rows: RejectedRow[];
-}
 
 async function findIngest(db: Kysely<Database>, ingestId: string) {
   return UUID.test(ingestId) ? repository.findIngest(db, ingestId) : undefined;

@@ -12,6 +12,7 @@ import { sqliteConnectionOf } from '../db/connect.js';
 import type { Database, IngestKind, IngestsTable, OnError, RejectedRowsTable } from '../db/tables.js';
 import { contactsKind, customersKind, salesKind, type PendingRow, type UploadKind } from './kinds.js';
 import { DEFAULT_PARSE_LIMITS, parseRecords, type ParsedRecord, type UploadFormat } from './parse.js';
+import type { Receipt } from './receipt.js';
 import * as repository from './repository.js';
 import type { RowError } from './row-checks.js';
 
@@ -36,23 +37,6 @@ export interface UploadRequest {
   contentType: string;
   onError: OnError;
   idempotencyKey: string | null;
-}
-
-export interface Receipt {
-  ingest_id: string;
-  kind: IngestKind;
-  campaign_id: string | null;
-  on_error: OnError;
-  content_type: string;
-  rows: number;
-  inserted: number;
-  updated: number;
-  unchanged: number;
-  rejected: number;
-  sha256: string;
-  idempotency_key: string | null;
-  received_at: string;
-  duration_ms: number;
 }
 
 export interface RowProblem extends RowError {

@@ -255,12 +255,12 @@ describe.each(TEST_DIALECTS)('Idempotency-Key on %s', (dialect) => {
     const testApp = await startApp(dialect);
     const first = await upload(testApp.app, '/v1/customers', CSV, body, withKey('weekly-2026-24'));
     expect(first.statusCode).toBe(201);
-    expect(first.headers['idempotent-replayed']).toBe('false');
+    expect(first.headers['segrank-receipt-replayed']).toBe('false');
     const before = await countRows(testApp);
 
     const second = await upload(testApp.app, '/v1/customers', CSV, body, withKey('weekly-2026-24'));
     expect(second.statusCode).toBe(200);
-    expect(second.headers['idempotent-replayed']).toBe('true');
+    expect(second.headers['segrank-receipt-replayed']).toBe('true');
     expect(second.json()).toEqual(first.json());
     expect(receiptOf(second)).toMatchObject({ idempotency_key: 'weekly-2026-24', inserted: 1 });
     expect(second.headers['location']).toBe(first.headers['location']);
