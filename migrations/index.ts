@@ -7,10 +7,12 @@ import * as records from './0001_records.js';
 import * as reports from './0002_reports.js';
 import * as apiKeys from './0003_api_keys.js';
 import * as contactDimensions from './0004_contact_dimensions.js';
+import * as receiptNotes from './0005_receipt_notes.js';
 
 export const migrations: Record<string, Migration> = {
   '0001_records': records,
   '0002_reports': reports,
   '0003_api_keys': apiKeys,
   '0004_contact_dimensions': contactDimensions,
+  '0005_receipt_notes': receiptNotes,
 };

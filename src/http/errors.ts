@@ -5,6 +5,7 @@
  * without internals in the body.
  */
 import type { FastifyError, FastifyInstance, FastifyReply, FastifyRequest } from 'fastify';
+import { InvalidColumnsError } from '../ingest/header-check.js';
 import { MalformedBodyError } from '../ingest/parse.js';
 import {
   EmptyUploadError,
@@ -35,6 +36,11 @@ function domainProblem(error: unknown): Problem | null {
         value: problem.value,
         reason: problem.reason,
       })),
+    });
+  }
+  if (error instanceof InvalidColumnsError) {
+    return new Problem('invalid-columns', `line ${error.line}: ${error.message}`, {
+      errors: error.issues.map((issue) => ({ row: null, line: error.line, column: issue.column, value: null, reason: issue.reason, suggestion: issue.suggestion })),
     });
   }
   if (error instanceof MalformedBodyError) {
@@ -70,10 +76,18 @@ function domainProblem(error: unknown): Problem | null {
 function frameworkProblem(error: unknown): Problem | null {
   const fastifyError = error as Partial<FastifyError> & { validation?: unknown[] };
   if (fastifyError.validation) {
-    return new Problem('invalid-request', fastifyError.message ?? 'the request is not valid', {
-      errors: (fastifyError.validation as Array<{ instancePath?: string; message?: string; params?: Record<string, unknown> }>).map((issue) => ({
+    const issues = fastifyError.validation as Array<{ instancePath?: string; message?: string; params?: Record<string, unknown> }>;
+    // ajv says "must be equal to one of the allowed values" without naming them; the client needs them.
+    const allowedOf = (issue: (typeof issues)[number]) => {
+      const allowed = issue.params?.['allowedValues'];
+      return Array.isArray(allowed) ? `: ${allowed.map(String).join(', ')}` : '';
+    };
+    const [first] = issues;
+    const detail = `${fastifyError.message ?? 'the request is not valid'}${issues.length === 1 && first ? allowedOf(first) : ''}`;
+    return new Problem('invalid-request', detail, {
+      errors: issues.map((issue) => ({
         field: `${fastifyError.validationContext ?? 'request'}${issue.instancePath ?? ''}`,
-        reason: issue.message ?? 'is not valid',
+        reason: `${issue.message ?? 'is not valid'}${allowedOf(issue)}`,
         ...(issue.params && 'missingProperty' in issue.params ? { missing: issue.params['missingProperty'] } : {}),
         ...(issue.params && 'additionalProperty' in issue.params ? { unexpected: issue.params['additionalProperty'] } : {}),
       })),

@@ -8,13 +8,17 @@ import type { IngestKind, OnError } from '../db/tables.js';
 import { eraseCustomer } from '../ingest/erasure.js';
 import { formatFromContentType, parseContentType } from '../ingest/media-type.js';
 import { findReceipt, findRejectedRows } from '../ingest/receipts.js';
+import { CSV_DELIMITERS, type CsvDelimiter } from '../ingest/parse.js';
 import { ingestUpload, type IngestDependencies } from '../ingest/service.js';
 import { Problem } from './problems.js';
 import { Receipt, RejectedRowsPage } from './schemas.js';
 
 const uploadQuerySchema = {
   type: 'object',
-  properties: { on_error: { type: 'string', enum: ['reject', 'skip'], default: 'reject' } },
+  properties: {
+    on_error: { type: 'string', enum: ['reject', 'skip'], default: 'reject' },
+    delimiter: { type: 'string', enum: Object.keys(CSV_DELIMITERS), default: 'comma' },
+  },
   additionalProperties: false,
 } as const;
 
@@ -49,10 +53,11 @@ export const ingestRoutes: FastifyPluginAsync<IngestDependencies> = async (app, 
     if (!body || typeof (body as Readable).pipe !== 'function') throw new Problem('malformed-body', 'the upload is empty');
     const key = request.headers['idempotency-key'];
     const idempotencyKey = typeof key === 'string' && key.trim() !== '' ? key.trim().slice(0, 200) : null;
-    const { on_error: onError } = request.query as { on_error: OnError };
+    const { on_error: onError, delimiter } = request.query as { on_error: OnError; delimiter: CsvDelimiter };
+    if (delimiter !== 'comma' && format !== 'csv') throw new Problem('invalid-request', `delimiter applies to text/csv uploads only (got ${mediaType})`);
     return ingestUpload(
       { ...deps, logger: request.log },
-      { kind, campaignId, body, format, contentType: mediaType, onError, idempotencyKey },
+      { kind, campaignId, body, format, delimiter, contentType: mediaType, onError, idempotencyKey },
     );
   };
 

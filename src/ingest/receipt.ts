@@ -23,6 +23,12 @@ export const Receipt = Type.Object(
     idempotency_key: Type.Union([Type.String(), Type.Null()]),
     received_at: Type.String({ format: 'date-time' }),
     duration_ms: count(),
+    extra_attributes: Type.Array(Type.String(), {
+      description: 'The extra attribute columns a customer upload stored (each usable as a report dimension); empty for other uploads.',
+    }),
+    warnings: Type.Array(Type.String(), {
+      description: 'What the upload stored but may not have meant, such as labels differing from stored ones only in case or spacing.',
+    }),
   },
   { additionalProperties: false },
 );
