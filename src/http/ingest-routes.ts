@@ -7,11 +7,16 @@ import type { Readable } from 'node:stream';
 import type { IngestKind, OnError } from '../db/tables.js';
 import { eraseCustomer } from '../ingest/erasure.js';
 import { formatFromContentType, parseContentType } from '../ingest/media-type.js';
-import { findReceipt, findRejectedRows } from '../ingest/receipts.js';
+import { listCampaigns } from '../ingest/campaigns.js';
+import { findReceipt, findRejectedRows, listReceipts } from '../ingest/receipts.js';
 import { CSV_DELIMITERS, type CsvDelimiter } from '../ingest/parse.js';
 import { ingestUpload, type IngestDependencies } from '../ingest/service.js';
 import { Problem } from './problems.js';
-import { Receipt, RejectedRowsPage } from './schemas.js';
+import { rejectedRowsCsv } from '../present/index.js';
+import { negotiate } from './negotiate.js';
+import { CampaignList, Receipt, ReceiptList, RejectedRowsPage } from './schemas.js';
+
+const REJECTED_MEDIA_TYPES = { json: 'application/json; charset=utf-8', csv: 'text/csv; charset=utf-8; header=present' } as const;
 
 const uploadQuerySchema = {
   type: 'object',
@@ -109,20 +114,56 @@ export const ingestRoutes: FastifyPluginAsync<IngestDependencies> = async (app, 
         params: { type: 'object', properties: { ingest_id: { type: 'string' } }, required: ['ingest_id'] },
         querystring: {
           type: 'object',
-          properties: { limit: { type: 'integer', minimum: 1, maximum: 10_000, default: 1000 }, offset: { type: 'integer', minimum: 0, default: 0 } },
+          properties: {
+            limit: { type: 'integer', minimum: 1, maximum: 10_000, default: 1000 },
+            offset: { type: 'integer', minimum: 0, default: 0 },
+            format: { type: 'string', enum: ['json', 'csv'] },
+          },
           additionalProperties: false,
         },
         response: { 200: RejectedRowsPage },
       },
     },
-    async (request) => {
+    async (request, reply) => {
       const { ingest_id: ingestId } = request.params as { ingest_id: string };
-      const { limit, offset } = request.query as { limit: number; offset: number };
+      const { limit, offset, format } = request.query as { limit: number; offset: number; format?: 'json' | 'csv' };
+      const representation = format ?? negotiate(request, REJECTED_MEDIA_TYPES, 'the rejected rows are available as application/json or text/csv');
       const page = await findRejectedRows(deps.db, ingestId, { limit, offset });
       if (!page) throw new Problem('not-found', `no upload with id ${ingestId}`);
-      return page;
+      reply.header('vary', 'Accept');
+      if (representation === 'json') return page;
+      return reply
+        .type(REJECTED_MEDIA_TYPES.csv)
+        .header('content-disposition', `attachment; filename="rejected-${ingestId}.csv"`)
+        .serializer((body: string) => body)
+        .send(rejectedRowsCsv(page.rows));
     },
   );
+
+  app.get(
+    '/v1/ingests',
+    {
+      schema: {
+        querystring: {
+          type: 'object',
+          properties: {
+            limit: { type: 'integer', minimum: 1, maximum: 1000, default: 100 },
+            offset: { type: 'integer', minimum: 0, default: 0 },
+            kind: { type: 'string', enum: ['customers', 'sales', 'contacts'] },
+            campaign_id: { type: 'string', pattern: identifierPattern },
+          },
+          additionalProperties: false,
+        },
+        response: { 200: ReceiptList },
+      },
+    },
+    async (request) => {
+      const { limit, offset, kind, campaign_id: campaignId } = request.query as { limit: number; offset: number; kind?: IngestKind; campaign_id?: string };
+      return listReceipts(deps.db, { kind: kind ?? null, campaignId: campaignId?.trim() ?? null }, { limit, offset });
+    },
+  );
+
+  app.get('/v1/campaigns', { schema: { response: { 200: CampaignList } } }, async () => listCampaigns(deps.db));
 
   app.delete(
     '/v1/customers/:customer_id',

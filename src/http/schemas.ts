@@ -5,7 +5,8 @@
  */
 import { Type } from 'typebox';
 
-export { Receipt, RejectedRowsPage } from '../ingest/receipt.js';
+export { Campaign, CampaignList } from '../ingest/campaigns.js';
+export { Receipt, ReceiptList, RejectedRowsPage } from '../ingest/receipt.js';
 
 export const Health = Type.Object({
   status: Type.Unsafe<'ok' | 'unavailable'>({ type: 'string', enum: ['ok', 'unavailable'] }),

@@ -59,3 +59,16 @@ export const RejectedRowsPage = Type.Object(
 );
 
 export type RejectedRowsPage = Static<typeof RejectedRowsPage>;
+
+/** One page of receipts, newest first. */
+export const ReceiptList = Type.Object(
+  {
+    total: Type.Integer({ minimum: 0, description: 'Receipts matching the filter in all.' }),
+    limit: Type.Integer(),
+    offset: Type.Integer(),
+    ingests: Type.Array(Receipt),
+  },
+  { additionalProperties: false },
+);
+
+export type ReceiptList = Static<typeof ReceiptList>;

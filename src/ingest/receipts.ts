@@ -5,7 +5,9 @@
 import type { Kysely } from 'kysely';
 import type { Database } from '../db/tables.js';
 import * as repository from './repository.js';
-import type { Receipt, RejectedRowsPage } from './receipt.js';
+import type { IngestKind } from '../db/tables.js';
+import { listIngests } from './listing-repository.js';
+import type { Receipt, ReceiptList, RejectedRowsPage } from './receipt.js';
 import { toReceipt } from './service.js';
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/;
@@ -32,4 +34,14 @@ export async function findRejectedRows(db: Kysely<Database>, ingestId: string, p
     offset: page.offset,
     rows: rows.map((row) => ({ row: Number(row.row_number), line: Number(row.line), column: row.column_name, value: row.value, reason: row.reason })),
   };
+}
+
+/** One page of receipts, newest first, optionally of one kind or one campaign. */
+export async function listReceipts(
+  db: Kysely<Database>,
+  filter: { kind: IngestKind | null; campaignId: string | null },
+  page: { limit: number; offset: number },
+): Promise<ReceiptList> {
+  const { rows, total } = await listIngests(db, filter, page);
+  return { total, limit: page.limit, offset: page.offset, ingests: rows.map(toReceipt) };
 }

@@ -98,6 +98,34 @@ export async function createReport(deps: ReportDependencies, body: unknown): Pro
   return { report_id: row.report_id, ...definition, created_at: row.created_at, latest_snapshot: null };
 }
 
+/**
+ * Replaces a report's definition. Snapshots taken later use the new one; earlier snapshots keep
+ * the definition they were computed with (each snapshot carries its own).
+ * @throws ReportNotFoundError, InvalidDefinitionError
+ */
+export async function replaceReport(deps: ReportDependencies, reportId: string, body: unknown): Promise<ReportResource> {
+  if (!(await repository.findReport(deps.db, reportId))) throw new ReportNotFoundError(reportId);
+  const definition = await normalizeDefinition(body, {
+    missingCampaigns: (ids) => repository.missingCampaigns(deps.readDb, ids),
+    missingAttributes: (names) => repository.missingAttributes(deps.readDb, names),
+  });
+  const replaced = await repository.replaceReportDefinition(deps.db, reportId, { name: definition.name, definition: JSON.stringify(definition), refresh: definition.refresh });
+  if (!replaced) throw new ReportNotFoundError(reportId);
+  deps.logger.info({ reportId, name: definition.name }, 'report definition replaced');
+  return getReport(deps, reportId);
+}
+
+/**
+ * Deletes a report and every snapshot of it, and forgets their rendered tables.
+ * @throws ReportNotFoundError
+ */
+export async function deleteReport(deps: ReportDependencies, cache: SegmentTableCache, reportId: string): Promise<void> {
+  const deleted = await deps.db.transaction().execute((trx) => repository.deleteReport(trx, reportId));
+  if (!deleted) throw new ReportNotFoundError(reportId);
+  cache.forgetReport(reportId);
+  deps.logger.info({ reportId }, 'report deleted');
+}
+
 /** Every saved report, oldest first, each with its latest snapshot. */
 export async function listReports(deps: ReportDependencies): Promise<ReportResource[]> {
   const rows = await repository.listReports(deps.db);
@@ -277,6 +305,7 @@ export async function getSnapshotBody(deps: ReportDependencies, reportId: string
 /**
  * The flat segment table of a snapshot (`latest` for the newest) in one format, rendered once
  * and then served from `cache`; undefined when there is no such snapshot.
+ * @throws ReportNotFoundError
  */
 export async function segmentTable(
   deps: ReportDependencies,
@@ -286,11 +315,14 @@ export async function segmentTable(
   format: TableFormat,
 ): Promise<RenderedTable | undefined> {
   const resolvedId = snapshotId === 'latest' ? await repository.latestSnapshotId(deps.readDb, reportId) : snapshotId;
-  if (resolvedId === undefined) return undefined;
-  const cached = cache.get(reportId, resolvedId, format);
+  const cached = resolvedId === undefined ? undefined : cache.get(reportId, resolvedId, format);
   if (cached) return cached;
-  const stored = await repository.findSnapshotBody(deps.readDb, reportId, resolvedId);
-  if (stored === undefined) return undefined;
+  const stored = resolvedId === undefined ? undefined : await repository.findSnapshotBody(deps.readDb, reportId, resolvedId);
+  if (stored === undefined) {
+    // "no snapshot yet" would mislead about a report that does not exist at all.
+    if (!(await repository.findReport(deps.readDb, reportId))) throw new ReportNotFoundError(reportId);
+    return undefined;
+  }
   const table = renderSegmentTable(JSON.parse(stored) as Snapshot, format);
   cache.set(reportId, format, table);
   return table;

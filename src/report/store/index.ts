@@ -1,6 +1,7 @@
 /** Every SQL statement about report definitions and snapshots. */
 export {
   countSnapshots,
+  deleteReport,
   findReport,
   findSnapshotBody,
   insertReport,
@@ -13,5 +14,6 @@ export {
   missingAttributes,
   missingCampaigns,
   nextSnapshotSequence,
+  replaceReportDefinition,
   type SnapshotMeta,
 } from './repository.js';
