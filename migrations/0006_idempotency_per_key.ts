@@ -30,6 +30,8 @@ const INGEST_COLUMNS = [
   'idempotency_key',
   'received_at',
   'duration_ms',
+  'extra_attributes',
+  'warnings',
 ].join(', ');
 const REJECTED_COLUMNS = 'ingest_id, ordinal, row_number, line, customer_id, column_name, value, reason';
 
@@ -54,7 +56,9 @@ async function rebuildOnSqlite(db: Kysely<unknown>, scoped: boolean): Promise<vo
         sha256 text not null,
         idempotency_key text ${sql.raw(scoped ? '' : 'unique')},
         received_at text not null,
-        duration_ms integer not null
+        duration_ms integer not null,
+        extra_attributes text not null default '[]',
+        warnings text not null default '[]'
         ${sql.raw(scoped ? ', idempotency_scope text' : '')})`.execute(trx);
     await sql`insert into ingests_rebuilt (${sql.raw(INGEST_COLUMNS)}${sql.raw(scoped ? ', idempotency_scope' : '')})
         select ${sql.raw(INGEST_COLUMNS)}${scoped ? sql`, case when idempotency_key is null then null else ${UNSCOPED} end` : sql``} from ingests`.execute(trx);

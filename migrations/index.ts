@@ -7,6 +7,7 @@ import * as records from './0001_records.js';
 import * as reports from './0002_reports.js';
 import * as apiKeys from './0003_api_keys.js';
 import * as contactDimensions from './0004_contact_dimensions.js';
+import * as receiptNotes from './0005_receipt_notes.js';
 import * as idempotencyPerKey from './0006_idempotency_per_key.js';
 import * as snapshotRedaction from './0007_snapshot_redaction.js';
 
@@ -15,6 +16,7 @@ export const migrations: Record<string, Migration> = {
   '0002_reports': reports,
   '0003_api_keys': apiKeys,
   '0004_contact_dimensions': contactDimensions,
+  '0005_receipt_notes': receiptNotes,
   '0006_idempotency_per_key': idempotencyPerKey,
   '0007_snapshot_redaction': snapshotRedaction,
 };

@@ -76,6 +76,10 @@ export interface IngestsTable {
   idempotency_scope: string | null;
   received_at: string;
   duration_ms: number;
+  /** JSON array of the extra attribute columns a customer upload stored. */
+  extra_attributes: string;
+  /** JSON array of the warnings the receipt gave (labels differing only in case or spacing). */
+  warnings: string;
 }
 
 export interface RejectedRowsTable {

@@ -6,6 +6,7 @@
  */
 import type { FastifyError, FastifyInstance, FastifyReply, FastifyRequest } from 'fastify';
 import { redactKeys } from '../auth/redact.js';
+import { InvalidColumnsError } from '../ingest/header-check.js';
 import { MalformedBodyError } from '../ingest/parse.js';
 import {
   BodyIdleTimeoutError,
@@ -50,6 +51,11 @@ function domainProblem(error: unknown): Problem | null {
       })),
     });
   }
+  if (error instanceof InvalidColumnsError) {
+    return new Problem('invalid-columns', `line ${error.line}: ${error.message}`, {
+      errors: error.issues.map((issue) => ({ row: null, line: error.line, column: issue.column, value: null, reason: issue.reason, suggestion: issue.suggestion })),
+    });
+  }
   if (error instanceof MalformedBodyError) {
     return new Problem('malformed-body', error.line === null ? error.message : `line ${error.line}: ${error.message}`, {
       errors: [{ row: null, line: error.line, column: null, value: null, reason: error.message }],
@@ -92,11 +98,18 @@ function frameworkProblem(error: unknown): Problem | null {
   const fastifyError = error as Partial<FastifyError> & { validation?: unknown[] };
   if (fastifyError.validation) {
     const issues = fastifyError.validation as Array<{ instancePath?: string; message?: string; params?: Record<string, unknown> }>;
-    return new Problem('invalid-request', fastifyError.message ?? 'the request is not valid', {
+    // ajv says "must be equal to one of the allowed values" without naming them; the client needs them.
+    const allowedOf = (issue: (typeof issues)[number]) => {
+      const allowed = issue.params?.['allowedValues'];
+      return Array.isArray(allowed) ? `: ${allowed.map(String).join(', ')}` : '';
+    };
+    const [first] = issues;
+    const detail = `${fastifyError.message ?? 'the request is not valid'}${issues.length === 1 && first ? allowedOf(first) : ''}`;
+    return new Problem('invalid-request', detail, {
       error_count: issues.length,
       errors: issues.slice(0, MAX_LISTED_ERRORS).map((issue) => ({
         field: `${fastifyError.validationContext ?? 'request'}${issue.instancePath ?? ''}`,
-        reason: issue.message ?? 'is not valid',
+        reason: `${issue.message ?? 'is not valid'}${allowedOf(issue)}`,
         ...(issue.params && 'missingProperty' in issue.params ? { missing: issue.params['missingProperty'] } : {}),
         ...(issue.params && 'additionalProperty' in issue.params ? { unexpected: issue.params['additionalProperty'] } : {}),
       })),

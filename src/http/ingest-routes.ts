@@ -7,15 +7,24 @@ import type { Readable } from 'node:stream';
 import type { IngestKind, OnError } from '../db/tables.js';
 import { eraseCustomer } from '../ingest/erasure.js';
 import { formatFromContentType, parseContentType } from '../ingest/media-type.js';
-import { findReceipt, findRejectedRows } from '../ingest/receipts.js';
+import { listCampaigns } from '../ingest/campaigns.js';
+import { findReceipt, findRejectedRows, listReceipts } from '../ingest/receipts.js';
+import { CSV_DELIMITERS, type CsvDelimiter } from '../ingest/parse.js';
 import { ingestUpload, type IngestDependencies } from '../ingest/service.js';
 import { logPseudonym } from '../logger.js';
 import { Problem } from './problems.js';
-import { Receipt, RejectedRowsPage } from './schemas.js';
+import { rejectedRowsCsv } from '../present/index.js';
+import { negotiate } from './negotiate.js';
+import { CampaignList, Receipt, ReceiptList, RejectedRowsPage } from './schemas.js';
+
+const REJECTED_MEDIA_TYPES = { json: 'application/json; charset=utf-8', csv: 'text/csv; charset=utf-8; header=present' } as const;
 
 const uploadQuerySchema = {
   type: 'object',
-  properties: { on_error: { type: 'string', enum: ['reject', 'skip'], default: 'reject' } },
+  properties: {
+    on_error: { type: 'string', enum: ['reject', 'skip'], default: 'reject' },
+    delimiter: { type: 'string', enum: Object.keys(CSV_DELIMITERS), default: 'comma' },
+  },
   additionalProperties: false,
 } as const;
 
@@ -50,11 +59,12 @@ export const ingestRoutes: FastifyPluginAsync<IngestDependencies> = async (app, 
     if (!body || typeof (body as Readable).pipe !== 'function') throw new Problem('malformed-body', 'the upload is empty');
     const key = request.headers['idempotency-key'];
     const idempotencyKey = typeof key === 'string' && key.trim() !== '' ? key.trim().slice(0, 200) : null;
-    const { on_error: onError } = request.query as { on_error: OnError };
+    const { on_error: onError, delimiter } = request.query as { on_error: OnError; delimiter: CsvDelimiter };
+    if (delimiter !== 'comma' && format !== 'csv') throw new Problem('invalid-request', `delimiter applies to text/csv uploads only (got ${mediaType})`);
     return ingestUpload(
       { ...deps, logger: request.log },
       // Idempotency-Keys are the sending API key's own: another key's same value is another upload.
-      { kind, campaignId, body, format, contentType: mediaType, onError, idempotencyKey, idempotencyScope: request.apiKey?.keyId ?? 'open' },
+      { kind, campaignId, body, format, delimiter, contentType: mediaType, onError, idempotencyKey, idempotencyScope: request.apiKey?.keyId ?? 'open' },
     );
   };
 
@@ -62,12 +72,12 @@ export const ingestRoutes: FastifyPluginAsync<IngestDependencies> = async (app, 
 
   app.post('/v1/customers', { schema: { querystring: uploadQuerySchema, response: uploadResponses } }, async (request, reply) => {
     const { receipt, replayed } = await upload(request, 'customers', null);
-    return reply.code(replayed ? 200 : 201).header('location', `/v1/ingests/${receipt.ingest_id}`).header('idempotent-replayed', String(replayed)).send(receipt);
+    return reply.code(replayed ? 200 : 201).header('location', `/v1/ingests/${receipt.ingest_id}`).header('segrank-receipt-replayed', String(replayed)).send(receipt);
   });
 
   app.post('/v1/sales', { schema: { querystring: uploadQuerySchema, response: uploadResponses } }, async (request, reply) => {
     const { receipt, replayed } = await upload(request, 'sales', null);
-    return reply.code(replayed ? 200 : 201).header('location', `/v1/ingests/${receipt.ingest_id}`).header('idempotent-replayed', String(replayed)).send(receipt);
+    return reply.code(replayed ? 200 : 201).header('location', `/v1/ingests/${receipt.ingest_id}`).header('segrank-receipt-replayed', String(replayed)).send(receipt);
   });
 
   app.post(
@@ -84,7 +94,7 @@ export const ingestRoutes: FastifyPluginAsync<IngestDependencies> = async (app, 
       // Surrounding spaces are dropped as in every other identifier, so spaces alone name nothing.
       if (campaignId.trim() === '') throw new Problem('invalid-request', 'campaign_id must not be blank');
       const { receipt, replayed } = await upload(request, 'contacts', campaignId.trim());
-      return reply.code(replayed ? 200 : 201).header('location', `/v1/ingests/${receipt.ingest_id}`).header('idempotent-replayed', String(replayed)).send(receipt);
+      return reply.code(replayed ? 200 : 201).header('location', `/v1/ingests/${receipt.ingest_id}`).header('segrank-receipt-replayed', String(replayed)).send(receipt);
     },
   );
 
@@ -106,20 +116,56 @@ export const ingestRoutes: FastifyPluginAsync<IngestDependencies> = async (app, 
         params: { type: 'object', properties: { ingest_id: { type: 'string' } }, required: ['ingest_id'] },
         querystring: {
           type: 'object',
-          properties: { limit: { type: 'integer', minimum: 1, maximum: 10_000, default: 1000 }, offset: { type: 'integer', minimum: 0, default: 0 } },
+          properties: {
+            limit: { type: 'integer', minimum: 1, maximum: 10_000, default: 1000 },
+            offset: { type: 'integer', minimum: 0, default: 0 },
+            format: { type: 'string', enum: ['json', 'csv'] },
+          },
           additionalProperties: false,
         },
         response: { 200: RejectedRowsPage },
       },
     },
-    async (request) => {
+    async (request, reply) => {
       const { ingest_id: ingestId } = request.params as { ingest_id: string };
-      const { limit, offset } = request.query as { limit: number; offset: number };
+      const { limit, offset, format } = request.query as { limit: number; offset: number; format?: 'json' | 'csv' };
+      const representation = format ?? negotiate(request, REJECTED_MEDIA_TYPES, 'the rejected rows are available as application/json or text/csv');
       const page = await findRejectedRows(deps.readDb, ingestId, { limit, offset });
       if (!page) throw new Problem('not-found', `no upload with id ${ingestId}`);
-      return page;
+      reply.header('vary', 'Accept');
+      if (representation === 'json') return page;
+      return reply
+        .type(REJECTED_MEDIA_TYPES.csv)
+        .header('content-disposition', `attachment; filename="rejected-${ingestId}.csv"`)
+        .serializer((body: string) => body)
+        .send(rejectedRowsCsv(page.rows));
     },
   );
+
+  app.get(
+    '/v1/ingests',
+    {
+      schema: {
+        querystring: {
+          type: 'object',
+          properties: {
+            limit: { type: 'integer', minimum: 1, maximum: 1000, default: 100 },
+            offset: { type: 'integer', minimum: 0, default: 0 },
+            kind: { type: 'string', enum: ['customers', 'sales', 'contacts'] },
+            campaign_id: { type: 'string', pattern: identifierPattern },
+          },
+          additionalProperties: false,
+        },
+        response: { 200: ReceiptList },
+      },
+    },
+    async (request) => {
+      const { limit, offset, kind, campaign_id: campaignId } = request.query as { limit: number; offset: number; kind?: IngestKind; campaign_id?: string };
+      return listReceipts(deps.db, { kind: kind ?? null, campaignId: campaignId?.trim() ?? null }, { limit, offset });
+    },
+  );
+
+  app.get('/v1/campaigns', { schema: { response: { 200: CampaignList } } }, async () => listCampaigns(deps.db));
 
   app.delete(
     '/v1/customers/:customer_id',

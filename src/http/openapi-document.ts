@@ -25,7 +25,7 @@ import {
   SnapshotList,
   SnapshotMeta,
 } from '../report/shapes/index.js';
-import { Health, Receipt, RejectedRowsPage } from './schemas.js';
+import { Campaign, CampaignList, Health, Receipt, ReceiptList, RejectedRowsPage } from './schemas.js';
 
 const OPENAPI_SOURCE_PATH = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../../openapi/source.yaml');
 
@@ -33,7 +33,10 @@ const OPENAPI_SOURCE_PATH = path.resolve(path.dirname(fileURLToPath(import.meta.
 const COMPONENTS: Record<string, object> = {
   Health,
   Receipt,
+  ReceiptList,
   RejectedRowsPage,
+  Campaign,
+  CampaignList,
   ReportDefinition: ReportDefinitionBody,
   SavedReportDefinition: ReportDefinition,
   ReportSource,

@@ -10,13 +10,16 @@ import {
   segmentTable,
   SnapshotNotFoundError,
   createReport,
+  deleteReport,
   getReport,
   getSnapshotBody,
   listReports,
   listSnapshots,
   refreshReport,
+  replaceReport,
   type ReportDependencies,
 } from '../report/snapshot/index.js';
+import { negotiate } from './negotiate.js';
 import { Problem } from './problems.js';
 import { ReportIdParams, SnapshotParams } from './schemas.js';
 
@@ -48,12 +51,7 @@ const TABLE_MEDIA_TYPES: Record<TableFormat, string> = { json: 'application/json
  * preferred type among application/json and text/csv (JSON when there is no preference).
  */
 function negotiateFormat(request: FastifyRequest, format: TableFormat | undefined): TableFormat {
-  if (format !== undefined) return format;
-  if ((request.headers.accept ?? '').trim() === '') return 'json';
-  const chosen = request.accepts().type(Object.values(TABLE_MEDIA_TYPES));
-  const negotiated = (Object.keys(TABLE_MEDIA_TYPES) as TableFormat[]).find((candidate) => TABLE_MEDIA_TYPES[candidate] === chosen);
-  if (negotiated === undefined) throw new Problem('not-acceptable', 'the segment table is available as application/json or text/csv');
-  return negotiated;
+  return format ?? negotiate(request, TABLE_MEDIA_TYPES, 'the segment table is available as application/json or text/csv');
 }
 
 /** The report routes as a fastify plugin. */
@@ -75,6 +73,21 @@ export const reportRoutes: FastifyPluginAsync<ReportRouteOptions> = async (app, 
   app.get('/v1/reports/:report_id', { schema: { params: ReportIdParams, response: { 200: Report } } }, async (request) => {
     const { report_id: reportId } = request.params as { report_id: string };
     return getReport(deps, reportId);
+  });
+
+  app.put(
+    '/v1/reports/:report_id',
+    { preValidation: requireJson, schema: { params: ReportIdParams, body: { type: 'object' }, response: { 200: Report } } },
+    async (request) => {
+      const { report_id: reportId } = request.params as { report_id: string };
+      return replaceReport({ ...deps, logger: request.log }, reportId, request.body);
+    },
+  );
+
+  app.delete('/v1/reports/:report_id', { schema: { params: ReportIdParams } }, async (request, reply) => {
+    const { report_id: reportId } = request.params as { report_id: string };
+    await deleteReport({ ...deps, logger: request.log }, tables, reportId);
+    return reply.code(204).send();
   });
 
   app.post('/v1/reports/:report_id/refresh', { schema: { params: ReportIdParams } }, async (request, reply) => {

@@ -3,57 +3,10 @@
  * serializes through them (so no field leaks out unlisted) and the OpenAPI components are
  * generated from them.
  */
-import { Type, type Static } from 'typebox';
-import type { Receipt as StoredReceipt } from '../ingest/service.js';
+import { Type } from 'typebox';
 
-const count = (description?: string) => Type.Integer({ minimum: 0, ...(description === undefined ? {} : { description }) });
-
-/** What an upload answers, and what `GET /v1/ingests/{id}` answers later. */
-export const Receipt = Type.Object(
-  {
-    ingest_id: Type.String(),
-    kind: Type.Unsafe<'customers' | 'sales' | 'contacts'>({ type: 'string', enum: ['customers', 'sales', 'contacts'] }),
-    campaign_id: Type.Union([Type.String(), Type.Null()]),
-    on_error: Type.Unsafe<'reject' | 'skip'>({ type: 'string', enum: ['reject', 'skip'] }),
-    content_type: Type.Optional(Type.String()),
-    rows: count('Data rows received.'),
-    inserted: count(),
-    updated: count(),
-    unchanged: count('Rows whose key was already stored with the same values.'),
-    rejected: count(),
-    sha256: Type.String({ pattern: '^[0-9a-f]{64}$', description: 'SHA-256 of the request body as received.' }),
-    idempotency_key: Type.Optional(Type.Union([Type.String(), Type.Null()])),
-    received_at: Type.String({ format: 'date-time' }),
-    duration_ms: count(),
-  },
-  { additionalProperties: false },
-);
-
-// The ingest service builds receipts without knowing HTTP; this keeps its type inside the declaration.
-const _storedReceiptIsDeclared: StoredReceipt extends Static<typeof Receipt> ? true : never = true;
-
-/** One page of the rows an upload with `on_error=skip` left out. */
-export const RejectedRowsPage = Type.Object(
-  {
-    ingest_id: Type.String(),
-    total: Type.Integer({ description: 'Rejected rows of the upload in all.' }),
-    limit: Type.Integer(),
-    offset: Type.Integer(),
-    rows: Type.Array(
-      Type.Object(
-        {
-          row: Type.Integer({ description: '1-based data row (the CSV header is not a row).' }),
-          line: Type.Integer({ description: '1-based line of the upload where the row starts.' }),
-          column: Type.Union([Type.String(), Type.Null()]),
-          value: Type.Union([Type.String(), Type.Null()]),
-          reason: Type.String(),
-        },
-        { additionalProperties: false },
-      ),
-    ),
-  },
-  { additionalProperties: false },
-);
+export { Campaign, CampaignList } from '../ingest/campaigns.js';
+export { Receipt, ReceiptList, RejectedRowsPage } from '../ingest/receipt.js';
 
 export const Health = Type.Object({
   status: Type.Unsafe<'ok' | 'unavailable'>({ type: 'string', enum: ['ok', 'unavailable'] }),

@@ -48,6 +48,8 @@ export interface SpoolLimits {
 export interface SpooledBody {
   bytes: number;
   sha256: string;
+  /** Whether any line break (LF or CR) arrived: a line-based body without one came as a single line. */
+  sawLineBreak: boolean;
   /** The body again, from the start; may be called once. */
   open(): Readable;
   /** Removes the temporary file, if there is one. Safe to call twice. */
@@ -67,6 +69,7 @@ export function spoolBody(source: Readable, limits: SpoolLimits): Promise<Spoole
   const hash = createHash('sha256');
   let chunks: Buffer[] = [];
   let bytes = 0;
+  let sawLineBreak = false;
   let file: { dir: string; path: string; stream: fs.WriteStream } | null = null;
 
   const removeFile = async () => {
@@ -111,6 +114,7 @@ export function spoolBody(source: Readable, limits: SpoolLimits): Promise<Spoole
         return;
       }
       hash.update(chunk);
+      if (!sawLineBreak && (chunk.includes(0x0a) || chunk.includes(0x0d))) sawLineBreak = true;
       if (file === null && bytes <= memoryBytes) {
         chunks.push(chunk);
         return;
@@ -143,7 +147,7 @@ export function spoolBody(source: Readable, limits: SpoolLimits): Promise<Spoole
       if (file === null) {
         const kept = chunks;
         chunks = [];
-        resolve({ bytes, sha256, open: () => Readable.from(kept), dispose: async () => {} });
+        resolve({ bytes, sha256, sawLineBreak, open: () => Readable.from(kept), dispose: async () => {} });
         return;
       }
       const written = file;
@@ -151,6 +155,7 @@ export function spoolBody(source: Readable, limits: SpoolLimits): Promise<Spoole
         resolve({
           bytes,
           sha256,
+          sawLineBreak,
           open: () => fs.createReadStream(written.path, { highWaterMark: FILE_READ_CHUNK_BYTES }),
           dispose: removeFile,
         });

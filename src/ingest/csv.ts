@@ -3,15 +3,21 @@ import { finished, Readable } from 'node:stream';
 import { CsvError, parse as parseCsv } from 'csv-parse';
 import { normalizeColumnName } from './columns.js';
 import { CsvRecordLines } from './csv-record-lines.js';
+import { InvalidColumnsError } from './header-check.js';
 import { MalformedBodyError, type ParsedRecord, type ParseLimits } from './records.js';
 import { decodeUtf8, toMalformed } from './text-decoding.js';
 
-export async function* parseCsvRecords(body: Readable, limits: ParseLimits): AsyncGenerator<ParsedRecord> {
+/** The field separators a CSV upload may use (`?delimiter=`), by the name the query gives them. */
+export const CSV_DELIMITERS = { comma: ',', semicolon: ';', tab: '\t' } as const;
+export type CsvDelimiter = keyof typeof CSV_DELIMITERS;
+
+export async function* parseCsvRecords(body: Readable, limits: ParseLimits, delimiter: CsvDelimiter = 'comma'): AsyncGenerator<ParsedRecord> {
   const recordLines = new CsvRecordLines();
   const text = Readable.from(decodeUtf8(body, 'CSV', recordLines));
   const parser = text.pipe(
     parseCsv({
       bom: true,
+      delimiter: CSV_DELIMITERS[delimiter],
       skip_empty_lines: true,
       relax_column_count: true,
       max_record_size: limits.maxRecordChars,
@@ -21,6 +27,7 @@ export async function* parseCsvRecords(body: Readable, limits: ParseLimits): Asy
   text.once('error', (error) => parser.destroy(error));
   const records = new ReadyItems<string[]>(parser);
   let header: string[] | null = null;
+  let headerLine = 1;
   let row = 0;
   try {
     for (;;) {
@@ -31,21 +38,24 @@ export async function* parseCsvRecords(body: Readable, limits: ParseLimits): Asy
       }
       const line = recordLines.next();
       if (header === null) {
-        header = readHeader(values, line, limits);
+        header = readHeader(values, line, limits, delimiter);
+        headerLine = line;
         continue;
       }
       row += 1;
       const fields = new Map<string, unknown>();
       const filled = Math.min(values.length, header.length);
       for (let index = 0; index < filled; index++) fields.set(header[index] as string, values[index]);
+      const columns = row === 1 ? { columns: header, columnsLine: headerLine } : {};
       if (values.length === header.length) {
-        yield { row, line, fields };
+        yield { row, line, fields, ...columns };
       } else {
         const reason = `row has ${values.length} fields but the header names ${header.length} columns`;
-        yield { row, line, fields, defect: { column: null, value: null, reason } };
+        yield { row, line, fields, ...columns, defect: { column: null, value: null, reason } };
       }
     }
   } catch (error) {
+    if (error instanceof InvalidColumnsError) throw error;
     throw toMalformedCsv(error);
   } finally {
     parser.destroy();
@@ -88,7 +98,8 @@ class ReadyItems<Item> {
   }
 }
 
-function readHeader(names: string[], line: number, limits: ParseLimits): string[] {
+function readHeader(names: string[], line: number, limits: ParseLimits, delimiter: CsvDelimiter): string[] {
+  refuseOtherSeparator(names, line, delimiter);
   if (names.length > limits.maxColumns) {
     throw new MalformedBodyError(`the header names ${names.length} columns; at most ${limits.maxColumns} are accepted`, line);
   }
@@ -100,6 +111,30 @@ function readHeader(names: string[], line: number, limits: ParseLimits): string[
     seen.add(name);
   });
   return normalized;
+}
+
+/**
+ * A header read as one column that a semicolon or tab would split into several is a file saved
+ * with another separator (spreadsheets in many locales write `;`); read as commas, every row
+ * would fail on every column, so the upload is refused once with the way to send it.
+ */
+function refuseOtherSeparator(names: string[], line: number, delimiter: CsvDelimiter): void {
+  const [only] = names;
+  if (names.length !== 1 || only === undefined) return;
+  for (const [name, separator] of Object.entries(CSV_DELIMITERS) as Array<[CsvDelimiter, string]>) {
+    if (name === delimiter || !only.includes(separator)) continue;
+    const shown = name === 'tab' ? 'tab' : `"${separator}"`;
+    throw new InvalidColumnsError(
+      [
+        {
+          column: only.slice(0, 200),
+          suggestion: null,
+          reason: `the header is one column that ${shown} would split into ${only.split(separator).length}: the file looks ${name}-separated; send it with ?delimiter=${name}, or save it as comma-separated CSV`,
+        },
+      ],
+      line,
+    );
+  }
 }
 
 function toMalformedCsv(error: unknown): Error {

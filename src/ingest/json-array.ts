@@ -19,7 +19,7 @@ export async function* parseJsonArrayRecords(body: Readable, limits: ParseLimits
  */
 async function* splitJsonArray(body: Readable, limits: ParseLimits): AsyncGenerator<{ text: string; line: number }> {
   const maxDepth = 3; // array → row object → one level inside a value, which row validation then rejects
-  const decoder = strictUtf8Decoder();
+  const decoder = strictUtf8Decoder('JSON');
   let depth = 0;
   let inString = false;
   let escaped = false;

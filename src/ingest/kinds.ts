@@ -45,6 +45,8 @@ export interface UploadKind<Row> {
   keyColumn: string;
   check(fields: Map<string, unknown>, today: string): RowCheck<Row>;
   key(row: Row): string;
+  /** The dimension labels a row sets (customers only: region, channel and extra attributes, null when cleared). */
+  labels?(row: Row): Iterable<readonly [dimension: string, label: string | null]>;
   applyBatch(context: BatchContext, rows: Array<PendingRow<Row>>): Promise<BatchOutcome>;
 }
 
@@ -57,6 +59,7 @@ export const customersKind: UploadKind<CustomerRow> = {
   keyColumn: 'customer_id',
   check: checkCustomerFields,
   key: (row) => row.customer_id,
+  labels: (row) => [['region', row.region], ['channel', row.channel], ...row.attributes],
   async applyBatch({ store, write, mayExist, ingestId, now }, pending) {
     const outcome = emptyOutcome();
     const stored = mayExist ? await repository.findCustomers(store, pending.map((item) => item.row.customer_id)) : new Map<string, repository.StoredCustomer>();

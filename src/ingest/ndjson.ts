@@ -14,7 +14,7 @@ export async function* parseNdjsonRecords(body: Readable, limits: ParseLimits): 
 }
 
 async function* splitLines(body: Readable, limits: ParseLimits): AsyncGenerator<{ text: string; line: number }> {
-  const decoder = strictUtf8Decoder();
+  const decoder = strictUtf8Decoder('NDJSON');
   let pending = '';
   let line = 1;
   try {

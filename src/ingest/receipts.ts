@@ -5,26 +5,12 @@
 import type { Kysely } from 'kysely';
 import type { Database } from '../db/tables.js';
 import * as repository from './repository.js';
-import { toReceipt, type Receipt } from './service.js';
+import type { IngestKind } from '../db/tables.js';
+import { listIngests } from './listing-repository.js';
+import type { Receipt, ReceiptList, RejectedRowsPage } from './receipt.js';
+import { toReceipt } from './service.js';
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/;
-
-interface RejectedRow {
-  row: number;
-  line: number;
-  column: string | null;
-  value: string | null;
-  reason: string;
-}
-
-export interface RejectedRowsPage {
-  ingest_id: string;
-  /** every row the upload rejected, not only this page's */
-  total: number;
-  limit: number;
-  offset: number;
-  rows: RejectedRow[];
-}
 
 async function findIngest(db: Kysely<Database>, ingestId: string) {
   return UUID.test(ingestId) ? repository.findIngest(db, ingestId) : undefined;
@@ -48,4 +34,14 @@ export async function findRejectedRows(db: Kysely<Database>, ingestId: string, p
     offset: page.offset,
     rows: rows.map((row) => ({ row: Number(row.row_number), line: Number(row.line), column: row.column_name, value: row.value, reason: row.reason })),
   };
+}
+
+/** One page of receipts, newest first, optionally of one kind or one campaign. */
+export async function listReceipts(
+  db: Kysely<Database>,
+  filter: { kind: IngestKind | null; campaignId: string | null },
+  page: { limit: number; offset: number },
+): Promise<ReceiptList> {
+  const { rows, total } = await listIngests(db, filter, page);
+  return { total, limit: page.limit, offset: page.offset, ingests: rows.map(toReceipt) };
 }

@@ -7,6 +7,10 @@ export interface ParsedRecord {
   line: number;
   /** Field values keyed by normalized column name; values are raw (strings from CSV, JSON scalars otherwise). */
   fields: Map<string, unknown>;
+  /** On the first record of a CSV upload: every column its header names, in order. */
+  columns?: readonly string[];
+  /** The line of the upload on which those columns are named. */
+  columnsLine?: number;
   /** A problem that makes the whole record unusable (ragged row, not an object…), if any. */
   defect?: { column: string | null; value: string | null; reason: string };
 }

@@ -405,6 +405,19 @@ export async function insertRejectedRows(store: UploadStore, rows: RejectedRowsT
   await insertMany(store, 'rejected_rows', rows);
 }
 
+/**
+ * The stored labels of one customer dimension (a built-in column or an extra attribute), at most
+ * `limit` of them: the receipt compares an upload's labels with these.
+ */
+export async function findStoredLabels(db: Executor, dimension: string, limit: number): Promise<string[]> {
+  if (dimension === 'region' || dimension === 'channel') {
+    const rows = await db.selectFrom('customers').select(dimension).distinct().limit(limit).execute();
+    return rows.map((row) => (dimension === 'region' ? (row as { region: string }).region : (row as { channel: string }).channel));
+  }
+  const rows = await db.selectFrom('customer_attributes').select('value').distinct().where('name', '=', dimension).limit(limit).execute();
+  return rows.map((row) => row.value);
+}
+
 export async function findIngest(db: Executor, ingestId: string): Promise<IngestsTable | undefined> {
   return db.selectFrom('ingests').selectAll().where('ingest_id', '=', ingestId).executeTakeFirst();
 }
@@ -442,6 +455,9 @@ export async function customerLabels(db: Executor, customerId: string): Promise<
 
 /** Erases one customer and every row about them; returns false when there was no such customer. */
 export async function eraseCustomer(db: Executor, customerId: string): Promise<boolean> {
+  // An id that names no customer touches nothing, not even rejected rows that mention it.
+  const stored = await db.selectFrom('customers').select('customer_id').where('customer_id', '=', customerId).executeTakeFirst();
+  if (stored === undefined) return false;
   await db.deleteFrom('campaign_contacts').where('customer_id', '=', customerId).execute();
   await db.deleteFrom('sales').where('customer_id', '=', customerId).execute();
   await db.deleteFrom('customer_attributes').where('customer_id', '=', customerId).execute();

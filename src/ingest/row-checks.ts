@@ -48,9 +48,9 @@ export interface ContactRow {
 
 export type RowCheck<Row> = { ok: true; row: Row } | { ok: false; errors: RowError[] };
 
-const CUSTOMER_COLUMNS = ['customer_id', 'birth_date', 'region', 'channel', 'customer_type'] as const;
-const SALE_COLUMNS = ['sale_id', 'customer_id', 'sold_at', 'amount'] as const;
-const CONTACT_COLUMNS = ['customer_id', 'contacted_at', 'converted', 'revenue'] as const;
+export const CUSTOMER_COLUMNS = ['customer_id', 'birth_date', 'region', 'channel', 'customer_type'] as const;
+export const SALE_COLUMNS = ['sale_id', 'customer_id', 'sold_at', 'amount'] as const;
+export const CONTACT_COLUMNS = ['customer_id', 'contacted_at', 'converted', 'revenue'] as const;
 const CUSTOMER_TYPES = ['individual', 'company'] as const;
 
 /** Oldest plausible age; an older birth date is far likelier a typing error than a customer. */

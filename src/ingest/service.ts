@@ -13,7 +13,10 @@ export { BodyIdleTimeoutError, ClientAbortedError, UploadTooLargeError } from '.
 import { sqliteConnectionOf } from '../db/connect.js';
 import type { Database, IngestKind, IngestsTable, OnError, RejectedRowsTable } from '../db/tables.js';
 import { contactsKind, customersKind, salesKind, type PendingRow, type UploadKind } from './kinds.js';
-import { DEFAULT_PARSE_LIMITS, parseRecords, type ParsedRecord, type UploadFormat } from './parse.js';
+import { checkColumns, InvalidColumnsError } from './header-check.js';
+import { LabelNotes } from './label-notes.js';
+import { DEFAULT_PARSE_LIMITS, MalformedBodyError, parseRecords, type CsvDelimiter, type ParsedRecord, type UploadFormat } from './parse.js';
+import type { Receipt } from './receipt.js';
 import * as repository from './repository.js';
 import type { RowError } from './row-checks.js';
 import type { SnapshotRedaction } from './erasure.js';
@@ -43,6 +46,8 @@ export interface UploadRequest {
   campaignId: string | null;
   body: Readable;
   format: UploadFormat;
+  /** The field separator of a CSV upload. */
+  delimiter: CsvDelimiter;
   contentType: string;
   onError: OnError;
   idempotencyKey: string | null;
@@ -50,37 +55,21 @@ export interface UploadRequest {
   idempotencyScope: string;
 }
 
-export interface Receipt {
-  ingest_id: string;
-  kind: IngestKind;
-  campaign_id: string | null;
-  on_error: OnError;
-  content_type: string;
-  rows: number;
-  inserted: number;
-  updated: number;
-  unchanged: number;
-  rejected: number;
-  sha256: string;
-  idempotency_key: string | null;
-  received_at: string;
-  duration_ms: number;
-}
-
 export interface RowProblem extends RowError {
   row: number;
   line: number;
 }
 
-/** The upload held bad rows and was all-or-nothing: nothing was written. */
+/** The upload held bad rows and was all-or-nothing, or every row was bad: nothing was written. */
 export class RowsRejectedError extends Error {
   override name = 'RowsRejectedError';
   constructor(
     readonly problems: RowProblem[],
     readonly rejectedCount: number,
     readonly rowCount: number,
+    message = `${rejectedCount} of ${rowCount} ${rowCount === 1 ? 'row is' : 'rows are'} invalid; nothing was written`,
   ) {
-    super(`${rejectedCount} of ${rowCount} rows are invalid; nothing was written`);
+    super(message);
   }
 }
 
@@ -94,6 +83,9 @@ export class TooManyRowsError extends Error {
 export class EmptyUploadError extends Error {
   override name = 'EmptyUploadError';
 }
+
+/** Where the customer columns of a dimension are built in (not extra attributes). */
+const BUILT_IN_LABELS = ['region', 'channel'] as const;
 
 export class IdempotencyConflictError extends Error {
   override name = 'IdempotencyConflictError';
@@ -167,6 +159,7 @@ async function storeUpload(deps: IngestDependencies, request: UploadRequest, spo
     const problems: RowProblem[] = [];
     const rejectedRows: RejectedRowsTable[] = [];
     const totals = { rows: 0, inserted: 0, updated: 0, unchanged: 0, rejected: 0 };
+    const notes = new LabelNotes();
     let write = true;
     let nextProgress = deps.limits.progressEveryRows;
 
@@ -203,9 +196,14 @@ async function storeUpload(deps: IngestDependencies, request: UploadRequest, spo
       batch = [];
     };
 
-    for await (const record of parseRecords(body, request.format, DEFAULT_PARSE_LIMITS)) {
+    for await (const record of parseRecords(body, request.format, DEFAULT_PARSE_LIMITS, request.delimiter)) {
       totals.rows = record.row;
       if (record.row > deps.limits.maxRows) throw new TooManyRowsError(deps.limits.maxRows);
+      // The columns are checked once, on the first row (a CSV header, or the first JSON object).
+      if (record.row === 1) {
+        const issues = checkColumns(request.kind, record.columns ?? [...record.fields.keys()]);
+        if (issues.length > 0) throw new InvalidColumnsError(issues, record.columnsLine ?? record.line);
+      }
       const checked = checkRecord(kind, record, today);
       if (!checked.ok) {
         reject(record.row, record.line, checked.errors, customerOf(Object.fromEntries(record.fields)));
@@ -215,6 +213,7 @@ async function storeUpload(deps: IngestDependencies, request: UploadRequest, spo
         if (firstLine !== null) {
           reject(record.row, record.line, [{ column: kind.keyColumn, value: key, reason: `${kind.keyColumn} ${key} appears twice in this upload (first on line ${firstLine})` }], customerOf(checked.row));
         } else {
+          if (kind.labels) notes.see(kind.labels(checked.row), BUILT_IN_LABELS);
           batch.push({ row: checked.row, line: record.line, rowNumber: record.row });
           if (batch.length >= batchRows) await flush();
         }
@@ -232,9 +231,19 @@ async function storeUpload(deps: IngestDependencies, request: UploadRequest, spo
     }
     await flush();
     seenKeys.clear();
-    if (totals.rows === 0) throw new EmptyUploadError('the upload holds no data rows');
+    if (totals.rows === 0) throw new EmptyUploadError(emptyUploadMessage(request.format, spooled));
     if (request.onError === 'reject' && totals.rejected > 0) {
       throw new RowsRejectedError(problems, totals.rejected, totals.rows);
+    }
+    // Skipping bad rows is for keeping the good ones; with none left the upload failed, and
+    // answering 201 with nothing stored would read as success.
+    if (totals.rejected === totals.rows) {
+      throw new RowsRejectedError(
+        rejectedRows.slice(0, MAX_LISTED_PROBLEMS).map((rejected) => ({ row: rejected.row_number, line: rejected.line, column: rejected.column_name, value: rejected.value, reason: rejected.reason })),
+        totals.rejected,
+        totals.rows,
+        `every row was rejected (${totals.rows === 1 ? 'the only row' : `all ${totals.rows}`}), so on_error=skip kept nothing; nothing was written`,
+      );
     }
 
     const stored: IngestsTable = {
@@ -253,6 +262,8 @@ async function storeUpload(deps: IngestDependencies, request: UploadRequest, spo
       idempotency_scope: request.idempotencyKey === null ? null : request.idempotencyScope,
       received_at: receivedAt,
       duration_ms: Math.round(performance.now() - started),
+      extra_attributes: JSON.stringify(notes.extraAttributes()),
+      warnings: JSON.stringify(kind.labels ? await notes.warnings(trx) : []),
     };
     await repository.insertIngest(trx, stored);
     await repository.insertRejectedRows(store, rejectedRows);
@@ -262,6 +273,11 @@ async function storeUpload(deps: IngestDependencies, request: UploadRequest, spo
       // Two uploads with the same new Idempotency-Key at once: the second to commit loses.
       if (request.idempotencyKey !== null && isUniqueViolation(error)) {
         throw new IdempotencyConflictError('another upload with this Idempotency-Key was stored first; repeat the request to get its receipt');
+      }
+      // A CSV or NDJSON body of one line whose rows were run together fails on its header or
+      // JSON first; the missing line breaks are the cause to name.
+      if (error instanceof MalformedBodyError && isSingleLine(request.format, spooled)) {
+        throw new EmptyUploadError(`${emptyUploadMessage(request.format, spooled)} (read as one line: ${error.message})`);
       }
       throw error;
     });
@@ -302,5 +318,25 @@ export function toReceipt(row: IngestsTable): Receipt {
     idempotency_key: row.idempotency_key,
     received_at: row.received_at,
     duration_ms: Number(row.duration_ms),
+    extra_attributes: stringList(row.extra_attributes),
+    warnings: stringList(row.warnings),
   };
+}
+
+function stringList(json: string): string[] {
+  const value: unknown = JSON.parse(json);
+  return Array.isArray(value) ? value.map(String) : [];
+}
+
+/** Whether a line-based body (CSV, NDJSON) arrived whole as one line. */
+function isSingleLine(format: UploadFormat, body: SpooledBody): boolean {
+  return format !== 'json' && body.bytes > 0 && !body.sawLineBreak;
+}
+
+/** Why an upload has no data rows, with the likeliest cause when the body was a single line. */
+function emptyUploadMessage(format: UploadFormat, body: SpooledBody): string {
+  if (isSingleLine(format, body)) {
+    return 'the upload holds no data rows: the body is a single line, as when `curl -d @file` strips the line breaks; send the file with `curl --data-binary @file`';
+  }
+  return format === 'csv' ? 'the upload holds no data rows: the CSV has a header row but nothing below it' : 'the upload holds no data rows';
 }

@@ -47,6 +47,12 @@ export class SegmentTableCache {
     this.entries.set(tableKey(reportId, version, format), table);
     }
 
+  /** Drops every table of one report (it was deleted). */
+  forgetReport(reportId: string): void {
+    const prefix = `${reportId}\u0000`;
+    for (const key of [...this.entries.keys()]) if (key.startsWith(prefix)) this.entries.delete(key);
+  }
+
   clear(): void {
     this.entries.clear();
   }

@@ -148,7 +148,7 @@ describe.each(TEST_DIALECTS)('erasure on %s', (dialect) => {
     const testApp = await startApp(dialect);
     await seedTwoCustomersWithEverything(testApp);
     const skipped = receiptOf(
-      await upload(testApp.app, '/v1/sales', CSV, csvText('sale_id,customer_id,sold_at,amount', 'S8,C1,2026-01-05,-1', 'S9,C2,2026-01-05,-2'), { query: 'on_error=skip' }),
+      await upload(testApp.app, '/v1/sales', CSV, csvText('sale_id,customer_id,sold_at,amount', 'S8,C1,2026-01-05,-1', 'S9,C2,2026-01-05,-2', 'S10,C2,2026-01-05,2.00'), { query: 'on_error=skip' }),
     );
     expect(skipped.rejected).toBe(2);
     expect((await testApp.app.inject({ method: 'DELETE', url: '/v1/customers/C1' })).statusCode).toBe(204);
@@ -171,6 +171,16 @@ describe.each(TEST_DIALECTS)('erasure on %s', (dialect) => {
     const before = await countRows(testApp);
     const problem = problemOf(await testApp.app.inject({ method: 'DELETE', url: '/v1/customers/C9' }), 404);
     expect(problem).toMatchObject({ type: '/problems/not-found', detail: 'no customer with id C9' });
+    expect(await countRows(testApp)).toEqual(before);
+  });
+
+  it('touches nothing, not even rejected rows naming that id, when the customer was never stored', async () => {
+    const testApp = await startApp(dialect);
+    await seedCustomers(testApp.app);
+    receiptOf(await upload(testApp.app, '/v1/sales', CSV, csvText('sale_id,customer_id,sold_at,amount', 'S1,C9,2026-01-05,1.00', 'S2,C1,2026-01-05,1.00'), { query: 'on_error=skip' }));
+    const before = await countRows(testApp);
+    expect(before.rejected_rows).toBe(1);
+    problemOf(await testApp.app.inject({ method: 'DELETE', url: '/v1/customers/C9' }), 404);
     expect(await countRows(testApp)).toEqual(before);
   });
 

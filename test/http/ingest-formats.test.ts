@@ -116,7 +116,11 @@ describe.each(TEST_DIALECTS)('CSV uploads on %s', (dialect) => {
     const testApp = await startApp(dialect);
     const body = Buffer.concat([Buffer.from(`${CUSTOMER_HEADER}\nC1,1985-04-12,Nor`), Buffer.from([0xff]), Buffer.from('th,web,individual\n')]);
     const problem = problemOf(await upload(testApp.app, '/v1/customers', CSV, body), 400);
-    expect(problem.detail).toBe('the CSV body is not valid UTF-8 text');
+    // Line 2, and the offset of 0xFF: the header line (52 bytes with its line feed), then the 17 bytes of "C1,1985-04-12,Nor".
+    expect(problem.detail).toBe(
+      'line 2: the CSV body is not valid UTF-8 text at byte offset 69 (byte 0xFF); if it was saved as Latin-1 or Windows-1252, save it again as UTF-8 and upload it again',
+    );
+    expect(problem.errors?.[0]?.line).toBe(2);
   });
 
   it('keeps extra columns as customer attributes under their normalized names, leaving empty cells out', async () => {

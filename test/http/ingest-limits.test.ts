@@ -47,7 +47,7 @@ describe.each(TEST_DIALECTS)('refused uploads on %s', (dialect) => {
   it('answers 400 for a CSV body with a header and no rows', async () => {
     const testApp = await startApp(dialect);
     const problem = problemOf(await upload(testApp.app, '/v1/customers', CSV, csvText(CUSTOMER_HEADER)), 400);
-    expect(problem.detail).toBe('the upload holds no data rows');
+    expect(problem.detail).toBe('the upload holds no data rows: the CSV has a header row but nothing below it');
   });
 
   it('answers 400 for an empty JSON array', async () => {

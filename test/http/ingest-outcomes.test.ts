@@ -167,19 +167,22 @@ describe.each(TEST_DIALECTS)('on_error=skip on %s', (dialect) => {
     const testApp = await startApp(dialect);
     await seedCustomers(testApp.app);
     const lines = Array.from({ length: 5 }, (_, index) => `S${index + 1},C9,2026-01-0${index + 1},1.00`);
-    const receipt = receiptOf(await upload(testApp.app, '/v1/sales', CSV, csvText(SALE_HEADER, ...lines), { query: 'on_error=skip' }));
+    const receipt = receiptOf(await upload(testApp.app, '/v1/sales', CSV, csvText(SALE_HEADER, ...lines, 'S6,C1,2026-01-06,1.00'), { query: 'on_error=skip' }));
     expect(receipt.rejected).toBe(5);
     const page = await testApp.app.inject({ method: 'GET', url: `/v1/ingests/${receipt.ingest_id}/rejected?limit=2&offset=2` });
     expect(page.json()).toMatchObject({ total: 5, limit: 2, offset: 2, rows: [{ line: 4 }, { line: 5 }] });
   });
 
-  it('stores a receipt even when every row is bad', async () => {
+  it('refuses with 422 and stores nothing, not even a receipt, when every row is bad', async () => {
     const testApp = await startApp(dialect);
     const before = await countRows(testApp);
-    const receipt = receiptOf(await upload(testApp.app, '/v1/sales', CSV, csvText(SALE_HEADER, 'S1,C9,2026-01-05,1.00'), { query: 'on_error=skip' }));
-    expect(receipt).toMatchObject({ rows: 1, inserted: 0, updated: 0, unchanged: 0, rejected: 1 });
-    const after = await countRows(testApp);
-    expect(after).toEqual({ ...before, ingests: 1, rejected_rows: 1 });
+    const response = await upload(testApp.app, '/v1/sales', CSV, csvText(SALE_HEADER, 'S1,C9,2026-01-05,1.00', 'S2,C8,2026-01-05,1.00'), { query: 'on_error=skip' });
+    const problem = problemOf(response, 422);
+    expect(problem.type).toBe('/problems/invalid-rows');
+    expect(problem.detail).toBe('every row was rejected (all 2), so on_error=skip kept nothing; nothing was written');
+    expect(problem).toMatchObject({ rejected_count: 2, row_count: 2 });
+    expect(problem.errors?.map((error) => error.value)).toEqual(['C9', 'C8']);
+    expect(await countRows(testApp)).toEqual(before);
   });
 });
 
@@ -256,12 +259,12 @@ describe.each(TEST_DIALECTS)('Idempotency-Key on %s', (dialect) => {
     const testApp = await startApp(dialect);
     const first = await upload(testApp.app, '/v1/customers', CSV, body, withKey('weekly-2026-24'));
     expect(first.statusCode).toBe(201);
-    expect(first.headers['idempotent-replayed']).toBe('false');
+    expect(first.headers['segrank-receipt-replayed']).toBe('false');
     const before = await countRows(testApp);
 
     const second = await upload(testApp.app, '/v1/customers', CSV, body, withKey('weekly-2026-24'));
     expect(second.statusCode).toBe(200);
-    expect(second.headers['idempotent-replayed']).toBe('true');
+    expect(second.headers['segrank-receipt-replayed']).toBe('true');
     expect(second.json()).toEqual(first.json());
     expect(receiptOf(second)).toMatchObject({ idempotency_key: 'weekly-2026-24', inserted: 1 });
     expect(second.headers['location']).toBe(first.headers['location']);

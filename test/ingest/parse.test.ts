@@ -211,7 +211,7 @@ describe('CSV parsing', () => {
   });
 
   it('refuses bytes that are not UTF-8', async () => {
-    await expect(parse(Buffer.from([0x61, 0x2c, 0x62, 0x0a, 0xff, 0xfe, 0x2c, 0x31, 0x0a]), 'csv')).rejects.toThrow('the CSV body is not valid UTF-8 text');
+    await expect(parse(Buffer.from([0x61, 0x2c, 0x62, 0x0a, 0xff, 0xfe, 0x2c, 0x31, 0x0a]), 'csv')).rejects.toThrow('the CSV body is not valid UTF-8 text at byte offset 4 (byte 0xFF)');
   });
 
   it('refuses UTF-16 text', async () => {

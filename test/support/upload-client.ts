@@ -9,6 +9,7 @@ import { expect, onTestFinished } from 'vitest';
 import type { Config } from '../../src/config.js';
 import type { Dialect } from '../../src/db/connect.js';
 import type { Database } from '../../src/db/tables.js';
+import type { Receipt } from '../../src/ingest/receipt.js';
 import { createTestApp, type TestApp } from './app.js';
 import { countTableRows } from './database-state.js';
 
@@ -72,22 +73,8 @@ export async function seedCustomers(app: FastifyInstance, body: string = THREE_C
   expect(response.statusCode, response.body).toBe(201);
 }
 
-export interface ReceiptBody {
-  ingest_id: string;
-  kind: string;
-  campaign_id: string | null;
-  on_error: string;
-  content_type: string;
-  rows: number;
-  inserted: number;
-  updated: number;
-  unchanged: number;
-  rejected: number;
-  sha256: string;
-  idempotency_key: string | null;
-  received_at: string;
-  duration_ms: number;
-}
+/** A receipt as the API sends it: the service's own declaration. */
+export type ReceiptBody = Receipt;
 
 /** The receipt of an accepted upload (201, or 200 for a replay). */
 export function receiptOf(response: LightMyRequestResponse): ReceiptBody {

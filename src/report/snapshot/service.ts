@@ -148,6 +148,34 @@ export async function createReport(deps: ReportDependencies, body: unknown): Pro
   return { report_id: row.report_id, ...definition, created_at: row.created_at, latest_snapshot: null };
 }
 
+/**
+ * Replaces a report's definition. Snapshots taken later use the new one; earlier snapshots keep
+ * the definition they were computed with (each snapshot carries its own).
+ * @throws ReportNotFoundError, InvalidDefinitionError
+ */
+export async function replaceReport(deps: ReportDependencies, reportId: string, body: unknown): Promise<ReportResource> {
+  if (!(await repository.findReport(deps.db, reportId))) throw new ReportNotFoundError(reportId);
+  const definition = await normalizeDefinition(body, {
+    missingCampaigns: (ids) => repository.missingCampaigns(deps.readDb, ids),
+    missingAttributes: (names) => repository.missingAttributes(deps.readDb, names),
+  });
+  const replaced = await repository.replaceReportDefinition(deps.db, reportId, { name: definition.name, definition: JSON.stringify(definition), refresh: definition.refresh });
+  if (!replaced) throw new ReportNotFoundError(reportId);
+  deps.logger.info({ reportId, name: definition.name }, 'report definition replaced');
+  return getReport(deps, reportId);
+}
+
+/**
+ * Deletes a report and every snapshot of it, and forgets their rendered tables.
+ * @throws ReportNotFoundError
+ */
+export async function deleteReport(deps: ReportDependencies, cache: SegmentTableCache, reportId: string): Promise<void> {
+  const deleted = await deps.db.transaction().execute((trx) => repository.deleteReport(trx, reportId));
+  if (!deleted) throw new ReportNotFoundError(reportId);
+  cache.forgetReport(reportId);
+  deps.logger.info({ reportId }, 'report deleted');
+}
+
 /** Every saved report, oldest first, each with its latest snapshot. */
 export async function listReports(deps: ReportDependencies): Promise<ReportResource[]> {
   const rows = await repository.listReports(deps.readDb);
@@ -338,6 +366,7 @@ export async function getSnapshotBody(deps: ReportDependencies, reportId: string
 /**
  * The flat segment table of a snapshot (`latest` for the newest) in one format, rendered once
  * and then served from `cache`; undefined when there is no such snapshot.
+ * @throws ReportNotFoundError
  */
 export async function segmentTable(
   deps: ReportDependencies,
@@ -348,7 +377,11 @@ export async function segmentTable(
 ): Promise<RenderedTable | undefined> {
   // An erasure may redact a stored snapshot, so a rendered table is kept per version of the body.
   const version = await repository.snapshotVersion(deps.readDb, reportId, snapshotId);
-  if (version === undefined) return undefined;
+  if (version === undefined) {
+    // "no snapshot yet" would mislead about a report that does not exist at all.
+    if (!(await repository.findReport(deps.readDb, reportId))) throw new ReportNotFoundError(reportId);
+    return undefined;
+  }
   const versionKey = `${version.snapshot_id}@${version.redacted_at ?? ''}`;
   const cached = cache.get(reportId, versionKey, format);
   if (cached) return cached;

@@ -1,6 +1,7 @@
 /** Every SQL statement about report definitions and snapshots. */
 export {
   countSnapshots,
+  deleteReport,
   findReport,
   findSnapshotBody,
   insertReport,
@@ -15,5 +16,6 @@ export {
   replaceRedactedBody,
   snapshotBodies,
   snapshotVersion,
+  replaceReportDefinition,
   type SnapshotMeta,
 } from './repository.js';

@@ -18,6 +18,19 @@ export async function findReport(db: Executor, reportId: string): Promise<Report
   return db.selectFrom('reports').selectAll().where('report_id', '=', reportId).executeTakeFirst();
 }
 
+/** Replaces the definition of a report; false when there is none with this id. */
+export async function replaceReportDefinition(db: Executor, reportId: string, changes: Pick<ReportsTable, 'name' | 'definition' | 'refresh'>): Promise<boolean> {
+  const result = await db.updateTable('reports').set(changes).where('report_id', '=', reportId).executeTakeFirst();
+  return Number(result.numUpdatedRows) > 0;
+}
+
+/** Deletes a report and its snapshots; false when there is none with this id. */
+export async function deleteReport(db: Executor, reportId: string): Promise<boolean> {
+  await db.deleteFrom('report_snapshots').where('report_id', '=', reportId).execute();
+  const result = await db.deleteFrom('reports').where('report_id', '=', reportId).executeTakeFirst();
+  return Number(result.numDeletedRows) > 0;
+}
+
 function compareText(left: string, right: string): number {
   return left === right ? 0 : left < right ? -1 : 1;
 }
