@@ -314,7 +314,7 @@ describe.each(TEST_DIALECTS)('Idempotency-Key on %s', (dialect) => {
     expect(mine.statusCode).toBe(201);
     const theirs = await send(second.key);
     expect(theirs.statusCode).toBe(201);
-    expect(theirs.headers['idempotent-replayed']).toBe('false');
+    expect(theirs.headers['segrank-receipt-replayed']).toBe('false');
     expect(receiptOf(theirs).ingest_id).not.toBe(receiptOf(mine).ingest_id);
     expect(receiptOf(theirs)).toMatchObject({ idempotency_key: 'weekly-2026-24', inserted: 0, unchanged: 1 });
     // Each key still replays its own receipt.
