@@ -1,7 +1,13 @@
-/** Erasing one customer on request: every row about them goes, in one transaction. */
+/**
+ * Erasing one customer on request: every row about them goes, in one transaction, serialised
+ * with uploads (`takeWriteLock`) so that an upload in flight cannot store a row about them
+ * after the erasure has answered.
+ */
 import type { Kysely } from 'kysely';
 import type { Executor } from '../db/executor.js';
+import { sqliteConnectionOf } from '../db/connect.js';
 import type { Database } from '../db/tables.js';
+import { takeWriteLock } from '../db/write-lock.js';
 import { readIdentifier } from './fields.js';
 import * as repository from './repository.js';
 
@@ -26,6 +32,7 @@ export type SnapshotRedaction = (trx: Executor, customer: ErasedCustomer) => Pro
 export async function eraseCustomer(db: Kysely<Database>, customerId: string, redactSnapshots?: SnapshotRedaction): Promise<{ erased: boolean; snapshotsRedacted: number }> {
   if (!readIdentifier(customerId).ok) return { erased: false, snapshotsRedacted: 0 };
   return db.transaction().execute(async (trx) => {
+    await takeWriteLock(trx, sqliteConnectionOf(db) !== null, 'erasure');
     const customer = await repository.customerLabels(trx, customerId);
     if (customer === undefined) return { erased: false, snapshotsRedacted: 0 };
     const erased = await repository.eraseCustomer(trx, customerId);

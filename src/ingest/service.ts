@@ -11,6 +11,7 @@ import type { Logger } from '../logger.js';
 import { spoolBody, type SpooledBody } from './body-spool.js';
 export { BodyIdleTimeoutError, ClientAbortedError, UploadTooLargeError } from './body-spool.js';
 import { sqliteConnectionOf } from '../db/connect.js';
+import { takeWriteLock } from '../db/write-lock.js';
 import type { Database, IngestKind, IngestsTable, OnError, RejectedRowsTable } from '../db/tables.js';
 import { contactsKind, customersKind, salesKind, type PendingRow, type UploadKind } from './kinds.js';
 import { checkColumns, InvalidColumnsError } from './header-check.js';
@@ -151,8 +152,10 @@ async function storeUpload(deps: IngestDependencies, request: UploadRequest, spo
   const receipt = await deps.db
     .transaction()
     .execute(async (trx) => {
-    if (request.campaignId !== null) await repository.ensureCampaign(trx, request.campaignId, receivedAt);
     const store: repository.UploadStore = { trx, sqlite: sqliteConnectionOf(deps.db) };
+    await takeWriteLock(trx, store.sqlite !== null, 'upload');
+    log.debug('upload writing');
+    if (request.campaignId !== null) await repository.ensureCampaign(trx, request.campaignId, receivedAt);
     const batchRows = store.sqlite === null ? BATCH_ROWS.postgres : BATCH_ROWS.sqlite;
     const mayExist = await repository.hasStoredRows(trx, request.kind, request.campaignId);
     const seenKeys = await repository.openUploadKeys(store);

@@ -34,18 +34,24 @@ const CENTS_PER_UNIT = 100;
 
 /**
  * The summary (major units) of exact sums of cents: mean Σv / n and sum of squared deviations
- * (n·Σv² − (Σv)²) / n, each numerator exact, so only the final division rounds: values that
- * are all zero give a mean and spread of exactly 0, and any constant gives a spread of 0.
+ * (n·Σv² − (Σv)²) / n, each numerator exact, so only the final divisions round: values that are
+ * all zero give a mean and spread of exactly 0, and any constant gives a spread of 0.
  */
-export function summaryOfCents(money: MoneySums): Summary {
+function summaryOfCents(money: MoneySums): Summary {
   if (money.n === 0) return emptySummary();
   const n = BigInt(money.n);
   const deviations = n * money.squares - money.sum * money.sum;
   return {
     n: money.n,
-    mean: Number(money.sum) / (money.n * CENTS_PER_UNIT),
+    mean: exactRatio(money.sum, n * BigInt(CENTS_PER_UNIT)),
     sumSquaredDeviations: deviations <= 0n ? 0 : Number(deviations) / (money.n * CENTS_PER_UNIT * CENTS_PER_UNIT),
   };
+}
+
+/** a / b with the whole part divided exactly, so a mean of equal amounts comes out as that amount. */
+function exactRatio(a: bigint, b: bigint): number {
+  const whole = a / b;
+  return Number(whole) + Number(a - whole * b) / Number(b);
 }
 
 function addMoney(a: MoneySums, b: MoneySums): MoneySums {

@@ -54,8 +54,6 @@ export interface PopulationTotals {
  */
 export type Arithmetic = 'exact' | 'floating';
 
-export const NO_SHIFTS: Shifts = { unitValue: 0, convertedValue: 0, age: 0 };
-
 /** Rounded means: integers near the data, so every shifted term is an exact integer. */
 export function shiftsFromTotals(totals: PopulationTotals): Shifts {
   const roundedMean = (total: number, count: number) => (count === 0 ? 0 : Math.round(total / count));

@@ -92,4 +92,30 @@ describe('rolling cells up to segments', () => {
   test('a cross naming an unknown dimension is a programming error', () => {
     expect(() => rollUp(cells, ['region', 'channel'], [['region', 'age_band']])).toThrow(/does not have/);
   });
+
+  test('money at the per-row cap many times over: sums stay exact, and a rest of zeros has mean and spread exactly 0', () => {
+    // 93,000 units at 99,999,999,999,999 cents (the per-row cap) in one cell, 1,000 units worth 0 in another.
+    const cap = 99_999_999_999_999n;
+    const big = 93_000;
+    const cell = (labels: string[], n: number, cents: bigint): CellAggregate => ({
+      labels,
+      n,
+      conversions: cents === 0n ? 0 : n,
+      unitValue: { n, sum: BigInt(n) * cents, squares: BigInt(n) * cents * cents },
+      convertedValue: cents === 0n ? { n: 0, sum: 0n, squares: 0n } : { n, sum: BigInt(n) * cents, squares: BigInt(n) * cents * cents },
+      age: { n: 0, sumOfShifted: 0, sumOfSquaredShifted: 0 },
+      ageValue: { n: 0, ageSum: 0, ageSquaredSum: 0, valueSum: 0, valueSquaredSum: 0, crossSum: 0 },
+    });
+    const atCap = { labels: ['Fennwick'], stats: cellStats(cell(['Fennwick'], big, cap), SHIFTS) };
+    const zeros = { labels: ['Saltmere'], stats: cellStats(cell(['Saltmere'], 1000, 0n), SHIFTS) };
+    const { total, segments } = rollUp([atCap, zeros], ['region'], []);
+    // Σv = 93,000 × 99,999,999,999,999 = 9,299,999,999,999,907,000 cents, beyond 2^63 − 1 (by hand).
+    expect(total.unitValueCents.sum).toBe(9_299_999_999_999_907_000n);
+    const rest = subtractGroup(total, segments.find((segment) => segment.labels[0] === 'Fennwick')!.stats);
+    expect(rest.unitValue).toEqual({ n: 1000, mean: 0, sumSquaredDeviations: 0 });
+    const capped = subtractGroup(total, zeros.stats).unitValue;
+    // All 93,000 values equal: mean 999,999,999,999.99 to double precision, spread exactly 0.
+    expect(capped.mean).toBe(999_999_999_999.99);
+    expect(capped.sumSquaredDeviations).toBe(0);
+  });
 });

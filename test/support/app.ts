@@ -4,6 +4,7 @@ import pino from 'pino';
 import { buildApp } from '../../src/app.js';
 import { loadConfig, type Config } from '../../src/config.js';
 import type { Dialect } from '../../src/db/connect.js';
+import type { Logger } from '../../src/logger.js';
 import { checkResponse } from './contract.js';
 import { createTestDatabase, type TestDatabase } from './database.js';
 
@@ -19,10 +20,10 @@ export interface TestApp {
 /** A fixed clock keeps "today" stable in tests of future dates and ages. */
 export const TEST_TODAY = new Date('2026-06-15T12:00:00Z');
 
-export async function createTestApp(dialect: Dialect, overrides: Partial<Config> = {}, now: () => Date = () => TEST_TODAY): Promise<TestApp> {
+export async function createTestApp(dialect: Dialect, overrides: Partial<Config> = {}, now: () => Date = () => TEST_TODAY, logger?: Logger): Promise<TestApp> {
   const database = await createTestDatabase(dialect);
   const config: Config = { ...loadConfig({}), database: database.settings, scheduleEnabled: false, authMode: 'open', ...overrides };
-  const app = await buildApp({ config, database: database.handle, logger: pino({ level: process.env['TEST_LOG_LEVEL'] ?? 'silent' }), now });
+  const app = await buildApp({ config, database: database.handle, logger: logger ?? pino({ level: process.env['TEST_LOG_LEVEL'] ?? 'silent' }), now });
   const contractViolations: string[] = [];
   app.addHook('onSend', async (request, reply, payload) => {
     if (typeof payload === 'string' && request.routeOptions.url) {

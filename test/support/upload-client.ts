@@ -10,6 +10,7 @@ import type { Config } from '../../src/config.js';
 import type { Dialect } from '../../src/db/connect.js';
 import type { Database } from '../../src/db/tables.js';
 import type { Receipt } from '../../src/ingest/receipt.js';
+import type { Logger } from '../../src/logger.js';
 import { createTestApp, type TestApp } from './app.js';
 import { countTableRows } from './database-state.js';
 
@@ -18,8 +19,8 @@ export const JSON_TYPE = 'application/json';
 export const NDJSON = 'application/x-ndjson';
 
 /** A fresh app on a fresh database, closed when the current test finishes. */
-export async function startApp(dialect: Dialect, overrides: Partial<Config> = {}, now?: () => Date): Promise<TestApp> {
-  const testApp = await createTestApp(dialect, overrides, now);
+export async function startApp(dialect: Dialect, overrides: Partial<Config> = {}, now?: () => Date, logger?: Logger): Promise<TestApp> {
+  const testApp = await createTestApp(dialect, overrides, now, logger);
   onTestFinished(() => testApp.close());
   return testApp;
 }
