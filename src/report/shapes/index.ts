@@ -17,7 +17,6 @@ export {
   SnapshotSegment,
   VERDICTS,
   Verdict,
-  toSegmentRow,
   type SegmentRowField,
 } from './snapshot.js';
 export { Report, ReportList, SegmentTable, SnapshotList, SnapshotMeta } from './resources.js';

@@ -272,10 +272,3 @@ export const Snapshot = Type.Object({
   data_quality: DataQuality,
 });
 export type Snapshot = Static<typeof Snapshot>;
-
-/** The flat row of a snapshot segment, fields in the fixed order. */
-export function toSegmentRow(segment: SegmentRow): SegmentRow {
-  const row: Record<string, unknown> = {};
-  for (const field of SEGMENT_ROW_FIELDS) row[field] = segment[field];
-  return row as unknown as SegmentRow;
-}

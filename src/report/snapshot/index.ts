@@ -23,7 +23,8 @@ export {
   listSnapshots,
   refreshReport,
   reportDependencies,
-  segmentTable,
+  resolveSnapshotId,
   snapshotInContext,
+  storedSnapshotText,
   type ReportDependencies,
 } from './service.js';

@@ -24,7 +24,6 @@ import { buildSnapshot } from './build.js';
 import { normalizeDefinition, type ReportDefinition } from '../definition/index.js';
 import { ageGridAxis, ageValueGridAxes, isExpandable } from './profiles.js';
 import * as repository from '../store/index.js';
-import { renderSegmentTable, type RenderedTable, type SegmentTableCache, type TableFormat } from '../../present/index.js';
 import type { Report, Snapshot } from '../shapes/index.js';
 
 export interface ReportDependencies {
@@ -274,26 +273,14 @@ export async function getSnapshotBody(deps: ReportDependencies, reportId: string
   return repository.findSnapshotBody(deps.db, reportId, snapshotId);
 }
 
-/**
- * The flat segment table of a snapshot (`latest` for the newest) in one format, rendered once
- * and then served from `cache`; undefined when there is no such snapshot.
- */
-export async function segmentTable(
-  deps: ReportDependencies,
-  cache: SegmentTableCache,
-  reportId: string,
-  snapshotId: string,
-  format: TableFormat,
-): Promise<RenderedTable | undefined> {
-  const resolvedId = snapshotId === 'latest' ? await repository.latestSnapshotId(deps.readDb, reportId) : snapshotId;
-  if (resolvedId === undefined) return undefined;
-  const cached = cache.get(reportId, resolvedId, format);
-  if (cached) return cached;
-  const stored = await repository.findSnapshotBody(deps.readDb, reportId, resolvedId);
-  if (stored === undefined) return undefined;
-  const table = renderSegmentTable(JSON.parse(stored) as Snapshot, format);
-  cache.set(reportId, format, table);
-  return table;
+/** The id `snapshotId` stands for (`latest`: the newest), or undefined when the report has no snapshot; read without waiting behind uploads. */
+export async function resolveSnapshotId(deps: ReportDependencies, reportId: string, snapshotId: string): Promise<string | undefined> {
+  return snapshotId === 'latest' ? repository.latestSnapshotId(deps.readDb, reportId) : snapshotId;
+}
+
+/** The stored JSON text of one snapshot by its id, or undefined; read without waiting behind uploads. */
+export async function storedSnapshotText(deps: ReportDependencies, reportId: string, snapshotId: string): Promise<string | undefined> {
+  return repository.findSnapshotBody(deps.readDb, reportId, snapshotId);
 }
 
 /** A snapshot as the report page shows it: with the snapshots before it and the report's listing. */
