@@ -57,6 +57,9 @@ const LOG_LEVELS: readonly LogLevel[] = ['fatal', 'error', 'warn', 'info', 'debu
 
 const DEFAULT_SQLITE_FILE = path.join('data', 'segrank.sqlite');
 
+/** The database `npm run demo` uses when DATABASE_URL is not set; removed and rebuilt at each demo start. */
+export const DEMO_SQLITE_FILE = path.join('data', 'demo.sqlite');
+
 type Environment = Record<string, string | undefined>;
 
 /** Reads the whole configuration from `env`; throws ConfigError naming the first bad variable. */
