@@ -21,6 +21,33 @@ const INTERVAL_ROW_STEP = 18;
 const COUNT_COLUMN_END = INTERVAL_PLOT_WIDTH + 78;
 const VERDICT_COLUMN_START = INTERVAL_PLOT_WIDTH + 88;
 
+/**
+ * Most rows the chart draws. With more tested segments it draws those that do better or worse
+ * than the rest (where the decisions are) and fills up with the best-ranked others; the table
+ * below holds every segment, so the charts stay on the first screens of the page.
+ */
+export const MAX_INTERVAL_ROWS = 24;
+
+const isDecided = (row: IntervalRow) => row.verdict === 'better' || row.verdict === 'worse';
+
+/**
+ * The rows the chart draws, in rank order: all of them when they fit; otherwise every better
+ * or worse segment and the best-ranked others up to MAX_INTERVAL_ROWS (or, when even the
+ * decided ones are too many, the first and last half of those).
+ * @example
+ * chartedRows(rows).length; // 24 for the demo's 132 tested segments
+ */
+export function chartedRows(rows: readonly IntervalRow[]): IntervalRow[] {
+  if (rows.length <= MAX_INTERVAL_ROWS) return [...rows];
+  const decided = rows.filter(isDecided);
+  if (decided.length >= MAX_INTERVAL_ROWS) {
+    const half = MAX_INTERVAL_ROWS / 2;
+    return [...decided.slice(0, half), ...decided.slice(decided.length - half)];
+  }
+  const chosen = new Set([...decided, ...rows.filter((row) => !isDecided(row)).slice(0, MAX_INTERVAL_ROWS - decided.length)]);
+  return rows.filter((row) => chosen.has(row));
+}
+
 export interface IntervalRow {
   rank: number;
   segment: string;
@@ -151,10 +178,18 @@ export async function intervalChart(snapshot: Snapshot): Promise<ChartFigure> {
   const definition = snapshot.definition;
   const metric = rankingMetric(definition);
   const confidence = confidenceLabel(definition);
-  const rows = intervalRows(snapshot);
+  const allRows = intervalRows(snapshot);
+  const rows = chartedRows(allRows);
+  const left = allRows.length - rows.length;
+  const omitted =
+    left > 0
+      ? ` It shows ${formatCount(rows.length)} of the ${formatCount(allRows.length)} tested segments: ${
+          rows.every(isDecided) ? 'the first and the last of those that do better or worse than the rest' : 'every one that does better or worse than the rest, and the best-ranked of the others'
+        }; the other ${formatCount(left)} are in the table below.`
+      : '';
   const axisTitle = `Difference from the rest: ${metric.name}, ${metric.differenceUnit} (${confidence})`;
   const svg = await renderChart(intervalChartSpec(rows, axisTitle));
-  const counts = TESTED_VERDICTS.map((verdict) => `${rows.filter((row) => row.verdict === verdict).length} ${VERDICT_STYLES[verdict].label}`).join(', ');
+  const counts = TESTED_VERDICTS.map((verdict) => `${allRows.filter((row) => row.verdict === verdict).length} ${VERDICT_STYLES[verdict].label}`).join(', ');
   const bySegment = new Map(snapshot.segments.map((segment) => [segment.segment, segment]));
   const first = snapshot.segments.find((segment) => segment.rank === 1);
   const firstText = first
@@ -171,14 +206,14 @@ export async function intervalChart(snapshot: Snapshot): Promise<ChartFigure> {
     heading: `Difference from the rest, ${metric.name}`,
     svg,
     wide: true,
-    label: `Interval chart of the difference in ${metric.name} between each of ${rows.length} tested segments and the rest, in rank order: ${counts}.${firstText}`,
+    label: `Interval chart of the difference in ${metric.name} between ${left > 0 ? `${rows.length} of the ${allRows.length}` : `each of ${rows.length}`} tested segments and the rest, in rank order: ${counts}.${firstText}${omitted}`,
     caption: html`Each row is a tested segment, in rank order (${
       definition.rank_order === 'lower_bound' ? 'by the lower confidence bound' : 'by the estimate'
     }). The mark is the segment's ${metric.name} minus that of everyone else; the line is its ${confidence} (${metric.intervalMethod}). The dashed line is no difference. Shape and word give the verdict: ${TESTED_VERDICTS.map(
       (verdict) => `${VERDICT_STYLES[verdict].symbol} ${VERDICT_STYLES[verdict].label}`,
     ).join(', ')}. Verdicts use ${adjusted}, so an interval that only just misses the line may still be inconclusive. The n column counts the segment's ${
       snapshot.population.unit === 'contact' ? 'contacted customers' : 'customers'
-    }.`,
+    }.${omitted}`,
     data: {
       columns: ['rank', 'segment', 'n', `difference (${metric.differenceUnit})`, `${confidence} low`, `${confidence} high`, 'adjusted p', 'verdict'],
       rows: rows.map((row) => {
