@@ -38,6 +38,11 @@ function verdictList(snapshot: Snapshot, options: { id: string; title: string; e
   return html`<div class="decision-list" id="${options.id}"><h3>${options.title} (${formatCount(segments.length)})</h3>${body}</div>`;
 }
 
+/** "1 does", "3 do": a count with its verb in agreement. */
+function counted(count: number, singular: string, plural: string): string {
+  return `${formatCount(count)} ${count === 1 ? singular : plural}`;
+}
+
 function byRank(left: SnapshotSegment, right: SnapshotSegment): number {
   return (left.rank ?? Number.MAX_SAFE_INTEGER) - (right.rank ?? Number.MAX_SAFE_INTEGER);
 }
@@ -60,7 +65,7 @@ export function decisionSection(snapshot: Snapshot): SafeHtml {
   const tested = snapshot.segments.length - small;
   return html`<section aria-labelledby="decision-heading" class="decision">
 <h2 id="decision-heading">Whom to target next</h2>
-<p class="lead">Of ${formatCount(tested)} segments tested on ${metric.name}, ${formatCount(better.length)} do better than the rest, ${formatCount(worse.length)} do worse, ${formatCount(uncertain.length)} are still too uncertain to call and ${formatCount(alike)} show no detectable difference${small > 0 ? html`; ${formatCount(small)} ${small === 1 ? 'is' : 'are'} too small to test` : ''}.
+<p class="lead">Of ${formatCount(tested)} ${tested === 1 ? 'segment' : 'segments'} tested on ${metric.name}, ${counted(better.length, 'does', 'do')} better than the rest, ${counted(worse.length, 'does', 'do')} worse, ${counted(uncertain.length, 'is', 'are')} still too uncertain to call and ${counted(alike, 'shows', 'show')} no detectable difference${small > 0 ? `; ${counted(small, 'is', 'are')} too small to test` : ''}.
 Each segment below: its expected ${metric.name} with the ${formatConfidence(snapshot.definition.confidence)} confidence interval, against everyone else, and how many ${vocabulary(snapshot.definition).units} it holds (n).</p>
 <div class="decision-lists">
 ${verdictList(snapshot, {
