@@ -1,7 +1,7 @@
 /**
  * The report as one self-contained web page that leads with the decision: whom to target,
- * whom to avoid and what is still uncertain; then the summary, cautions and (folded) the
- * settings behind it; then the charts (SVG drawn on the server); then the full ranked table.
+ * whom to avoid and what is still uncertain; then the cautions and (folded) the summary
+ * paragraph and the settings behind it; then the charts (SVG drawn on the server); then the full ranked table.
  * Nothing is fetched from elsewhere; the only script and stylesheet are inline and carry the
  * response's CSP nonces. Every piece of data goes through the escaping `html` template.
  */
@@ -176,10 +176,11 @@ ${input.openMode ? html`<p class="banner" role="note" id="open-mode-banner">${OP
 </header>
 ${decisionSection(snapshot)}
 <section aria-labelledby="summary-heading">
-<h2 id="summary-heading">Summary</h2>
-<p class="summary">${snapshot.summary}</p>
+<h2 id="summary-heading">Cautions and method</h2>
 <div class="cautions"><h3>Cautions</h3><ul>${snapshot.cautions.map((caution) => html`<li>${caution}</li>`)}</ul>${reversals}</div>
-<details class="method"><summary>How these figures were made: data, n, confidence level, adjustment, ranking</summary>${facts(snapshot)}</details>
+<details class="method"><summary>The report in one paragraph, and how these figures were made: data, n, confidence level, adjustment, ranking</summary>
+<p class="summary">${snapshot.summary}</p>
+${facts(snapshot)}</details>
 </section>
 <section aria-labelledby="charts-heading">
 <h2 id="charts-heading">Charts</h2>

@@ -211,7 +211,7 @@ describe('the top of the page: the decision', () => {
   });
 
   test('the settings behind the figures are folded away, and the filter offers each verdict present with its count', () => {
-    expect(page).toMatch(/<details class="method"><summary>How these figures were made[^<]*<\/summary><dl class="facts">/);
+    expect(page).toMatch(/<details class="method"><summary>The report in one paragraph, and how these figures were made[^<]*<\/summary>\n<p class="summary">[^<]+<\/p>\n<dl class="facts">/);
     const filter = /<fieldset class="verdict-filter no-print">[\s\S]*?<\/fieldset>/.exec(page)?.[0] ?? '';
     expect([...filter.matchAll(/id="filter-([a-z_]+)"/g)].map((match) => match[1])).toEqual(['all', 'better', 'worse', 'inconclusive', 'no_detectable_difference', 'too_small']);
     expect(filter).toContain('<input type="radio" name="verdict-filter" id="filter-all" value="all" checked> all segments (5)');
