@@ -4,8 +4,8 @@
  * word and colour, and the segment's n beside it.
  */
 import type { TopLevelSpec } from 'vega-lite';
-import { formatCount, formatPValue, formatRank } from '../../report/wording/index.js';
-import type { Snapshot, Verdict } from '../../report/shapes/index.js';
+import { formatCount, formatPValue, formatRank, readableSegmentName } from '../../report/wording/index.js';
+import type { Snapshot, SnapshotSegment, Verdict } from '../../report/shapes/index.js';
 import type { ChartFigure } from '../figure.js';
 import { html } from '../html.js';
 import { confidenceLabel, rankingMetric } from '../metric.js';
@@ -50,7 +50,10 @@ export function chartedRows(rows: readonly IntervalRow[]): IntervalRow[] {
 
 export interface IntervalRow {
   rank: number;
+  /** the machine label, `dimension=label & …` */
   segment: string;
+  /** the segment as people say it ("Fennwick · catalogue mail"), unique within the chart */
+  name: string;
   n: number;
   verdict: Verdict;
   /** the difference from the rest and its interval, in drawn units (percentage points or money) */
@@ -67,6 +70,13 @@ export interface IntervalRow {
 export function intervalRows(snapshot: Snapshot): IntervalRow[] {
   const metric = rankingMetric(snapshot.definition);
   const drawn = (value: number | null) => (value === null ? null : value * metric.drawnScale);
+  // Two segments may read alike (a region and a channel with the same label): those keep their machine label beside the name.
+  const nameCounts = new Map<string, number>();
+  for (const segment of snapshot.segments) nameCounts.set(readableSegmentName(segment.values), (nameCounts.get(readableSegmentName(segment.values)) ?? 0) + 1);
+  const nameOf = (segment: SnapshotSegment) => {
+    const name = readableSegmentName(segment.values);
+    return (nameCounts.get(name) ?? 0) > 1 ? `${name} (${segment.segment})` : name;
+  };
   return snapshot.segments
     .filter((segment) => segment.tested && segment.rank !== null)
     .sort((left, right) => (left.rank as number) - (right.rank as number))
@@ -75,6 +85,7 @@ export function intervalRows(snapshot: Snapshot): IntervalRow[] {
       return {
         rank: segment.rank as number,
         segment: segment.segment,
+        name: nameOf(segment),
         n: segment.n,
         verdict: segment.verdict,
         estimate: drawn(difference.estimate),
@@ -99,7 +110,7 @@ export function intervalChartSpec(rows: readonly IntervalRow[], axisTitle: strin
   const verdicts = TESTED_VERDICTS.filter((verdict) => rows.some((row) => row.verdict === verdict));
   const labels = verdicts.map((verdict) => VERDICT_STYLES[verdict].label);
   const x = { type: 'quantitative', scale: { domain: scale.domain, nice: false, zero: false } } as const;
-  const y = { field: 'segment', type: 'nominal', sort: null, axis: { title: null, labelLimit: 320, labelFontSize: 11, ticks: false, domain: false } } as const;
+  const y = { field: 'name', type: 'nominal', sort: null, axis: { title: null, labelLimit: 320, labelFontSize: 11, ticks: false, domain: false } } as const;
   const values = rows.map((row) => ({
     ...row,
     verdict_label: VERDICT_STYLES[row.verdict].label,
@@ -196,8 +207,8 @@ export async function intervalChart(snapshot: Snapshot): Promise<ChartFigure> {
     ? (() => {
         const difference = metric.differenceOf(first);
         return difference.estimate === null
-          ? ` First in rank: ${first.segment}.`
-          : ` First in rank: ${first.segment}, ${metric.difference(difference.estimate)}${difference.low !== null && difference.high !== null ? ` (${confidence} ${metric.difference(difference.low)} to ${metric.difference(difference.high)})` : ''}.`;
+          ? ` First in rank: ${readableSegmentName(first.values)}.`
+          : ` First in rank: ${readableSegmentName(first.values)}, ${metric.difference(difference.estimate)}${difference.low !== null && difference.high !== null ? ` (${confidence} ${metric.difference(difference.low)} to ${metric.difference(difference.high)})` : ''}.`;
       })()
     : '';
   const adjusted = definition.adjustment === 'none' ? 'raw p-values (no adjustment for the number of tests)' : `p-values adjusted for the ${formatCount(definition.rank_by === 'conversion_rate' ? snapshot.row_counts.rate_tests : snapshot.row_counts.value_tests)} tests`;
@@ -223,7 +234,7 @@ export async function intervalChart(snapshot: Snapshot): Promise<ChartFigure> {
         const text = (value: number | null) => (value === null ? 'not computed' : metric.difference(value));
         return [
           formatRank(row.rank),
-          row.segment,
+          row.name,
           formatCount(row.n),
           text(difference.estimate),
           text(difference.low),
