@@ -1,20 +1,20 @@
 /**
  * `npm run demo`: a fresh embedded database with the invented demo data, loaded through the
  * ingest routes, one report defined and refreshed through the report routes, then the service
- * listening, with keys and URLs to try printed.
+ * listening. Its log is quiet (warnings only, unless LOG_LEVEL says otherwise), so the keys,
+ * URLs and the `export` lines for the `segrank` commands are the last thing on the screen.
  */
 import fs from 'node:fs';
 import path from 'node:path';
 import type { FastifyInstance } from 'fastify';
 import { createKey } from '../src/auth/keys.js';
-import type { Config } from '../src/config.js';
+import { DEMO_SQLITE_FILE, type Config } from '../src/config.js';
 import { openDatabase } from '../src/db/connect.js';
 import { migrateToLatest } from '../src/db/migrate.js';
 import { startService } from '../src/server.js';
 import { DEMO_CAMPAIGNS, DEFAULT_DEMO_OPTIONS, generateDemoData } from './generate.js';
 import { loadDemoData } from './load.js';
 
-export const DEMO_SQLITE_FILE = path.join('data', 'demo.sqlite');
 
 /** The report the demo defines: the spring campaign by age band, region, channel and the newsletter attribute. */
 export const DEMO_REPORT = {
@@ -57,13 +57,42 @@ async function defineAndRefreshReport(app: FastifyInstance, headers: Record<stri
   return { reportId, tested: snapshot.segments.filter((segment) => segment.verdict !== 'too_small').length, verdicts };
 }
 
+/** Whether the configured database is the demo's own file (then the demo may start it afresh). */
+function isDemoFile(database: Config['database']): boolean {
+  return database.dialect === 'sqlite' && path.resolve(database.file) === path.resolve(DEMO_SQLITE_FILE);
+}
+
+/** `export …` lines that point the `segrank` commands and the README's examples at this demo. */
+function exportLines(config: Config, reportId: string, keys: DemoKeys | null): string[] {
+  const database = config.database;
+  const url = database.dialect === 'sqlite' ? path.resolve(database.file) : database.connectionString;
+  return [
+    `export DATABASE_URL='${url}'`,
+    ...(database.dialect === 'postgres' && database.schema !== 'public' ? [`export DATABASE_SCHEMA=${database.schema}`] : []),
+    `export REPORT_ID=${reportId}`,
+    ...(keys ? [`export ADMIN_KEY=${keys.admin} INGEST_KEY=${keys.ingest} READ_KEY=${keys.read}`] : []),
+  ];
+}
+
 export async function runDemo(_args: string[], config: Config): Promise<number> {
   const usesDefaultDatabase = process.env['DATABASE_URL'] === undefined || process.env['DATABASE_URL'] === '';
-  const demoConfig: Config = usesDefaultDatabase ? { ...config, database: { dialect: 'sqlite', file: DEMO_SQLITE_FILE } } : config;
-  if (usesDefaultDatabase) {
-    // The demo always starts from the same data: remove the previous demo database only.
-    for (const suffix of ['', '-wal', '-shm']) fs.rmSync(DEMO_SQLITE_FILE + suffix, { force: true });
+  const database: Config['database'] = usesDefaultDatabase ? { dialect: 'sqlite', file: DEMO_SQLITE_FILE } : config.database;
+  // Quiet by default: the demo's own lines are what a first-time reader needs; LOG_LEVEL still wins.
+  const logLevel = process.env['LOG_LEVEL'] ? config.logLevel : 'warn';
+  const demoConfig: Config = { ...config, database, logLevel };
+  if (isDemoFile(database) && database.dialect === 'sqlite') {
+    const existed = fs.existsSync(database.file);
+    // The demo always starts from the same data: remove the previous demo database only, and say so.
+    for (const suffix of ['', '-wal', '-shm']) fs.rmSync(database.file + suffix, { force: true });
+    console.log(
+      existed
+        ? `segrank demo: removed the previous demo database ${database.file} and starting afresh (its keys no longer work; set DATABASE_URL to use a database of your own)`
+        : `segrank demo: creating the demo database ${database.file}`,
+    );
+  } else {
+    console.log(`segrank demo: loading the demo data into the database DATABASE_URL names (nothing is removed; rows with the demo's ids are updated)`);
   }
+  console.log('loading the invented demo data and computing the report …');
   const keys = demoConfig.authMode === 'keys' ? await createDemoKeys(demoConfig) : null;
   const bearer = (key: string | undefined): Record<string, string> => (key ? { authorization: `Bearer ${key}` } : {});
   const { app } = await startService(demoConfig);
@@ -72,24 +101,30 @@ export async function runDemo(_args: string[], config: Config): Promise<number> 
 
   const address = app.server.address();
   const base = typeof address === 'object' && address !== null ? `http://${demoConfig.host}:${address.port}` : `http://${demoConfig.host}:${demoConfig.port}`;
-  const readHeader = keys ? ` -H 'Authorization: Bearer ${keys.read}'` : '';
+  const readHeader = keys ? ` -H "Authorization: Bearer $READ_KEY"` : '';
   const lines = [
     '',
     'segrank demo: Quillfeather Garden Supply (an invented business; all data is made up)',
     `database: ${demoConfig.database.dialect === 'sqlite' ? demoConfig.database.file : 'PostgreSQL (DATABASE_URL)'}`,
     ...receipts.map((receipt) => `loaded ${receipt.what}: ${receipt.rows} rows (${receipt.inserted} new, ${receipt.updated} updated, ${receipt.unchanged} unchanged, ${receipt.rejected} rejected)`),
     `report "${DEMO_REPORT.name}": ${report.tested} segments tested; verdicts ${Object.entries(report.verdicts).map(([verdict, count]) => `${verdict} ${count}`).join(', ')}`,
-    ...(keys
-      ? ['', `admin key:  ${keys.admin}`, `ingest key: ${keys.ingest}`, `read key:   ${keys.read}`, '(in a browser, give any user name and the read key as the password)']
-      : ['', 'AUTH_MODE=open: no keys needed (allowed on this machine only)']),
     '',
-    'try:',
-    `  ${base}/reports/${report.reportId}                  the report page`,
+    'try (after the export lines below):',
+    `  ${base}/reports/${report.reportId}     the report page${keys ? ' (any user name, the read key as the password)' : ''}`,
     `  curl${readHeader} '${base}/v1/reports/${report.reportId}/segments?format=csv'`,
     `  curl${readHeader} ${base}/v1/reports/${report.reportId}/snapshots/latest`,
     `  curl ${base}/openapi.yaml`,
+    '  npx segrank keys list',
+    '  npx segrank refresh --all',
     '',
-    'Press Ctrl+C to stop.',
+    keys
+      ? `keys: admin ${keys.admin}\n      ingest ${keys.ingest}\n      read ${keys.read}`
+      : 'AUTH_MODE=open: no keys needed (allowed on this machine only)',
+    '',
+    'The service runs until Ctrl+C. In another terminal, paste these lines first:',
+    '',
+    ...exportLines(demoConfig, report.reportId, keys),
+    '',
   ];
   console.log(lines.join('\n'));
   return new Promise<number>(() => {

@@ -2,9 +2,22 @@
  * The `segrank` command line: `segrank demo`, and the operator commands added beside it.
  * Each command reads the same configuration (DATABASE_URL …) as the service.
  */
-import { ConfigError, loadConfig, type Config } from './config.js';
+import fs from 'node:fs';
+import { ConfigError, DEMO_SQLITE_FILE, loadConfig, type Config } from './config.js';
 
 type Command = (args: string[], config: Config) => Promise<number>;
+
+/**
+ * Right after `npm run demo`, before any database of one's own exists, the operator commands
+ * work on the demo's database (and say so), so `segrank keys list` finds the demo's keys.
+ * An explicit DATABASE_URL, or an existing default database, always wins.
+ */
+function withDemoDatabaseFallback(config: Config): Config {
+  if ((process.env['DATABASE_URL'] ?? '') !== '' || config.database.dialect !== 'sqlite') return config;
+  if (fs.existsSync(config.database.file) || !fs.existsSync(DEMO_SQLITE_FILE)) return config;
+  console.error(`segrank: no database at ${config.database.file} yet, so using the demo's ${DEMO_SQLITE_FILE} (set DATABASE_URL to choose)`);
+  return { ...config, database: { dialect: 'sqlite', file: DEMO_SQLITE_FILE } };
+}
 
 const commands: Record<string, { summary: string; run: Command }> = {
   keys: {
@@ -34,7 +47,8 @@ async function main(argv: string[]): Promise<number> {
     return name === undefined || name === 'help' || name === '--help' ? 0 : 64;
   }
   try {
-    return await command.run(args, loadConfig());
+    const config = loadConfig();
+    return await command.run(args, name === 'demo' ? config : withDemoDatabaseFallback(config));
   } catch (error) {
     if (error instanceof ConfigError) {
       console.error(`segrank: configuration error: ${error.message}`);

@@ -77,6 +77,9 @@ export const DEFAULT_MAX_LABELS_PER_DIMENSION = 100;
 
 const DEFAULT_SQLITE_FILE = path.join('data', 'segrank.sqlite');
 
+/** The database `npm run demo` uses when DATABASE_URL is not set; removed and rebuilt at each demo start. */
+export const DEMO_SQLITE_FILE = path.join('data', 'demo.sqlite');
+
 type Environment = Record<string, string | undefined>;
 
 /** Reads the whole configuration from `env`; throws ConfigError naming the first bad variable. */

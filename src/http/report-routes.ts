@@ -4,10 +4,9 @@
  */
 import type { FastifyPluginAsync, FastifyReply, FastifyRequest } from 'fastify';
 import { parseContentType } from '../ingest/media-type.js';
-import { entityTag, type SegmentTableCache, type TableFormat } from '../present/index.js';
+import { entityTag, segmentTable, type SegmentTableCache, type TableFormat } from '../present/index.js';
 import { Report, ReportList, SnapshotList } from '../report/shapes/index.js';
 import {
-  segmentTable,
   SnapshotNotFoundError,
   createReport,
   deleteReport,
@@ -86,7 +85,8 @@ export const reportRoutes: FastifyPluginAsync<ReportRouteOptions> = async (app, 
 
   app.delete('/v1/reports/:report_id', { schema: { params: ReportIdParams } }, async (request, reply) => {
     const { report_id: reportId } = request.params as { report_id: string };
-    await deleteReport({ ...deps, logger: request.log }, tables, reportId);
+    await deleteReport({ ...deps, logger: request.log }, reportId);
+    tables.forgetReport(reportId);
     return reply.code(204).send();
   });
 
@@ -135,15 +135,20 @@ export const reportRoutes: FastifyPluginAsync<ReportRouteOptions> = async (app, 
         querystring: {
           type: 'object',
           additionalProperties: false,
-          properties: { snapshot: { type: 'string', minLength: 1, maxLength: 200, default: 'latest' }, format: { type: 'string', enum: ['json', 'csv'] } },
+          properties: {
+            snapshot: { type: 'string', minLength: 1, maxLength: 200, default: 'latest' },
+            format: { type: 'string', enum: ['json', 'csv'] },
+            bom: { type: 'string', enum: ['0', '1'], default: '0' },
+          },
         },
       },
     },
     async (request, reply) => {
       const { report_id: reportId } = request.params as { report_id: string };
-      const { snapshot: snapshotId, format } = request.query as { snapshot: string; format?: TableFormat };
+      const { snapshot: snapshotId, format, bom } = request.query as { snapshot: string; format?: TableFormat; bom: '0' | '1' };
       const representation = negotiateFormat(request, format);
-      const table = await segmentTable(deps, tables, reportId, snapshotId, representation);
+      if (bom === '1' && representation !== 'csv') throw new Problem('invalid-request', 'bom=1 applies to CSV only (JSON must not start with a byte order mark): add format=csv');
+      const table = await segmentTable(deps, tables, reportId, snapshotId, representation, { bom: bom === '1' });
       if (table === undefined) throw new SnapshotNotFoundError(reportId, snapshotId);
       if (representation === 'csv') reply.header('content-disposition', `attachment; filename="segments-${table.snapshotId}.csv"`);
       return sendWithEntityTag(request, reply, table.bytes, TABLE_MEDIA_TYPES[representation], table.entityTag);

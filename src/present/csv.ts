@@ -1,10 +1,9 @@
 /**
- * The ranked table as CSV (RFC 4180) for BI tools and spreadsheets: the columns of
- * `SEGMENT_ROW_FIELDS` in order, CRLF line ends, numbers written plainly (`.` decimal, no
- * thousands separators, no exponent), null as an empty cell, and text that a spreadsheet
- * would run as a formula neutralised with a leading single quote.
+ * Tables as CSV (RFC 4180) for BI tools and spreadsheets: the columns in the order given,
+ * CRLF line ends, numbers written plainly (`.` decimal, no thousands separators, no exponent),
+ * null as an empty cell, and text that a spreadsheet would run as a formula neutralised with a
+ * leading single quote.
  */
-import { SEGMENT_ROW_FIELDS, type SegmentRow } from '../report/shapes/index.js';
 
 // Cells starting with these characters are read as formulas by common spreadsheet programs
 // (OWASP "CSV injection" guidance — common practice).
@@ -50,12 +49,13 @@ function cell(value: unknown): string {
 }
 
 /**
- * The ranked rows as CSV text with a header row.
+ * Rows as CSV text with a header row of `columns`; each row is read by column name, and a
+ * missing or null value is an empty cell.
  * @example
- * segmentsCsv(rows).split('\r\n')[0]; // 'rank,segment,dimensions,n,share,…,verdict,summary'
+ * tableCsv(['rank', 'segment'], [{ rank: 1, segment: 'region=North' }]); // 'rank,segment\r\n1,region=North\r\n'
  */
-export function segmentsCsv(rows: readonly SegmentRow[]): string {
-  const lines = [SEGMENT_ROW_FIELDS.join(',')];
-  for (const row of rows) lines.push(SEGMENT_ROW_FIELDS.map((field) => cell(row[field])).join(','));
+export function tableCsv(columns: readonly string[], rows: ReadonlyArray<Readonly<Record<string, unknown>>>): string {
+  const lines = [columns.map(textCell).join(',')];
+  for (const row of rows) lines.push(columns.map((column) => cell(row[column])).join(','));
   return `${lines.join('\r\n')}\r\n`;
 }

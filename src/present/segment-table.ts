@@ -1,14 +1,23 @@
 /**
- * The flat segment table of a snapshot, rendered once per snapshot and format. Snapshots never
- * change, so a rendered table (and its entity tag) stays valid for as long as it is kept; BI
- * tools that poll then cost a small lookup instead of parsing and writing the whole snapshot.
+ * The flat segment table of a snapshot for BI tools: one row per segment, led by the snapshot
+ * id and its as-of time (so weekly appends can be told apart) and the rank, then one column per
+ * report dimension holding the segment's label there (empty where the segment does not fix
+ * that dimension), then the fixed segment fields. Rendered once per snapshot and format:
+ * snapshots never change, so a rendered table (and its entity tag) stays valid for as long as
+ * it is kept, and BI tools that poll cost a small lookup instead of parsing the whole snapshot.
  */
 import { createHash } from 'node:crypto';
 import { LRUCache } from 'lru-cache';
-import { segmentsCsv } from './csv.js';
-import { SEGMENT_ROW_FIELDS, toSegmentRow, type Snapshot } from '../report/shapes/index.js';
+import { tableCsv } from './csv.js';
+import { SEGMENT_ROW_FIELDS, type Snapshot } from '../report/shapes/index.js';
+import { snapshotVersionKey, publishedSnapshotText, type ReportDependencies } from '../report/snapshot/index.js';
 
 export type TableFormat = 'json' | 'csv';
+
+export interface TableOptions {
+  /** start the CSV with a UTF-8 byte order mark, for spreadsheet programs that guess the encoding otherwise */
+  bom: boolean;
+}
 
 export interface RenderedTable {
   snapshotId: string;
@@ -18,34 +27,67 @@ export interface RenderedTable {
   entityTag: string;
 }
 
+const UTF8_BOM = '\uFEFF';
+const LEADING_COLUMNS = ['snapshot_id', 'as_of', 'rank'] as const;
+const SEGMENT_COLUMNS = SEGMENT_ROW_FIELDS.filter((field) => field !== 'rank');
+
 export function entityTag(body: string | Buffer): string {
   return `"${createHash('sha256').update(body).digest('base64url').slice(0, 32)}"`;
 }
 
-export function renderSegmentTable(snapshot: Snapshot, format: TableFormat): RenderedTable {
-  const rows = snapshot.segments.map(toSegmentRow);
+/**
+ * The column holding a dimension's label: the dimension's own name, or `dimension_<name>` when
+ * an extra customer column shares its name with a fixed column (say, one called `n`).
+ * @example
+ * dimensionColumn('region'); // 'region'
+ * dimensionColumn('verdict'); // 'dimension_verdict'
+ */
+function dimensionColumn(dimension: string): string {
+  const taken: readonly string[] = [...LEADING_COLUMNS, ...SEGMENT_COLUMNS];
+  return taken.includes(dimension) ? `dimension_${dimension}` : dimension;
+}
+
+/** The table's columns in order, for a report over these dimensions. */
+export function segmentTableColumns(dimensions: readonly string[]): string[] {
+  return [...LEADING_COLUMNS, ...dimensions.map(dimensionColumn), ...SEGMENT_COLUMNS];
+}
+
+/** The table's rows, each keyed by the columns in their order. */
+function segmentTableRows(snapshot: Snapshot): Array<Record<string, unknown>> {
+  const dimensions = snapshot.definition.dimensions;
+  return snapshot.segments.map((segment) => {
+    const row: Record<string, unknown> = { snapshot_id: snapshot.snapshot_id, as_of: snapshot.created_at, rank: segment.rank };
+    for (const dimension of dimensions) row[dimensionColumn(dimension)] = segment.values[dimension] ?? null;
+    for (const field of SEGMENT_COLUMNS) row[field] = segment[field];
+    return row;
+  });
+}
+
+function renderSegmentTable(snapshot: Snapshot, format: TableFormat, options: TableOptions = { bom: false }): RenderedTable {
+  const columns = segmentTableColumns(snapshot.definition.dimensions);
+  const rows = segmentTableRows(snapshot);
   const body =
     format === 'csv'
-      ? segmentsCsv(rows)
-      : JSON.stringify({ report_id: snapshot.report_id, snapshot_id: snapshot.snapshot_id, snapshot_created_at: snapshot.created_at, columns: SEGMENT_ROW_FIELDS, segments: rows });
+      ? `${options.bom ? UTF8_BOM : ''}${tableCsv(columns, rows)}`
+      : JSON.stringify({ report_id: snapshot.report_id, snapshot_id: snapshot.snapshot_id, snapshot_created_at: snapshot.created_at, columns, segments: rows });
   return { snapshotId: snapshot.snapshot_id, body, bytes: Buffer.from(body, 'utf8'), entityTag: entityTag(body) };
 }
 
-/** A small least-recently-used store of rendered tables, keyed by report, snapshot and format. */
+/** A small least-recently-used store of rendered tables, keyed by report, snapshot, format and options. */
 export class SegmentTableCache {
   private readonly entries: LRUCache<string, RenderedTable>;
   constructor(capacity = 64) {
     this.entries = new LRUCache({ max: capacity });
   }
 
-  get(reportId: string, snapshotId: string, format: TableFormat): RenderedTable | undefined {
-    return this.entries.get(tableKey(reportId, snapshotId, format));
+  get(reportId: string, snapshotId: string, format: TableFormat, options: TableOptions = { bom: false }): RenderedTable | undefined {
+    return this.entries.get(tableKey(reportId, snapshotId, format, options));
   }
 
   /** `version` names the version of the snapshot's body the table was rendered from (its id by default). */
-  set(reportId: string, format: TableFormat, table: RenderedTable, version: string = table.snapshotId): void {
-    this.entries.set(tableKey(reportId, version, format), table);
-    }
+  set(reportId: string, format: TableFormat, table: RenderedTable, options: TableOptions = { bom: false }, version: string = table.snapshotId): void {
+    this.entries.set(tableKey(reportId, version, format, options), table);
+  }
 
   /** Drops every table of one report (it was deleted). */
   forgetReport(reportId: string): void {
@@ -62,6 +104,30 @@ export class SegmentTableCache {
   }
 }
 
-function tableKey(reportId: string, snapshotId: string, format: TableFormat): string {
-  return `${reportId}\u0000${snapshotId}\u0000${format}`;
+function tableKey(reportId: string, snapshotId: string, format: TableFormat, options: TableOptions): string {
+  return `${reportId}\u0000${snapshotId}\u0000${format}\u0000${options.bom ? 'bom' : ''}`;
+}
+
+/**
+ * The flat segment table of a snapshot (`latest` for the newest) in one format, rendered once
+ * and then served from `cache`; undefined when there is no such snapshot.
+ */
+export async function segmentTable(
+  deps: ReportDependencies,
+  cache: SegmentTableCache,
+  reportId: string,
+  snapshotId: string,
+  format: TableFormat,
+  options: TableOptions = { bom: false },
+): Promise<RenderedTable | undefined> {
+  // An erasure may redact a stored snapshot, so a rendered table is kept per version of the body.
+  const version = await snapshotVersionKey(deps, reportId, snapshotId);
+  if (version === undefined) return undefined;
+  const cached = cache.get(reportId, version.key, format, options);
+  if (cached) return cached;
+  const stored = await publishedSnapshotText(deps, reportId, version.snapshotId);
+  if (stored === undefined) return undefined;
+  const table = renderSegmentTable(JSON.parse(stored) as Snapshot, format, options);
+  cache.set(reportId, format, table, options, version.key);
+  return table;
 }

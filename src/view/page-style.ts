@@ -3,11 +3,16 @@
  * in greyscale, charts that shrink to the width available, and a print stylesheet that drops
  * the controls and keeps each chart on one page.
  */
+// Each verdict's filter button hides every other segment; `:has()` lets the stylesheet do it without a script.
+const FILTER_RULES = ['better', 'worse', 'inconclusive', 'no_detectable_difference', 'too_small']
+  .map((verdict) => `main:has(#filter-${verdict}:checked) #segment-table tbody.segment:not([data-verdict="${verdict}"]) { display: none; }`)
+  .join('\n');
+
 export const PAGE_STYLE = `
 :root { color-scheme: light; --ink: #1a1a1a; --muted: #555; --rule: #d0d0d0; --accent: #0b4f8a; --banner: #fff4d6; }
 * { box-sizing: border-box; }
 body { margin: 0; font: 15px/1.5 system-ui, -apple-system, "Segoe UI", Roboto, "Helvetica Neue", Arial, sans-serif; color: var(--ink); background: #fff; }
-main { max-width: 1180px; margin: 0 auto; padding: 1rem 1.5rem 3rem; }
+main { max-width: 1360px; margin: 0 auto; padding: 1rem 1.5rem 3rem; }
 h1 { font-size: 1.6rem; margin: 0.5rem 0 0.25rem; }
 h2 { font-size: 1.25rem; margin: 2rem 0 0.5rem; border-bottom: 1px solid var(--rule); padding-bottom: 0.25rem; }
 h3 { font-size: 1rem; margin: 0 0 0.5rem; }
@@ -46,11 +51,24 @@ table.segments th[aria-sort="descending"] button::after { content: " ▼"; }
 .ci { display: block; color: var(--muted); font-size: 0.8rem; }
 .verdict { display: inline-block; min-width: 14ch; }
 .verdict-better, .verdict-worse { font-weight: 700; }
+.decision { border: 2px solid var(--ink); padding: 0.25rem 1rem 0.75rem; margin: 1rem 0; }
+.decision h2 { border: none; margin: 0.5rem 0; }
+.decision .lead { font-size: 1.05rem; margin: 0 0 0.5rem; }
+.decision-lists { display: grid; grid-template-columns: repeat(auto-fit, minmax(330px, 1fr)); gap: 0.5rem 1.5rem; }
+.decision-list ul { margin: 0; padding-left: 1.1rem; }
+.decision-list li { margin: 0.2rem 0; }
+.decision-list .note, .decision-list .more, .decision-list .none { color: var(--muted); font-size: 0.9rem; margin: 0 0 0.25rem; }
+details.method > summary, table.segments details > summary { cursor: pointer; color: var(--accent); }
+table.segments tr.sentence details > p { margin: 0.25rem 0 0; }
+.verdict-filter { border: 1px solid var(--rule); display: flex; flex-wrap: wrap; gap: 0.25rem 1.25rem; margin: 0 0 0.75rem; }
+.verdict-filter label { white-space: nowrap; }
+${FILTER_RULES}
 footer { margin-top: 2rem; color: var(--muted); font-size: 0.85rem; }
 @media print {
   body { font-size: 10pt; }
   main { max-width: none; padding: 0; }
   .controls form, .no-print { display: none !important; }
+  table.segments tbody.segment { display: table-row-group !important; }
   .charts { display: block; }
   figure.chart { break-inside: avoid; page-break-inside: avoid; border: none; padding: 0; margin: 0 0 1rem; }
   .chart-image svg { width: 100%; max-width: 100%; height: auto; }

@@ -1,6 +1,7 @@
 /**
- * The report as one self-contained web page: the summary and the settings behind it at the
- * top, then the charts (SVG drawn on the server), then the ranked table with its sentences.
+ * The report as one self-contained web page that leads with the decision: whom to target,
+ * whom to avoid and what is still uncertain; then the cautions and (folded) the summary
+ * paragraph and the settings behind it; then the charts (SVG drawn on the server); then the full ranked table.
  * Nothing is fetched from elsewhere; the only script and stylesheet are inline and carry the
  * response's CSP nonces. Every piece of data goes through the escaping `html` template.
  */
@@ -15,6 +16,7 @@ import { html, trusted, type SafeHtml } from './html.js';
 import { rankingMetric } from './metric.js';
 import { PAGE_SCRIPT } from './page-script.js';
 import { PAGE_STYLE } from './page-style.js';
+import { decisionSection } from './decision.js';
 import { rankedTable } from './table.js';
 
 /** One entry of the snapshot picker. */
@@ -172,11 +174,13 @@ ${input.openMode ? html`<p class="banner" role="note" id="open-mode-banner">${OP
 <p class="subtitle">Snapshot #${snapshot.sequence}, computed ${snapshot.created_at.slice(0, 16).replace('T', ' ')} UTC ${TRIGGER_WORDS[snapshot.trigger]}</p>
 <div class="controls">${picker(input)}${downloads(snapshot)}</div>
 </header>
+${decisionSection(snapshot)}
 <section aria-labelledby="summary-heading">
-<h2 id="summary-heading">Summary</h2>
-<p class="summary">${snapshot.summary}</p>
-${facts(snapshot)}
+<h2 id="summary-heading">Cautions and method</h2>
 <div class="cautions"><h3>Cautions</h3><ul>${snapshot.cautions.map((caution) => html`<li>${caution}</li>`)}</ul>${reversals}</div>
+<details class="method"><summary>The report in one paragraph, and how these figures were made: data, n, confidence level, adjustment, ranking</summary>
+<p class="summary">${snapshot.summary}</p>
+${facts(snapshot)}</details>
 </section>
 <section aria-labelledby="charts-heading">
 <h2 id="charts-heading">Charts</h2>
@@ -187,7 +191,7 @@ ${distributionFallback(snapshot)}
 </section>
 <section aria-labelledby="table-heading">
 <h2 id="table-heading">Ranked segments</h2>
-<p class="no-print">Press a column heading to sort by it; press it again to reverse the order.</p>
+<p class="no-print">Press a column heading to sort by it; press it again to reverse the order. Open “In words” under a segment for its verdict in a sentence.</p>
 ${rankedTable(snapshot)}
 </section>
 <footer>

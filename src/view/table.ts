@@ -1,13 +1,14 @@
 /**
- * The ranked table of a snapshot: every segment in rank order (untested ones last), its
- * figures with their intervals (and adjusted p-values under the differences), the verdict as symbol and word, and under them its sentence
- * across the whole width. Each segment is one <tbody> (figures row and sentence row), so
+ * The ranked table of a snapshot: every segment in rank order (untested ones last), named as
+ * people say it, its figures with their intervals (and adjusted p-values under the
+ * differences), the verdict as symbol and word, and under them its sentence across the whole
+ * width, folded away until opened; a filter above shows one verdict at a time. Each segment is one <tbody> (figures row and sentence row), so
  * sorting moves the two together. Each cell carries a plain sort key, so the page's script
  * sorts without parsing formatted text.
  */
-import { formatCount, formatMoney, formatPercent, formatPoints, formatPValue, formatRank, formatRatio, formatSignedMoney } from '../report/wording/index.js';
-import type { Snapshot, SnapshotSegment } from '../report/shapes/index.js';
-import { html, joinHtml, type SafeHtml } from './html.js';
+import { formatCount, formatMoney, formatPercent, formatPoints, formatPValue, formatRank, formatRatio, formatSignedMoney, readableSegmentName } from '../report/wording/index.js';
+import type { Snapshot, SnapshotSegment, Verdict } from '../report/shapes/index.js';
+import { html, type SafeHtml } from './html.js';
 import { VERDICT_STYLES } from './verdicts.js';
 
 interface Column {
@@ -38,8 +39,8 @@ const COLUMNS: readonly Column[] = [
     heading: 'Segment',
     type: 'text',
     numeric: false,
-    // One line per dimension of a two-way segment, so a long name breaks where it reads well.
-    cell: (segment) => ({ text: joinHtml(segment.segment.split(' & ').map((part) => html`<span class="part">${part}</span>`), '<span class="joiner"> &amp; </span>'), sortKey: segment.segment }),
+    // Named as people say it; the machine label (as in the CSV) is the tooltip and the sort key.
+    cell: (segment) => ({ text: html`<span title="${segment.segment}">${readableSegmentName(segment.values)}</span>`, sortKey: segment.segment }),
   },
   {
     heading: 'n',
@@ -91,6 +92,22 @@ const COLUMNS: readonly Column[] = [
   },
 ];
 
+/** The verdicts in the order the filter offers them. */
+const FILTER_VERDICTS: readonly Verdict[] = ['better', 'worse', 'inconclusive', 'no_detectable_difference', 'too_small'];
+
+/**
+ * Radio buttons that show only the segments of one verdict. The stylesheet does the hiding
+ * (`:has()` on the checked button), so the filter works with scripts off.
+ */
+function verdictFilter(segments: readonly SnapshotSegment[]): SafeHtml {
+  const option = (value: string, label: SafeHtml | string, count: number, checked: boolean) =>
+    html`<label><input type="radio" name="verdict-filter" id="filter-${value}" value="${value}"${checked ? html` checked` : ''}> ${label} (${formatCount(count)})</label>`;
+  const options = FILTER_VERDICTS.map((verdict) => [verdict, segments.filter((segment) => segment.verdict === verdict).length] as const)
+    .filter(([, count]) => count > 0)
+    .map(([verdict, count]) => option(verdict, html`<span aria-hidden="true">${VERDICT_STYLES[verdict].symbol}</span> ${VERDICT_STYLES[verdict].label}`, count, false));
+  return html`<fieldset class="verdict-filter no-print"><legend>Show</legend>${option('all', 'all segments', segments.length, true)}${options}</fieldset>`;
+}
+
 /**
  * The ranked table as HTML: sortable headings (buttons, with aria-sort), one row per segment.
  * @example
@@ -116,10 +133,11 @@ export function rankedTable(snapshot: Snapshot): SafeHtml {
         ? html`<th scope="row" data-sort="${cell.sortKey}">${cell.text}</th>`
         : html`<td${column.numeric ? html` class="num"` : ''} data-sort="${cell.sortKey}">${cell.text}</td>`;
     });
-    return html`<tbody class="segment"><tr class="figures">${cells}</tr><tr class="sentence"><td colspan="${COLUMNS.length}">${segment.summary}</td></tr></tbody>\n`;
+    // The sentence is folded away (open on click, no script needed), so the table stays a table.
+    return html`<tbody class="segment" data-verdict="${segment.verdict}"><tr class="figures">${cells}</tr><tr class="sentence"><td colspan="${COLUMNS.length}"><details><summary>In words</summary><p>${segment.summary}</p></details></td></tr></tbody>\n`;
   });
-  return html`<div class="table-wrap"><table class="segments" id="segment-table">
-<caption class="visually-hidden">Ranked segments of this snapshot, each followed by its sentence; the sortable column headings are buttons.</caption>
+  return html`${verdictFilter(segments)}<div class="table-wrap"><table class="segments" id="segment-table">
+<caption class="visually-hidden">Ranked segments of this snapshot, each followed by its sentence, folded; the sortable column headings are buttons.</caption>
 <thead><tr>${header}</tr></thead>
 ${bodies}</table></div>
 <p class="visually-hidden" id="sort-status" role="status" aria-live="polite"></p>`;

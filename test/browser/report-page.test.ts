@@ -12,6 +12,7 @@ import { chromium, type Browser, type BrowserContext, type Page } from 'playwrig
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
 import { createKey } from '../../src/auth/keys.js';
 import type { Snapshot } from '../../src/report/shapes/index.js';
+import { MAX_INTERVAL_ROWS, chartedRows, intervalRows } from '../../src/view/charts/interval.js';
 import { OPEN_MODE_BANNER } from '../../src/view/page.js';
 import { DEFAULT_DEMO_OPTIONS, generateDemoData } from '../../seed/generate.js';
 import { loadDemoData } from '../../seed/load.js';
@@ -128,11 +129,69 @@ describe.skipIf(!CHROMIUM_AVAILABLE)('the demo report page in headless Chromium'
       expect(watched.errors).toEqual([]);
       expect(watched.foreignRequests).toEqual([]);
       expect(watched.dialogs).toEqual([]);
-      // The brief's budget for the demo report.
-      expect(bytes).toBeLessThan(500_000);
+      // This report's page measured 352,060 bytes (page-height.txt has the latest figure); the
+      // budget keeps about 10 % headroom, so a page that grows by a fifth fails here.
+      expect(bytes).toBeLessThan(390_000);
       await expect(page.title()).resolves.toBe(`Spring seed sale 2026 — segment report #${second.sequence}`);
       expect(await page.locator('#open-mode-banner').textContent()).toBe(OPEN_MODE_BANNER);
       expect(fs.statSync(path.join(OUTPUT, 'report-page.png')).size).toBeGreaterThan(10_000);
+    } finally {
+      await browserContext.close();
+    }
+  }, 120_000);
+
+  test('at 1400 × 900 the decision is on the first screen and everything above the full table fits in four screen heights', async () => {
+    const browserContext = await browser.newContext({ viewport: { width: 1400, height: 900 } });
+    try {
+      const page = await browserContext.newPage();
+      const response = await page.goto(`${origin}/reports/${reportId}`, { timeout: PAGE_TIMEOUT_MS });
+      const bytes = (await response?.body())?.length ?? 0;
+      const top = async (selector: string) => (await page.locator(selector).first().boundingBox())?.y ?? Number.NaN;
+      const bottom = async (selector: string) => {
+        const box = await page.locator(selector).first().boundingBox();
+        return box ? box.y + box.height : Number.NaN;
+      };
+      // Measured at scroll 0, so viewport coordinates are page coordinates.
+      const measured = {
+        decisionTop: await top('#decision-heading'),
+        firstTargetBottom: await bottom('#decision-target li'),
+        tableTop: await top('#table-heading'),
+        pageHeight: Number(await page.evaluate('document.documentElement.scrollHeight')),
+      };
+      const line = `demo report, snapshot #${second.sequence}, 1400 × 900: ${bytes} bytes of HTML; page ${measured.pageHeight} px tall; the full table starts at ${Math.round(measured.tableTop)} px`;
+      fs.writeFileSync(path.join(OUTPUT, 'page-height.txt'), `${line}\n`);
+      console.log(line);
+      expect(measured.firstTargetBottom).toBeLessThanOrEqual(900);
+      expect(measured.decisionTop).toBeLessThan(measured.tableTop);
+      expect(measured.tableTop).toBeLessThanOrEqual(4 * 900);
+      // The table is still all there: one row group per segment.
+      expect(await page.locator('#segment-table tbody.segment').count()).toBe(second.segments.length);
+    } finally {
+      await browserContext.close();
+    }
+  }, 120_000);
+
+  test('with scripts off the page still works: sentences open on click and the verdict filter shows one verdict', async () => {
+    const browserContext = await browser.newContext({ viewport: { width: 1400, height: 900 }, javaScriptEnabled: false });
+    try {
+      const page = await browserContext.newPage();
+      await page.goto(`${origin}/reports/${reportId}`, { timeout: PAGE_TIMEOUT_MS });
+      const firstSentence = page.locator('#segment-table tbody.segment').first().locator('details');
+      const sentenceText = firstSentence.locator('p');
+      expect(await sentenceText.isVisible()).toBe(false);
+      await firstSentence.locator('summary').click();
+      expect(await sentenceText.isVisible()).toBe(true);
+      expect((await sentenceText.textContent())?.length ?? 0).toBeGreaterThan(40);
+
+      const visibleVerdicts = () =>
+        page.locator('#segment-table tbody.segment').evaluateAll((bodies) => bodies.filter((body) => body.getBoundingClientRect().height > 0).map((body) => body.getAttribute('data-verdict')));
+      expect(await visibleVerdicts()).toHaveLength(second.segments.length);
+      await page.locator('#filter-better').check();
+      const better = second.segments.filter((segment) => segment.verdict === 'better').length;
+      expect(better).toBeGreaterThan(0);
+      expect(await visibleVerdicts()).toEqual(Array.from({ length: better }, () => 'better'));
+      await page.locator('#filter-all').check();
+      expect(await visibleVerdicts()).toHaveLength(second.segments.length);
     } finally {
       await browserContext.close();
     }
@@ -172,9 +231,11 @@ describe.skipIf(!CHROMIUM_AVAILABLE)('the demo report page in headless Chromium'
         expect(figure.dataRows, figure.id).toBeGreaterThan(0);
         expect(figure.hiddenSize, figure.id).toBeLessThanOrEqual(1);
       }
-      const tested = second.segments.filter((segment) => segment.tested).length;
-      expect(figures[0]?.dataRows).toBe(tested);
-      expect(await page.locator('#interval-chart svg .estimates_marks path').count()).toBe(tested);
+      // Beyond MAX_INTERVAL_ROWS tested segments the chart keeps the decided ones and the best-ranked others.
+      const charted = chartedRows(intervalRows(second)).length;
+      expect(charted).toBe(Math.min(MAX_INTERVAL_ROWS, second.segments.filter((segment) => segment.tested).length));
+      expect(figures[0]?.dataRows).toBe(charted);
+      expect(await page.locator('#interval-chart svg .estimates_marks path').count()).toBe(charted);
     } finally {
       await browserContext.close();
     }
@@ -183,14 +244,17 @@ describe.skipIf(!CHROMIUM_AVAILABLE)('the demo report page in headless Chromium'
   test('segment names with markup show as text, and nothing in them runs', async () => {
     const { page, watched, browserContext } = await open(`${origin}/reports/${reportId}`);
     try {
+      // Region labels read alone in the table; the machine label is the tooltip.
       const rowHeadings = await page.locator('#segment-table tbody th[scope="row"]').allTextContents();
-      expect(rowHeadings).toContain(`region=${HOSTILE_SCRIPT}`);
-      expect(rowHeadings).toContain(`region=${HOSTILE_IMAGE}`);
+      expect(rowHeadings).toContain(HOSTILE_SCRIPT);
+      expect(rowHeadings).toContain(HOSTILE_IMAGE);
+      expect(await page.getByTitle(`region=${HOSTILE_SCRIPT}`, { exact: true }).textContent()).toBe(HOSTILE_SCRIPT);
       expect(await page.locator('img').count()).toBe(0);
       expect(await page.locator('script').count()).toBe(1);
       expect(await page.locator('[onerror],[onload],[onclick]').count()).toBe(0);
-      const axisLabels = await page.locator('#interval-chart svg text').allTextContents();
-      expect(axisLabels.some((text) => text.startsWith('region=<script>'))).toBe(true);
+      // The region Pareto chart draws every region, the markup-named ones as text labels.
+      const axisLabels = await page.locator('#pareto-2 svg text').allTextContents();
+      expect(axisLabels.some((text) => text.startsWith('<script>'))).toBe(true);
       expect(watched.dialogs).toEqual([]);
     } finally {
       await browserContext.close();
@@ -287,7 +351,7 @@ describe.skipIf(!CHROMIUM_AVAILABLE)('the demo report page in headless Chromium'
       // Shape and word carry the verdict, not colour alone: four verdicts, four shapes, four words.
       const shapes = await page.locator('#interval-chart svg .estimates_marks path').evaluateAll((paths) => new Set(paths.map((shape) => shape.getAttribute('d'))).size);
       const words = new Set(await page.locator('#interval-chart svg .verdict_labels_marks text').allTextContents());
-      expect(shapes).toBe(new Set(second.segments.filter((segment) => segment.tested).map((segment) => segment.verdict)).size);
+      expect(shapes).toBe(new Set(chartedRows(intervalRows(second)).map((row) => row.verdict)).size);
       expect(words.size).toBe(shapes);
     } finally {
       await browserContext.close();

@@ -1,6 +1,6 @@
 import { parse } from 'csv-parse/sync';
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
-import { segmentsCsv } from '../../src/present/index.js';
+import { segmentTableColumns, tableCsv } from '../../src/present/index.js';
 import { SEGMENT_ROW_FIELDS, type SegmentRow, type Snapshot } from '../../src/report/shapes/index.js';
 import { TEST_DIALECTS } from '../support/database.js';
 import { createTestApp, type TestApp } from '../support/app.js';
@@ -14,6 +14,8 @@ describe.each(TEST_DIALECTS)('the ranked segment table for BI tools (%s)', (dial
   let reportId: string;
   let first: Snapshot;
   let second: Snapshot;
+  // The report is over region and channel: those two columns sit between rank and segment.
+  const COLUMNS = ['snapshot_id', 'as_of', 'rank', 'region', 'channel', ...SEGMENT_ROW_FIELDS.filter((field) => field !== 'rank')];
 
   beforeAll(async () => {
     context = await createTestApp(dialect, REPORT_TEST_SETTINGS);
@@ -44,10 +46,37 @@ describe.each(TEST_DIALECTS)('the ranked segment table for BI tools (%s)', (dial
     expect(response.headers['content-type']).toBe('application/json; charset=utf-8');
     const body = response.json();
     expect(body).toMatchObject({ report_id: reportId, snapshot_id: second.snapshot_id, snapshot_created_at: second.created_at });
-    expect(body.columns).toEqual([...SEGMENT_ROW_FIELDS]);
+    expect(body.columns).toEqual(COLUMNS);
+    expect(segmentTableColumns(second.definition.dimensions)).toEqual(COLUMNS);
     expect(body.segments).toHaveLength(second.segments.length);
-    for (const row of body.segments) expect(Object.keys(row)).toEqual([...SEGMENT_ROW_FIELDS]);
+    for (const row of body.segments) expect(Object.keys(row)).toEqual(COLUMNS);
     expect(body.segments.map((row: SegmentRow) => row.rank).slice(0, 3)).toEqual([1, 2, 3]);
+  });
+
+  test('every row names its snapshot and as-of time, and each dimension column holds the label the segment fixes there', async () => {
+    const body = (await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments?snapshot=${first.snapshot_id}` })).json();
+    const rows = body.segments as Array<Record<string, unknown>>;
+    for (const row of rows) expect(row).toMatchObject({ snapshot_id: first.snapshot_id, as_of: first.created_at });
+    const northfield = rows.find((row) => row['segment'] === 'region=Northfield');
+    expect(northfield).toMatchObject({ region: 'Northfield', channel: null, dimensions: 'region' });
+    const crossed = rows.find((row) => row['dimensions'] === 'region & channel') as Record<string, unknown>;
+    expect(crossed['segment']).toBe(`region=${String(crossed['region'])} & channel=${String(crossed['channel'])}`);
+    const csv = (await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments?format=csv&snapshot=${first.snapshot_id}` })).body;
+    const record = (parse(csv, { columns: true }) as Array<Record<string, string>>).find((entry) => entry['segment'] === 'region=Northfield');
+    expect(record).toMatchObject({ snapshot_id: first.snapshot_id, as_of: first.created_at, region: 'Northfield', channel: '' });
+  });
+
+  test('?bom=1 starts the CSV with a UTF-8 byte order mark under its own entity tag, and is refused for JSON', async () => {
+    const plain = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments?format=csv` });
+    const marked = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments?format=csv&bom=1` });
+    expect(marked.statusCode).toBe(200);
+    expect([...marked.rawPayload.subarray(0, 3)]).toEqual([0xef, 0xbb, 0xbf]);
+    expect(plain.rawPayload[0]).not.toBe(0xef);
+    expect(marked.rawPayload.subarray(3).equals(plain.rawPayload)).toBe(true);
+    expect(marked.headers.etag).not.toBe(plain.headers.etag);
+    const json = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments?bom=1` });
+    expect(json.statusCode).toBe(400);
+    expect(json.json().detail).toMatch(/CSV only/);
   });
 
   test('a missing figure is null in JSON, never 0 or NaN', async () => {
@@ -67,26 +96,30 @@ describe.each(TEST_DIALECTS)('the ranked segment table for BI tools (%s)', (dial
     expect(byAccept.statusCode).toBe(200);
     expect(byAccept.headers['content-type']).toBe('text/csv; charset=utf-8; header=present');
     expect(byQuery.body).toBe(byAccept.body);
-    expect(byAccept.body.split('\r\n')[0]).toBe(SEGMENT_ROW_FIELDS.join(','));
+    expect(byAccept.body.split('\r\n')[0]).toBe(COLUMNS.join(','));
     expect(byAccept.body.endsWith('\r\n')).toBe(true);
   });
 
   test('the CSV parses back to the JSON rows: numbers equal, null as an empty cell', async () => {
-    const json = (await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments` })).json().segments as SegmentRow[];
+    const json = (await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments` })).json().segments as Array<Record<string, unknown>>;
     const csv = (await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments?format=csv` })).body;
     const records = parse(csv, { columns: true, skip_empty_lines: true }) as Array<Record<string, string>>;
     expect(records).toHaveLength(json.length);
     records.forEach((record, index) => {
-      const row = json[index] as SegmentRow;
-      expect(Object.keys(record)).toEqual([...SEGMENT_ROW_FIELDS]);
-      for (const field of SEGMENT_ROW_FIELDS) {
+      const row = json[index] as Record<string, unknown>;
+      expect(Object.keys(record)).toEqual(COLUMNS);
+      for (const field of COLUMNS) {
         const value = row[field];
         const cell = record[field] as string;
         if (value === null) expect(cell, field).toBe('');
         else if (typeof value === 'number') {
           expect(cell, field).not.toMatch(/[eE,]/);
           expect(Number(cell), field).toBe(value);
-        } else expect(cell, field).toBe(value);
+        } else {
+          // a label that would start a formula (the hostile regions) is written with a leading quote
+          const text = String(value);
+          expect(cell, field).toBe(/^[=+\-@\t\r]/.test(text) ? `'${text}` : text);
+        }
       }
     });
   });
@@ -105,7 +138,7 @@ describe.each(TEST_DIALECTS)('the ranked segment table for BI tools (%s)', (dial
 
   test('text that would start a formula is written with a leading quote', () => {
     const row = { ...(first.segments[0] as SegmentRow), segment: '=1+2', dimensions: '@x', summary: '-5 is not a number here' };
-    const records = parse(segmentsCsv([row]), { columns: true }) as Array<Record<string, string>>;
+    const records = parse(tableCsv(SEGMENT_ROW_FIELDS, [row]), { columns: true }) as Array<Record<string, string>>;
     expect(records[0]).toMatchObject({ segment: "'=1+2", dimensions: "'@x", summary: "'-5 is not a number here" });
   });
 
@@ -154,7 +187,7 @@ describe.each(TEST_DIALECTS)('the ranked segment table for BI tools (%s)', (dial
     const response = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments`, headers: { accept: 'application/json;q=0, */*' } });
     expect(response.statusCode).toBe(200);
     expect(response.headers['content-type']).toBe('text/csv; charset=utf-8; header=present');
-    expect(response.body.split('\r\n')[0]).toBe(SEGMENT_ROW_FIELDS.join(','));
+    expect(response.body.split('\r\n')[0]).toBe(COLUMNS.join(','));
     const neither = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments`, headers: { accept: 'application/json;q=0, text/csv;q=0, */*' } });
     expect(neither.statusCode).toBe(406);
     expect(neither.json().type).toBe('/problems/not-acceptable');

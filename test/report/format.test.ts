@@ -11,6 +11,7 @@ import {
   formatRatio,
   formatSignedMoney,
   formatYears,
+  readableSegmentName,
 } from '../../src/report/wording/index.js';
 
 describe('the number formatter of sentences', () => {
@@ -59,5 +60,19 @@ describe('the number formatter of sentences', () => {
     expect(formatCoefficient(0.1234)).toBe('0.12');
     expect(formatCoefficient(-0.456)).toBe('-0.46');
     expect(formatCoefficient(-0.004)).toBe('-0.00');
+  });
+});
+
+describe('readableSegmentName', () => {
+  test('region, channel and customer type by their label, the age band as "aged", other dimensions with their name, joined by a middle dot', () => {
+    expect(readableSegmentName({ region: 'Fennwick', channel: 'catalogue mail' })).toBe('Fennwick · catalogue mail');
+    expect(readableSegmentName({ age_band: '25-34', newsletter: 'yes' })).toBe('aged 25-34 · newsletter: yes');
+    expect(readableSegmentName({ customer_type: 'company', loyalty_tier: 'gold' })).toBe('company · loyalty tier: gold');
+  });
+
+  test('an unknown label keeps its dimension, so two unknowns stay apart', () => {
+    expect(readableSegmentName({ age_band: 'unknown' })).toBe('age unknown');
+    expect(readableSegmentName({ region: 'unknown' })).toBe('region unknown');
+    expect(readableSegmentName({ channel: 'unknown', newsletter: 'unknown' })).toBe('channel unknown · newsletter unknown');
   });
 });

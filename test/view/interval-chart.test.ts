@@ -1,6 +1,7 @@
 import { beforeAll, describe, expect, test } from 'vitest';
-import { intervalChart, intervalRows } from '../../src/view/charts/interval.js';
+import { MAX_INTERVAL_ROWS, chartedRows, intervalChart, intervalRows, type IntervalRow } from '../../src/view/charts/interval.js';
 import type { ChartFigure } from '../../src/view/figure.js';
+import type { SnapshotSegment } from '../../src/report/shapes/index.js';
 import { escapeHtml } from '../../src/view/html.js';
 import { HOSTILE_IMAGE, HOSTILE_SCRIPT, TESTED, knownSnapshot } from '../support/snapshot-fixture.js';
 import { axisLabelGroups, horizontalScale, labelValue, markGroup } from './svg-reading.js';
@@ -78,16 +79,18 @@ describe('the interval chart of a small known snapshot', () => {
     expect(figure.svg).not.toContain('<script');
     expect(figure.svg).not.toContain('<img');
     const labels = axisLabelGroups(figure.svg).flat().map((label) => label.text);
-    expect(labels).toContain(`region=${escapeHtml(HOSTILE_SCRIPT).replace(/&quot;/g, '"').replace(/&#39;/g, "'")}`);
-    expect(labels).toContain(`region=${escapeHtml(HOSTILE_IMAGE).replace(/&quot;/g, '"').replace(/&#39;/g, "'")}`);
+    // Rows are named as people say them: a region by its label alone.
+    expect(labels).toContain(escapeHtml(HOSTILE_SCRIPT).replace(/&quot;/g, '"').replace(/&#39;/g, "'"));
+    expect(labels).toContain(escapeHtml(HOSTILE_IMAGE).replace(/&quot;/g, '"').replace(/&#39;/g, "'"));
+    expect(labels).toContain('catalogue');
   });
 
   test('the text alternative names the chart, the verdict counts and the first segment', () => {
     expect(figure.label).toMatch(/^Interval chart of the difference in conversion rate between each of 4 tested segments and the rest/);
     expect(figure.label).toContain('1 better than the rest, 1 worse than the rest, 1 no detectable difference, 1 inconclusive');
-    expect(figure.label).toContain('First in rank: channel=catalogue, +12.0 points (95% CI +7.0 points to +17.0 points)');
+    expect(figure.label).toContain('First in rank: catalogue, +12.0 points (95% CI +7.0 points to +17.0 points)');
     expect(figure.data.rows).toHaveLength(4);
-    expect(figure.data.rows[0]).toEqual(['1', 'channel=catalogue', '250', '+12.0 points', '+7.0 points', '+17.0 points', '0.040', 'better than the rest']);
+    expect(figure.data.rows[0]).toEqual(['1', 'catalogue', '250', '+12.0 points', '+7.0 points', '+17.0 points', '0.040', 'better than the rest']);
   });
 });
 
@@ -104,5 +107,46 @@ describe('the interval chart of a report ranked by value', () => {
       expect(Math.abs(line.x + Number(line.attributes['x2']) - toX(1.5))).toBeLessThan(PIXEL);
     }
     expect(figure.heading).toBe('Difference from the rest, revenue per contacted customer');
+  });
+});
+
+describe('which rows the interval chart draws when there are many', () => {
+  const rowsOf = (verdicts: readonly IntervalRow['verdict'][]): IntervalRow[] =>
+    verdicts.map((verdict, index) => ({ rank: index + 1, segment: `s${index + 1}`, name: `s${index + 1}`, n: 100, verdict, estimate: 0, low: -1, high: 1 }));
+
+  test('all of them when they fit', () => {
+    const rows = rowsOf(Array.from({ length: MAX_INTERVAL_ROWS }, () => 'inconclusive'));
+    expect(chartedRows(rows)).toEqual(rows);
+  });
+
+  test('every better and worse segment, wherever it ranks, then the best-ranked others, in rank order', () => {
+    // 40 segments: better at ranks 1-3, worse at ranks 20 and 40 (a large segment with a narrow interval can rank mid-table)
+    const verdicts = Array.from({ length: 40 }, (_, index): IntervalRow['verdict'] => (index < 3 ? 'better' : index === 19 || index === 39 ? 'worse' : 'inconclusive'));
+    const charted = chartedRows(rowsOf(verdicts));
+    expect(charted).toHaveLength(MAX_INTERVAL_ROWS);
+    // the 5 decided ones (1, 2, 3, 20, 40) and the 19 best-ranked others (4-19, 21-23)
+    expect(charted.map((row) => row.rank)).toEqual([...Array.from({ length: 23 }, (_, index) => index + 1), 40]);
+    expect(charted.filter((row) => row.verdict === 'worse').map((row) => row.rank)).toEqual([20, 40]);
+  });
+
+  test('the first and last half of the decided ones when even those are too many', () => {
+    const charted = chartedRows(rowsOf(Array.from({ length: 50 }, (_, index) => (index % 2 === 0 ? 'better' : 'worse'))));
+    expect(charted.map((row) => row.rank)).toEqual([...Array.from({ length: 12 }, (_, index) => index + 1), ...Array.from({ length: 12 }, (_, index) => 39 + index)]);
+  });
+});
+
+describe('interval chart row names', () => {
+  test('segments that read alike keep their machine label beside the name', () => {
+    const base = knownSnapshot();
+    const [first, second] = base.segments as [SnapshotSegment, SnapshotSegment];
+    const snapshot = {
+      ...base,
+      segments: [
+        { ...first, segment: 'region=Hollow', dimensions: 'region', values: { region: 'Hollow' } },
+        { ...second, segment: 'channel=Hollow', dimensions: 'channel', values: { channel: 'Hollow' } },
+        ...base.segments.slice(2),
+      ],
+    };
+    expect(intervalRows(snapshot).slice(0, 2).map((row) => row.name)).toEqual(['Hollow (region=Hollow)', 'Hollow (channel=Hollow)']);
   });
 });

@@ -105,11 +105,20 @@ describe('the report page of a small known snapshot', () => {
     expect(charts.map((chart) => /id="([\w-]+)"/.exec(chart)?.[1])).toEqual(['interval-chart', 'pareto-1', 'pareto-2']);
   });
 
-  test('the ranked table lists every segment in rank order with its sentence, and has sortable headings', () => {
+  test('the ranked table lists every segment in rank order, named as people say it, with its sentence folded away, and has sortable headings', () => {
     const table = /<table class="segments" id="segment-table">[\s\S]*?<\/table>/.exec(page)?.[0] ?? '';
-    const rows = [...table.matchAll(/<tbody class="segment"><tr class="figures"><td class="num" data-sort="([^"]*)">/g)].map((match) => match[1]);
-    expect(rows).toEqual(['1', '2', '3', '4', '']);
-    expect(table).toContain('<tr class="sentence"><td colspan="9">Sentence about channel kiosk.</td></tr></tbody>');
+    const rows = [...table.matchAll(/<tbody class="segment" data-verdict="([a-z_]+)"><tr class="figures"><td class="num" data-sort="([^"]*)">/g)].map((match) => [match[2], match[1]]);
+    expect(rows).toEqual([
+      ['1', 'better'],
+      ['2', 'inconclusive'],
+      ['3', 'no_detectable_difference'],
+      ['4', 'worse'],
+      ['', 'too_small'],
+    ]);
+    expect(table).toContain('<tr class="sentence"><td colspan="9"><details><summary>In words</summary><p>Sentence about channel kiosk.</p></details></td></tr></tbody>');
+    // the readable name shows; the machine label (as in the CSV) is the tooltip and the sort key
+    expect(table).toContain('<th scope="row" data-sort="channel=catalogue"><span title="channel=catalogue">catalogue</span></th>');
+    expect(table).toContain('<th scope="row" data-sort="region=Northmoor"><span title="region=Northmoor">Northmoor</span></th>');
     expect(table).toContain('<th scope="col" data-type="number" aria-sort="ascending" class="num"><button type="button">Rank</button></th>');
     expect(table).toContain('<th scope="col" data-type="number" aria-sort="none" class="num"><button type="button">n</button></th>');
   });
@@ -170,5 +179,41 @@ describe('the report page of an empty population', () => {
     expect(figures(page)).toHaveLength(0);
     expect(page).toContain('No segment could be tested and no dimension has values in this snapshot, so there is nothing to chart.');
     expect(page).toContain('The correlation is not computed: There are no units with both an age and a value.');
+  });
+});
+
+describe('the top of the page: the decision', () => {
+  let page: string;
+
+  beforeAll(async () => {
+    page = await renderReportPage(input());
+  });
+
+  test('the decision comes before the summary, the charts and the table', () => {
+    const at = (marker: string) => page.indexOf(marker);
+    expect(at('id="decision-heading"')).toBeGreaterThan(0);
+    expect(at('id="decision-heading"')).toBeLessThan(at('id="summary-heading"'));
+    expect(at('id="summary-heading"')).toBeLessThan(at('id="charts-heading"'));
+    expect(at('id="charts-heading"')).toBeLessThan(at('id="table-heading"'));
+  });
+
+  test('it names the segment to target, the one to avoid and the uncertain one, each with its expected rate, interval and n', () => {
+    const section = /<section aria-labelledby="decision-heading"[\s\S]*?<\/section>/.exec(page)?.[0] ?? '';
+    expect(section).toContain('Of 4 segments tested on conversion rate, 1 does better than the rest, 1 does worse, 1 is still too uncertain to call and 1 shows no detectable difference; 1 is too small to test.');
+    // catalogue: 60 of 250 = 24.0%; the fixture's interval is ±20% of the rate, the rest converts at 10%
+    expect(section).toMatch(/id="decision-target"><h3>▲ Target \(1\)<\/h3>[\s\S]*<li><strong>catalogue<\/strong>: 24\.0% \(19\.2% to 28\.8%\) vs 10\.0% for the rest; n 250<\/li>/);
+    // the markup-named region is escaped here too: 8 of 200 = 4.0%
+    expect(section).toContain(`id="decision-avoid"><h3>▼ Avoid or rethink (1)</h3>`);
+    expect(section).toContain(`<li><strong>${escapeHtml(HOSTILE_IMAGE)}</strong>: 4.0% (3.2% to 4.8%) vs 10.0% for the rest; n 200</li>`);
+    expect(section).toContain(`<li><strong>${escapeHtml(HOSTILE_SCRIPT)}</strong>: 15.0% (12.0% to 18.0%) vs 10.0% for the rest; n 120</li>`);
+    expect(section).toContain('1 segment behaves like the rest as far as this data can tell: plan it like everyone else.');
+    expect(section).not.toContain('Northmoor');
+  });
+
+  test('the settings behind the figures are folded away, and the filter offers each verdict present with its count', () => {
+    expect(page).toMatch(/<details class="method"><summary>The report in one paragraph, and how these figures were made[^<]*<\/summary>\n<p class="summary">[^<]+<\/p>\n<dl class="facts">/);
+    const filter = /<fieldset class="verdict-filter no-print">[\s\S]*?<\/fieldset>/.exec(page)?.[0] ?? '';
+    expect([...filter.matchAll(/id="filter-([a-z_]+)"/g)].map((match) => match[1])).toEqual(['all', 'better', 'worse', 'inconclusive', 'no_detectable_difference', 'too_small']);
+    expect(filter).toContain('<input type="radio" name="verdict-filter" id="filter-all" value="all" checked> all segments (5)');
   });
 });

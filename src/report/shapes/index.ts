@@ -20,7 +20,6 @@ export {
   isPublished,
   type PublishedSegment,
   Verdict,
-  toSegmentRow,
   type SegmentRowField,
 } from './snapshot.js';
 export { Report, ReportList, SegmentTable, SnapshotList, SnapshotMeta } from './resources.js';

@@ -40,11 +40,27 @@ export const SnapshotList = Type.Object({
   snapshots: Type.Array(SnapshotMeta),
 });
 
-/** The JSON form of the BI pull: the flat rows of one snapshot, with their column names. */
+/**
+ * One row of the BI pull: the snapshot's id and as-of time, the rank, one column per report
+ * dimension (its label there, or null), then the segment row's other fields.
+ */
+const SegmentTableRow = Type.Object(
+  {
+    snapshot_id: Type.String(),
+    as_of: Type.String({ format: 'date-time', description: 'when the snapshot was computed' }),
+    ...SegmentRow.properties,
+  },
+  {
+    additionalProperties: Type.Union([Type.String(), Type.Null()]),
+    description: 'the other properties are the report dimensions, each holding the segment label for that dimension, null where the segment does not fix it',
+  },
+);
+
+/** The JSON form of the BI pull: the flat rows of one snapshot, with their column names in order. */
 export const SegmentTable = Type.Object({
   report_id: Type.String(),
   snapshot_id: Type.String(),
   snapshot_created_at: Type.String({ format: 'date-time' }),
-  columns: Type.Array(Type.String()),
-  segments: Type.Array(SegmentRow),
+  columns: Type.Array(Type.String(), { description: 'snapshot_id, as_of, rank, one per report dimension, then the SegmentRow fields after rank' }),
+  segments: Type.Array(SegmentTableRow),
 });

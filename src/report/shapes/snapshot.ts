@@ -308,10 +308,3 @@ export type PublishedSegment = SnapshotSegment & {
 export function isPublished(segment: SnapshotSegment): segment is PublishedSegment {
   return segment.withheld_below === null && segment.n !== null && segment.rest !== null && segment.sufficient_statistics !== null;
 }
-
-/** The flat row of a snapshot segment, fields in the fixed order. */
-export function toSegmentRow(segment: SegmentRow): SegmentRow {
-  const row: Record<string, unknown> = {};
-  for (const field of SEGMENT_ROW_FIELDS) row[field] = segment[field];
-  return row as unknown as SegmentRow;
-}

@@ -27,7 +27,8 @@ export {
   refreshReport,
   replaceReport,
   reportDependencies,
-  segmentTable,
+  snapshotVersionKey,
   snapshotInContext,
+  publishedSnapshotText,
   type ReportDependencies,
 } from './service.js';

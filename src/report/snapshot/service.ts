@@ -26,7 +26,6 @@ import { InvalidDefinitionError, normalizeDefinition, type ReportDefinition } fr
 import { ageGridAxis, ageValueGridAxes, isExpandable } from './profiles.js';
 import { storedTextIsWithheldAt, withholdSnapshot } from './withholding.js';
 import * as repository from '../store/index.js';
-import { renderSegmentTable, type RenderedTable, type SegmentTableCache, type TableFormat } from '../../present/index.js';
 import type { Report, Snapshot } from '../shapes/index.js';
 
 export interface ReportDependencies {
@@ -166,13 +165,12 @@ export async function replaceReport(deps: ReportDependencies, reportId: string, 
 }
 
 /**
- * Deletes a report and every snapshot of it, and forgets their rendered tables.
+ * Deletes a report and every snapshot of it (the caller forgets their rendered tables).
  * @throws ReportNotFoundError
  */
-export async function deleteReport(deps: ReportDependencies, cache: SegmentTableCache, reportId: string): Promise<void> {
+export async function deleteReport(deps: ReportDependencies, reportId: string): Promise<void> {
   const deleted = await deps.db.transaction().execute((trx) => repository.deleteReport(trx, reportId));
   if (!deleted) throw new ReportNotFoundError(reportId);
-  cache.forgetReport(reportId);
   deps.logger.info({ reportId }, 'report deleted');
 }
 
@@ -364,32 +362,25 @@ export async function getSnapshotBody(deps: ReportDependencies, reportId: string
 }
 
 /**
- * The flat segment table of a snapshot (`latest` for the newest) in one format, rendered once
- * and then served from `cache`; undefined when there is no such snapshot.
+ * The snapshot `snapshotId` stands for (`latest`: the newest) and a key naming the stored version
+ * of its body (an erasure may redact it); undefined when the report has no such snapshot. Read
+ * without waiting behind uploads.
  * @throws ReportNotFoundError
  */
-export async function segmentTable(
-  deps: ReportDependencies,
-  cache: SegmentTableCache,
-  reportId: string,
-  snapshotId: string,
-  format: TableFormat,
-): Promise<RenderedTable | undefined> {
-  // An erasure may redact a stored snapshot, so a rendered table is kept per version of the body.
+export async function snapshotVersionKey(deps: ReportDependencies, reportId: string, snapshotId: string): Promise<{ snapshotId: string; key: string } | undefined> {
   const version = await repository.snapshotVersion(deps.readDb, reportId, snapshotId);
   if (version === undefined) {
     // "no snapshot yet" would mislead about a report that does not exist at all.
     if (!(await repository.findReport(deps.readDb, reportId))) throw new ReportNotFoundError(reportId);
     return undefined;
   }
-  const versionKey = `${version.snapshot_id}@${version.redacted_at ?? ''}`;
-  const cached = cache.get(reportId, versionKey, format);
-  if (cached) return cached;
-  const stored = await repository.findSnapshotBody(deps.readDb, reportId, version.snapshot_id);
-  if (stored === undefined) return undefined;
-  const table = renderSegmentTable(JSON.parse(publishedText(stored, deps.publicationThreshold)) as Snapshot, format);
-  cache.set(reportId, format, table, versionKey);
-  return table;
+  return { snapshotId: version.snapshot_id, key: `${version.snapshot_id}@${version.redacted_at ?? ''}` };
+}
+
+/** The JSON text of one snapshot by its id as published (small cells withheld), or undefined. */
+export async function publishedSnapshotText(deps: ReportDependencies, reportId: string, snapshotId: string): Promise<string | undefined> {
+  const stored = await repository.findSnapshotBody(deps.readDb, reportId, snapshotId);
+  return stored === undefined ? undefined : publishedText(stored, deps.publicationThreshold);
 }
 
 /** A snapshot as the report page shows it: with the snapshots before it and the report's listing. */

@@ -15,4 +15,4 @@ export {
 } from './format.js';
 export { comparisonNote, reportSummary, reversalSentence, snapshotCautions } from './report-sentences.js';
 export { segmentSummary, type SentenceContext } from './segment-sentences.js';
-export { describeSegment, vocabulary } from './vocabulary.js';
+export { describeSegment, readableSegmentName, vocabulary } from './vocabulary.js';

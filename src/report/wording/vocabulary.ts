@@ -41,3 +41,26 @@ export function describeSegment(values: Record<string, string>): string {
     .map(([dimension, value]) => `${dimension.replace(/_/g, ' ')} ${value}`)
     .join(' and ');
 }
+
+/** Dimensions whose labels read well alone ("Fennwick", "catalogue mail", "company"). */
+const SELF_EXPLAINING_DIMENSIONS: readonly string[] = ['region', 'channel', 'customer_type'];
+
+/**
+ * A segment named as people say it, its parts joined by " · " in the dimensions' order: region,
+ * channel and customer type by their label alone, the age band as "aged 25-34", any other
+ * dimension as "newsletter: yes", and an unknown label with its dimension ("region unknown").
+ * Machine outputs (CSV, JSON) keep the `dimension=label` form.
+ * @example
+ * readableSegmentName({ region: 'Fennwick', channel: 'catalogue mail' }); // 'Fennwick · catalogue mail'
+ * readableSegmentName({ age_band: '25-34', newsletter: 'yes' }); // 'aged 25-34 · newsletter: yes'
+ */
+export function readableSegmentName(values: Readonly<Record<string, string>>): string {
+  return Object.entries(values)
+    .map(([dimension, label]) => {
+      const dimensionWords = dimension.replace(/_/g, ' ');
+      if (dimension === 'age_band') return label === 'unknown' ? 'age unknown' : `aged ${label}`;
+      if (label === 'unknown') return `${dimensionWords} unknown`;
+      return SELF_EXPLAINING_DIMENSIONS.includes(dimension) ? label : `${dimensionWords}: ${label}`;
+    })
+    .join(' · ');
+}

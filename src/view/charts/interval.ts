@@ -4,8 +4,8 @@
  * word and colour, and the segment's n beside it.
  */
 import type { TopLevelSpec } from 'vega-lite';
-import { formatCount, formatPValue, formatRank } from '../../report/wording/index.js';
-import { isPublished, type PublishedSegment, type Snapshot, type Verdict } from '../../report/shapes/index.js';
+import { formatCount, formatPValue, formatRank, readableSegmentName } from '../../report/wording/index.js';
+import { isPublished, type PublishedSegment, type Snapshot, type SnapshotSegment, type Verdict } from '../../report/shapes/index.js';
 import type { ChartFigure } from '../figure.js';
 import { html } from '../html.js';
 import { confidenceLabel, rankingMetric } from '../metric.js';
@@ -21,9 +21,39 @@ const INTERVAL_ROW_STEP = 18;
 const COUNT_COLUMN_END = INTERVAL_PLOT_WIDTH + 78;
 const VERDICT_COLUMN_START = INTERVAL_PLOT_WIDTH + 88;
 
+/**
+ * Most rows the chart draws. With more tested segments it draws those that do better or worse
+ * than the rest (where the decisions are) and fills up with the best-ranked others; the table
+ * below holds every segment, so the charts stay on the first screens of the page.
+ */
+export const MAX_INTERVAL_ROWS = 24;
+
+const isDecided = (row: IntervalRow) => row.verdict === 'better' || row.verdict === 'worse';
+
+/**
+ * The rows the chart draws, in rank order: all of them when they fit; otherwise every better
+ * or worse segment and the best-ranked others up to MAX_INTERVAL_ROWS (or, when even the
+ * decided ones are too many, the first and last half of those).
+ * @example
+ * chartedRows(rows).length; // 24 for the demo's 132 tested segments
+ */
+export function chartedRows(rows: readonly IntervalRow[]): IntervalRow[] {
+  if (rows.length <= MAX_INTERVAL_ROWS) return [...rows];
+  const decided = rows.filter(isDecided);
+  if (decided.length >= MAX_INTERVAL_ROWS) {
+    const half = MAX_INTERVAL_ROWS / 2;
+    return [...decided.slice(0, half), ...decided.slice(decided.length - half)];
+  }
+  const chosen = new Set([...decided, ...rows.filter((row) => !isDecided(row)).slice(0, MAX_INTERVAL_ROWS - decided.length)]);
+  return rows.filter((row) => chosen.has(row));
+}
+
 export interface IntervalRow {
   rank: number;
+  /** the machine label, `dimension=label & …` */
   segment: string;
+  /** the segment as people say it ("Fennwick · catalogue mail"), unique within the chart */
+  name: string;
   n: number;
   verdict: Verdict;
   /** the difference from the rest and its interval, in drawn units (percentage points or money) */
@@ -40,6 +70,13 @@ export interface IntervalRow {
 export function intervalRows(snapshot: Snapshot): IntervalRow[] {
   const metric = rankingMetric(snapshot.definition);
   const drawn = (value: number | null) => (value === null ? null : value * metric.drawnScale);
+  // Two segments may read alike (a region and a channel with the same label): those keep their machine label beside the name.
+  const nameCounts = new Map<string, number>();
+  for (const segment of snapshot.segments) nameCounts.set(readableSegmentName(segment.values), (nameCounts.get(readableSegmentName(segment.values)) ?? 0) + 1);
+  const nameOf = (segment: SnapshotSegment) => {
+    const name = readableSegmentName(segment.values);
+    return (nameCounts.get(name) ?? 0) > 1 ? `${name} (${segment.segment})` : name;
+  };
   return snapshot.segments
     .filter((segment): segment is PublishedSegment => segment.tested && segment.rank !== null && isPublished(segment))
     .sort((left, right) => (left.rank as number) - (right.rank as number))
@@ -48,6 +85,7 @@ export function intervalRows(snapshot: Snapshot): IntervalRow[] {
       return {
         rank: segment.rank as number,
         segment: segment.segment,
+        name: nameOf(segment),
         n: segment.n,
         verdict: segment.verdict,
         estimate: drawn(difference.estimate),
@@ -72,7 +110,7 @@ export function intervalChartSpec(rows: readonly IntervalRow[], axisTitle: strin
   const verdicts = TESTED_VERDICTS.filter((verdict) => rows.some((row) => row.verdict === verdict));
   const labels = verdicts.map((verdict) => VERDICT_STYLES[verdict].label);
   const x = { type: 'quantitative', scale: { domain: scale.domain, nice: false, zero: false } } as const;
-  const y = { field: 'segment', type: 'nominal', sort: null, axis: { title: null, labelLimit: 320, labelFontSize: 11, ticks: false, domain: false } } as const;
+  const y = { field: 'name', type: 'nominal', sort: null, axis: { title: null, labelLimit: 320, labelFontSize: 11, ticks: false, domain: false } } as const;
   const values = rows.map((row) => ({
     ...row,
     verdict_label: VERDICT_STYLES[row.verdict].label,
@@ -151,18 +189,26 @@ export async function intervalChart(snapshot: Snapshot): Promise<ChartFigure> {
   const definition = snapshot.definition;
   const metric = rankingMetric(definition);
   const confidence = confidenceLabel(definition);
-  const rows = intervalRows(snapshot);
+  const allRows = intervalRows(snapshot);
+  const rows = chartedRows(allRows);
+  const left = allRows.length - rows.length;
+  const omitted =
+    left > 0
+      ? ` It shows ${formatCount(rows.length)} of the ${formatCount(allRows.length)} tested segments: ${
+          rows.every(isDecided) ? 'the first and the last of those that do better or worse than the rest' : 'every one that does better or worse than the rest, and the best-ranked of the others'
+        }; the other ${formatCount(left)} are in the table below.`
+      : '';
   const axisTitle = `Difference from the rest: ${metric.name}, ${metric.differenceUnit} (${confidence})`;
   const svg = await renderChart(intervalChartSpec(rows, axisTitle));
-  const counts = TESTED_VERDICTS.map((verdict) => `${rows.filter((row) => row.verdict === verdict).length} ${VERDICT_STYLES[verdict].label}`).join(', ');
+  const counts = TESTED_VERDICTS.map((verdict) => `${allRows.filter((row) => row.verdict === verdict).length} ${VERDICT_STYLES[verdict].label}`).join(', ');
   const bySegment = new Map(snapshot.segments.map((segment) => [segment.segment, segment]));
   const first = snapshot.segments.find((segment) => segment.rank === 1);
   const firstText = first
     ? (() => {
         const difference = metric.differenceOf(first);
         return difference.estimate === null
-          ? ` First in rank: ${first.segment}.`
-          : ` First in rank: ${first.segment}, ${metric.difference(difference.estimate)}${difference.low !== null && difference.high !== null ? ` (${confidence} ${metric.difference(difference.low)} to ${metric.difference(difference.high)})` : ''}.`;
+          ? ` First in rank: ${readableSegmentName(first.values)}.`
+          : ` First in rank: ${readableSegmentName(first.values)}, ${metric.difference(difference.estimate)}${difference.low !== null && difference.high !== null ? ` (${confidence} ${metric.difference(difference.low)} to ${metric.difference(difference.high)})` : ''}.`;
       })()
     : '';
   const adjusted = definition.adjustment === 'none' ? 'raw p-values (no adjustment for the number of tests)' : `p-values adjusted for the ${formatCount(definition.rank_by === 'conversion_rate' ? snapshot.row_counts.rate_tests : snapshot.row_counts.value_tests)} tests`;
@@ -171,14 +217,14 @@ export async function intervalChart(snapshot: Snapshot): Promise<ChartFigure> {
     heading: `Difference from the rest, ${metric.name}`,
     svg,
     wide: true,
-    label: `Interval chart of the difference in ${metric.name} between each of ${rows.length} tested segments and the rest, in rank order: ${counts}.${firstText}`,
+    label: `Interval chart of the difference in ${metric.name} between ${left > 0 ? `${rows.length} of the ${allRows.length}` : `each of ${rows.length}`} tested segments and the rest, in rank order: ${counts}.${firstText}${omitted}`,
     caption: html`Each row is a tested segment, in rank order (${
       definition.rank_order === 'lower_bound' ? 'by the lower confidence bound' : 'by the estimate'
     }). The mark is the segment's ${metric.name} minus that of everyone else; the line is its ${confidence} (${metric.intervalMethod}). The dashed line is no difference. Shape and word give the verdict: ${TESTED_VERDICTS.map(
       (verdict) => `${VERDICT_STYLES[verdict].symbol} ${VERDICT_STYLES[verdict].label}`,
     ).join(', ')}. Verdicts use ${adjusted}, so an interval that only just misses the line may still be inconclusive. The n column counts the segment's ${
       snapshot.population.unit === 'contact' ? 'contacted customers' : 'customers'
-    }.`,
+    }.${omitted}`,
     data: {
       columns: ['rank', 'segment', 'n', `difference (${metric.differenceUnit})`, `${confidence} low`, `${confidence} high`, 'adjusted p', 'verdict'],
       rows: rows.map((row) => {
@@ -188,7 +234,7 @@ export async function intervalChart(snapshot: Snapshot): Promise<ChartFigure> {
         const text = (value: number | null) => (value === null ? 'not computed' : metric.difference(value));
         return [
           formatRank(row.rank),
-          row.segment,
+          row.name,
           formatCount(row.n),
           text(difference.estimate),
           text(difference.low),
