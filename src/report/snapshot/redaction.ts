@@ -41,7 +41,7 @@ function carriesLabelOf(segment: SnapshotSegment, customer: ErasedCustomerLabels
  * The snapshot withheld at `threshold` and without the withheld segments that carry a label
  * of the customer (pure; see the module comment).
  */
-export function redactSnapshot(snapshot: Snapshot, customer: ErasedCustomerLabels, threshold: number, redactedAt: string): Snapshot {
+function redactSnapshot(snapshot: Snapshot, customer: ErasedCustomerLabels, threshold: number, redactedAt: string): Snapshot {
   const withheld = withholdSnapshot(snapshot, threshold);
   const segments = withheld.segments.filter((segment) => segment.withheld_below === null || !carriesLabelOf(segment, customer));
   const removed = withheld.segments.length - segments.length;
