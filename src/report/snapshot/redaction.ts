@@ -67,7 +67,7 @@ export async function redactStoredSnapshots(trx: Executor, customer: ErasedCusto
     if (!mayInclude(JSON.parse(report.definition) as ReportDefinition, customer)) continue;
     for (const stored of await repository.snapshotBodies(trx, report.report_id)) {
       const snapshot = redactSnapshot(JSON.parse(stored.body) as Snapshot, customer, settings.threshold, redactedAt);
-      await repository.replaceRedactedBody(trx, stored.snapshot_id, JSON.stringify(snapshot), redactedAt);
+      await repository.replaceRedactedBody(trx, stored.snapshot_id, { body: JSON.stringify(snapshot), segmentCount: snapshot.segments.length, redactedAt });
       rewritten += 1;
     }
   }
