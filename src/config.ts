@@ -73,7 +73,7 @@ const LOG_LEVELS: readonly LogLevel[] = ['fatal', 'error', 'warn', 'info', 'debu
 
 /** Fewer units than this are never described on their own (see README, Privacy). */
 export const DEFAULT_PUBLICATION_THRESHOLD = 10;
-export const DEFAULT_MAX_LABELS_PER_DIMENSION = 100;
+const DEFAULT_MAX_LABELS_PER_DIMENSION = 100;
 
 const DEFAULT_SQLITE_FILE = path.join('data', 'segrank.sqlite');
 

@@ -38,7 +38,7 @@ export function logPseudonym(id: string): string {
 const CUSTOMER_PATH = /^(\/v1\/customers\/)([^/?#]+)/;
 
 /** A request path with the customer id of `/v1/customers/{id}` replaced by its pseudonym. */
-export function pathForLog(url: string): string {
+function pathForLog(url: string): string {
   return url.replace(CUSTOMER_PATH, (_match, prefix: string, id: string) => {
     let decoded = id;
     try {

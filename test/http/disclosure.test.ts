@@ -100,7 +100,8 @@ describe.each(TEST_DIALECTS)('publication threshold and erasure on %s', (dialect
         expect(text).not.toContain(LONE_REVENUE);
         expect(text).not.toContain('Orrin Coast');
       }
-      const stored = await database.handle.db.selectFrom('report_snapshots').select(['body', 'redacted_at']).where('snapshot_id', '=', oldId).executeTakeFirstOrThrow();
+      const stored = await database.handle.db.selectFrom('report_snapshots').select(['body', 'redacted_at', 'segment_count']).where('snapshot_id', '=', oldId).executeTakeFirstOrThrow();
+      expect(Number(stored.segment_count)).toBe((JSON.parse(stored.body) as { segments: unknown[] }).segments.length);
       expect(stored.body).not.toContain(LONE_CODE);
       expect(stored.body).not.toContain(LONE_REVENUE);
       expect(stored.redacted_at).toBe('2026-06-15T12:00:00.000Z');

@@ -107,6 +107,8 @@ function checkReportSentences(snapshot: Snapshot): void {
     ...Object.values(counts).map(formatCount),
     ...[snapshot.population.conversion_rate].filter(present).map(formatPercent),
     ...[snapshot.population.value_mean].filter(present).map(formatMoney),
+    // the withheld segments and the publication threshold
+    ...(snapshot.disclosure ? [formatCount(snapshot.disclosure.withheld_segments), formatCount(snapshot.disclosure.threshold)] : []),
   ];
   const top = snapshot.segments[0];
   if (top) {

@@ -41,7 +41,7 @@ function carriesLabelOf(segment: SnapshotSegment, customer: ErasedCustomerLabels
  * The snapshot withheld at `threshold` and without the withheld segments that carry a label
  * of the customer (pure; see the module comment).
  */
-export function redactSnapshot(snapshot: Snapshot, customer: ErasedCustomerLabels, threshold: number, redactedAt: string): Snapshot {
+function redactSnapshot(snapshot: Snapshot, customer: ErasedCustomerLabels, threshold: number, redactedAt: string): Snapshot {
   const withheld = withholdSnapshot(snapshot, threshold);
   const segments = withheld.segments.filter((segment) => segment.withheld_below === null || !carriesLabelOf(segment, customer));
   const removed = withheld.segments.length - segments.length;
@@ -67,7 +67,7 @@ export async function redactStoredSnapshots(trx: Executor, customer: ErasedCusto
     if (!mayInclude(JSON.parse(report.definition) as ReportDefinition, customer)) continue;
     for (const stored of await repository.snapshotBodies(trx, report.report_id)) {
       const snapshot = redactSnapshot(JSON.parse(stored.body) as Snapshot, customer, settings.threshold, redactedAt);
-      await repository.replaceRedactedBody(trx, stored.snapshot_id, JSON.stringify(snapshot), redactedAt);
+      await repository.replaceRedactedBody(trx, stored.snapshot_id, { body: JSON.stringify(snapshot), segmentCount: snapshot.segments.length, redactedAt });
       rewritten += 1;
     }
   }

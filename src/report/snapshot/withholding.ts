@@ -25,7 +25,7 @@ import { VERDICTS } from '../shapes/index.js';
 import { reportSummary, segmentSummary, vocabulary, type SentenceContext } from '../wording/index.js';
 
 /** A stored snapshot needs no further withholding when it was withheld at this threshold or a higher one. */
-export function isWithheldAt(snapshot: Pick<Snapshot, 'disclosure'>, threshold: number): boolean {
+function isWithheldAt(snapshot: Pick<Snapshot, 'disclosure'>, threshold: number): boolean {
   return snapshot.disclosure !== undefined && snapshot.disclosure.threshold >= threshold;
 }
 

@@ -142,9 +142,13 @@ export async function snapshotBodies(db: Executor, reportId: string): Promise<Ar
   return db.selectFrom('report_snapshots').select(['snapshot_id', 'body']).where('report_id', '=', reportId).orderBy('sequence').execute();
 }
 
-/** Replaces a snapshot's body after an erasure redacted it. */
-export async function replaceRedactedBody(db: Executor, snapshotId: string, body: string, redactedAt: string): Promise<void> {
-  await db.updateTable('report_snapshots').set({ body, redacted_at: redactedAt }).where('snapshot_id', '=', snapshotId).execute();
+/** Replaces a snapshot's body (and its segment count) after an erasure redacted it. */
+export async function replaceRedactedBody(db: Executor, snapshotId: string, redacted: { body: string; segmentCount: number; redactedAt: string }): Promise<void> {
+  await db
+    .updateTable('report_snapshots')
+    .set({ body: redacted.body, segment_count: redacted.segmentCount, redacted_at: redacted.redactedAt })
+    .where('snapshot_id', '=', snapshotId)
+    .execute();
 }
 
 /** The sequence number the next snapshot of a report takes: one more than the highest so far. */
