@@ -7,12 +7,20 @@ import { parseArgs } from 'node:util';
 import type { Config } from '../config.js';
 import { openDatabase } from '../db/connect.js';
 import { migrateToLatest } from '../db/migrate.js';
-import { ROLES, createKey, isRole, listKeys, revokeKey } from './keys.js';
+import type { ApiKeysTable } from '../db/tables.js';
+import { ROLES, createKey, isRole, keyIdOf, listKeys, revokeKey } from './keys.js';
 
 const USAGE = `usage:
   segrank keys create --role ${ROLES.join('|')} --name NAME
   segrank keys list
   segrank keys revoke KEY_ID`;
+
+/** The keys as an aligned table under a header row; never a secret (only its hash is stored). */
+export function keyTable(keys: ReadonlyArray<Omit<ApiKeysTable, 'secret_sha256'>>): string {
+  const rows = [['KEY ID', 'ROLE', 'STATUS', 'CREATED', 'NAME'], ...keys.map((key) => [key.key_id, key.role, key.revoked_at ? `revoked ${key.revoked_at}` : 'active', key.created_at, key.name])];
+  const widths = [0, 1, 2, 3].map((column) => Math.max(...rows.map((row) => (row[column] as string).length)));
+  return rows.map((row) => row.map((cell, column) => (column < 4 ? cell.padEnd(widths[column] as number) : cell)).join('  ')).join('\n');
+}
 
 export async function keysCommand(args: string[], config: Config): Promise<number> {
   const [action, ...rest] = args;
@@ -36,8 +44,7 @@ export async function keysCommand(args: string[], config: Config): Promise<numbe
     }
     if (action === 'list') {
       const keys = await listKeys(database.db);
-      if (keys.length === 0) console.log('no keys');
-      for (const key of keys) console.log([key.key_id, key.role.padEnd(6), key.revoked_at ? `revoked ${key.revoked_at}` : 'active', key.created_at, key.name].join('  '));
+      console.log(keys.length === 0 ? 'no keys; create one with: segrank keys create --role admin --name NAME' : keyTable(keys));
       return 0;
     }
     const target = positionals[0];
@@ -46,7 +53,9 @@ export async function keysCommand(args: string[], config: Config): Promise<numbe
       return 64;
     }
     const revoked = await revokeKey(database.db, target);
-    console.log(revoked ? `revoked ${target}` : `no active key ${target}`);
+    // The target may be the whole key; only its id is ever printed, so the secret stays off screens and logs.
+    const keyId = keyIdOf(target);
+    console.log(revoked ? `revoked key ${keyId}` : `no active key ${keyId}`);
     return revoked ? 0 : 1;
   } finally {
     await database.close();

@@ -47,9 +47,14 @@ export async function countActiveKeys(db: Kysely<Database>): Promise<number> {
   return Number(row.count);
 }
 
+/** The key id of a whole key (`sgr_<id>_<secret>`), or the text itself when it is not one. */
+export function keyIdOf(keyIdOrKey: string): string {
+  return KEY_PATTERN.exec(keyIdOrKey)?.[1] ?? keyIdOrKey;
+}
+
 /** Revokes by key id (or the whole key); returns false when no active key matched. */
 export async function revokeKey(db: Kysely<Database>, keyIdOrKey: string, now: Date = new Date()): Promise<boolean> {
-  const keyId = KEY_PATTERN.exec(keyIdOrKey)?.[1] ?? keyIdOrKey;
+  const keyId = keyIdOf(keyIdOrKey);
   const result = await db.updateTable('api_keys').set({ revoked_at: now.toISOString() }).where('key_id', '=', keyId).where('revoked_at', 'is', null).executeTakeFirst();
   return Number(result.numUpdatedRows) > 0;
 }

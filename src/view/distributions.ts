@@ -67,7 +67,7 @@ export async function distributionCharts(snapshot: Snapshot): Promise<ChartFigur
       await histogramChart(valueBins, {
         id: 'value-histogram',
         name: words.valueName,
-        unit: 'money, major units',
+        unit: 'currency units',
         unitsWord: words.valueUnits,
         format: formatMoney,
         leftOut: '',

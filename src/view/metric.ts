@@ -50,7 +50,7 @@ export function rankingMetric(definition: ReportDefinition): MetricDisplay {
     drawnScale: 1,
     difference: formatSignedMoney,
     level: formatMoney,
-    differenceUnit: 'money, major units',
+    differenceUnit: 'currency units',
     intervalMethod: 'Welch t interval',
     differenceOf: (segment) => ({ estimate: segment.value_diff, low: segment.value_diff_ci_low, high: segment.value_diff_ci_high }),
     levelOf: (segment) => ({ estimate: segment.value_mean, low: segment.value_ci_low, high: segment.value_ci_high }),

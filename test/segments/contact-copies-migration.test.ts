@@ -61,8 +61,10 @@ describe.each(TEST_DIALECTS)('migration 0004 on stored contacts (%s)', (dialect)
     ]);
 
     // And back: the copies and the report index go, the contacts stay.
-    // Later migrations are undone first; 0004 is among what goes.
-    expect(await migrateTo(handle.db, settings, '0003_api_keys')).toContain('0004_contact_dimensions');
+    // Later migrations are undone first, newest first; 0004 is the last one undone.
+    const undone = await migrateTo(handle.db, settings, '0003_api_keys');
+    expect(undone.at(-1)).toBe('0004_contact_dimensions');
+    expect(undone).toEqual([...undone].sort().reverse());
     await expect(sql`select region from campaign_contacts`.execute(handle.db)).rejects.toThrow(/region/);
     expect(Number((await sql<{ n: unknown }>`select count(*) as n from campaign_contacts`.execute(handle.db)).rows[0]?.n)).toBe(3);
   });

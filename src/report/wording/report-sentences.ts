@@ -59,7 +59,7 @@ export function reportSummary(input: ReportSummaryInput): string {
     `The population holds ${formatCount(input.population.n)} ${words.units}${overall}.`,
     ` Of ${formatCount(segments)} segments, ${formatCount(input.familySize)} were tested against the rest on ${metric}, using ${ADJUSTMENT_NAMES[definition.adjustment]} at ${confidence} confidence:`,
     ` ${formatCount(counts.better)} do better, ${formatCount(counts.worse)} do worse, ${formatCount(counts.no_detectable_difference)} show no detectable difference and ${formatCount(counts.inconclusive)} are inconclusive;`,
-    ` ${formatCount(counts.too_small)} have fewer than ${formatCount(definition.min_n)} ${words.units} (or leave fewer than that outside) and were not tested.`,
+    ` ${formatCount(counts.too_small)} ${counts.too_small === 1 ? 'has' : 'have'} fewer than ${formatCount(definition.min_n)} ${words.units} (or ${counts.too_small === 1 ? 'leaves' : 'leave'} fewer than that outside) and ${counts.too_small === 1 ? 'was' : 'were'} not tested.`,
   ];
   if (input.withheld !== undefined && input.withheld.segments > 0) {
     const threshold = formatCount(input.withheld.threshold);

@@ -86,7 +86,9 @@ function mainSentence(segment: PublishedSegment, context: SentenceContext): stri
     const reason =
       segment.n < context.definition.min_n
         ? `${who} has only ${formatCount(segment.n)} ${words.units}, fewer than the ${minN} needed, so it was not tested against the rest.`
-        : `${who} covers almost everyone: the other ${formatCount(segment.rest.n)} ${words.units} are fewer than the ${minN} needed for a comparison, so it was not tested.`;
+        : segment.rest.n === 0
+          ? `${who} covers everyone: no ${words.units} are left outside it to compare with, so it was not tested.`
+          : `${who} covers almost everyone: the other ${formatCount(segment.rest.n)} ${segment.rest.n === 1 ? words.unit : words.units} ${segment.rest.n === 1 ? 'is' : 'are'} fewer than the ${minN} needed for a comparison, so it was not tested.`;
     const level = view.estimate === null ? '' : ` It has ${levelWithInterval(view, confidence)}.`;
     const detectable =
       view.mdd === null

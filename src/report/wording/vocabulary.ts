@@ -3,6 +3,8 @@ import type { ReportDefinition } from '../definition/index.js';
 
 /** The words for a report's unit, outcome and value. */
 export interface Vocabulary {
+  /** singular noun of the unit */
+  unit: string;
   /** plural noun of the unit */
   units: string;
   /** the outcome rate */
@@ -22,6 +24,7 @@ export function vocabulary(definition: ReportDefinition): Vocabulary {
   const campaign = 'campaign_ids' in definition.source;
   if (campaign) {
     return {
+      unit: 'contacted customer',
       units: 'contacted customers',
       rateName: 'conversion rate',
       valueName: definition.value_basis === 'per_unit' ? 'revenue per contacted customer' : 'revenue per converting customer',
@@ -29,6 +32,7 @@ export function vocabulary(definition: ReportDefinition): Vocabulary {
     };
   }
   return {
+    unit: 'customer',
     units: 'customers',
     rateName: 'purchase rate',
     valueName: definition.value_basis === 'per_unit' ? 'spend per customer' : 'spend per buying customer',

@@ -23,7 +23,7 @@ export interface HistogramSubject {
   id: string;
   /** "age" or "revenue per contacted customer" */
   name: string;
-  /** "years" or "money, major units" */
+  /** "years" or "currency units" */
   unit: string;
   /** the units counted: "contacted customers" */
   unitsWord: string;

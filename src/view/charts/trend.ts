@@ -99,7 +99,7 @@ export async function trendChart(shown: Snapshot, history: readonly Snapshot[]):
   const sequences = [...new Set(points.map((point) => point.sequence))];
   if (sequences.length < 2) return null;
   const metric = rankingMetric(shown.definition);
-  const unit = metric.drawnScale === 100 ? '%' : 'money, major units';
+  const unit = metric.drawnScale === 100 ? '%' : 'currency units';
   const segments = [...new Set(points.map((point) => point.segment))];
   const level = (value: number | null) => (value === null ? 'not in this snapshot' : metric.level(value / metric.drawnScale));
   return {
