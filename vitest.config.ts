@@ -4,7 +4,7 @@ import { defineConfig } from 'vitest/config';
 // its wording, upload parsing and field readers, and the page rendered from a snapshot.
 const UNIT = [
   'test/stats/**/*.test.ts',
-  'test/ingest/{fields,header-check,parse,text-decoding}.test.ts',
+  'test/ingest/{body-spool,fields,header-check,parse,text-decoding,upload-settings}.test.ts',
   'test/report/{compute,csv,definition,format,segment-table,verdict,withholding,wording-grammar}.test.ts',
   'test/segments/{dimensions,rollup}.test.ts',
   'test/view/{charts,html,interval-chart,page,scale,svg-safety,text-width}.test.ts',

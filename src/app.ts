@@ -80,6 +80,7 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
       maxBytes: deps.config.maxUploadBytes,
       maxRows: deps.config.maxUploadRows,
       idleTimeoutMs: deps.config.uploadIdleTimeoutMs,
+      spoolDir: deps.config.uploadSpoolDir,
       progressEveryRows: deps.config.ingestProgressEveryRows,
     },
   };

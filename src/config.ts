@@ -3,6 +3,7 @@
  * environment. A bad value stops the service with a message that names the variable and
  * says what would be accepted, rather than surfacing later as an odd failure.
  */
+import os from 'node:os';
 import path from 'node:path';
 
 export type DatabaseSettings =
@@ -22,6 +23,8 @@ export interface Config {
   maxUploadRows: number;
   /** Longest pause, in milliseconds, in the arrival of an upload body before it is answered 408. */
   uploadIdleTimeoutMs: number;
+  /** Folder for upload bodies larger than 4 MiB while they arrive (removed after each upload). */
+  uploadSpoolDir: string;
   /** Rows between two progress log lines during a long upload. */
   ingestProgressEveryRows: number;
   /** Cron expression of the weekly refresh. */
@@ -93,6 +96,7 @@ export function loadConfig(env: Environment = process.env): Config {
     maxUploadBytes: readInteger(env, 'MAX_UPLOAD_BYTES', 256 * 1024 * 1024, { min: 1024, max: 4 * 1024 ** 3 }),
     maxUploadRows: readInteger(env, 'MAX_UPLOAD_ROWS', 2_000_000, { min: 1, max: 100_000_000 }),
     uploadIdleTimeoutMs: readInteger(env, 'UPLOAD_IDLE_TIMEOUT_MS', 30_000, { min: 100, max: 3_600_000 }),
+    uploadSpoolDir: readString(env, 'UPLOAD_SPOOL_DIR', os.tmpdir()),
     ingestProgressEveryRows: readInteger(env, 'INGEST_PROGRESS_EVERY_ROWS', 100_000, { min: 1, max: 100_000_000 }),
     refreshCron: readString(env, 'REFRESH_CRON', '0 6 * * 1'),
     refreshTimeZone: readTimeZone(env, 'REFRESH_TIME_ZONE', 'UTC'),

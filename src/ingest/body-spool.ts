@@ -43,6 +43,8 @@ export interface SpoolLimits {
   idleTimeoutMs: number;
   /** Bodies up to this size stay in memory; larger ones go to a temporary file. */
   memoryBytes?: number;
+  /** Where that file is made (in a folder of its own); the system's temporary folder by default. */
+  spoolDir?: string;
 }
 
 export interface SpooledBody {
@@ -120,7 +122,7 @@ export function spoolBody(source: Readable, limits: SpoolLimits): Promise<Spoole
         return;
       }
       if (file === null) {
-        const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'segrank-upload-'));
+        const dir = fs.mkdtempSync(path.join(limits.spoolDir ?? os.tmpdir(), 'segrank-upload-'));
         const filePath = path.join(dir, 'body');
         const stream = fs.createWriteStream(filePath, { mode: 0o600 });
         stream.on('error', (error) => fail(error));

@@ -26,6 +26,8 @@ export interface IngestLimits {
   maxBytes: number;
   /** Longest pause in the arrival of an upload body before it is given up. */
   idleTimeoutMs: number;
+  /** Folder for the temporary files of large upload bodies. */
+  spoolDir: string;
   maxRows: number;
   progressEveryRows: number;
 }
@@ -115,7 +117,7 @@ export async function ingestUpload(deps: IngestDependencies, request: UploadRequ
   const started = performance.now();
   // The whole body arrives before the database is touched, so a slow or stalled client holds
   // no transaction (on SQLite the single writer) while it sends.
-  const spooled = await spoolBody(request.body, { maxBytes: deps.limits.maxBytes, idleTimeoutMs: deps.limits.idleTimeoutMs });
+  const spooled = await spoolBody(request.body, { maxBytes: deps.limits.maxBytes, idleTimeoutMs: deps.limits.idleTimeoutMs, spoolDir: deps.limits.spoolDir });
   try {
     return await storeUpload(deps, request, spooled, started);
   } finally {
