@@ -87,7 +87,7 @@ export class EmptyUploadError extends Error {
   override name = 'EmptyUploadError';
 }
 
-/** Where the customer columns of a dimension are built in (not extra attributes). */
+/** The customer columns that are built-in dimensions; any other label column is an extra attribute. */
 const BUILT_IN_LABELS = ['region', 'channel'] as const;
 
 export class IdempotencyConflictError extends Error {
