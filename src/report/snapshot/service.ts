@@ -21,7 +21,7 @@ import {
 } from '../../segments/index.js';
 import type { PreviousWindow } from '../analysis/index.js';
 import { buildSnapshot } from './build.js';
-import { normalizeDefinition, type ReportDefinition } from '../definition/index.js';
+import { normalizeDefinition, withCurrentDefaults, type ReportDefinition } from '../definition/index.js';
 import { ageGridAxis, ageValueGridAxes, isExpandable } from './profiles.js';
 import * as repository from '../store/index.js';
 import { renderSegmentTable, type RenderedTable, type SegmentTableCache, type TableFormat } from '../../present/index.js';
@@ -64,7 +64,7 @@ export class SnapshotNotFoundError extends Error {
 }
 
 function parseDefinition(row: ReportsTable): ReportDefinition {
-  return JSON.parse(row.definition) as ReportDefinition;
+  return withCurrentDefaults(JSON.parse(row.definition) as ReportDefinition);
 }
 
 async function toResource(db: Kysely<Database>, row: ReportsTable): Promise<ReportResource> {
