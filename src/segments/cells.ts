@@ -21,6 +21,17 @@ import {
 import { compareLabelLists } from './text-order.js';
 
 /** One finest cell: a combination of one value per dimension. */
+/**
+ * Units and conversions of one cell within one campaign, for reports over several campaigns,
+ * whose comparisons are made within campaign.
+ */
+export interface CampaignCellCount {
+  campaign: string;
+  labels: string[];
+  n: number;
+  conversions: number;
+}
+
 export interface CellAggregate {
   /** One value per dimension, in the request's order. */
   labels: string[];

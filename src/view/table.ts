@@ -18,7 +18,7 @@ interface Column {
   cell(segment: SnapshotSegment): { text: SafeHtml | string; sortKey: string };
 }
 
-const VERDICT_ORDER = ['better', 'no_detectable_difference', 'inconclusive', 'worse', 'too_small'];
+const VERDICT_ORDER = ['better', 'equivalent', 'inconclusive', 'worse', 'too_small'];
 
 function keyOf(value: number | null): string {
   return value === null ? '' : String(value);

@@ -109,7 +109,9 @@ describe('the reversal check', () => {
 describe('change since the previous snapshot and rank movement', () => {
   const regions = ['P', 'Q', 'R', 'S', 'T'];
   const before = regions.flatMap((region, index) => block([region], 60, region === 'P' ? 2 : 10 + index));
-  const after = regions.flatMap((region, index) => block([region], 60, region === 'P' ? 30 : 10 + index));
+  // Campaign contacts are only added between snapshots: the second snapshot holds the first's contacts and 60 new ones per region.
+  const added = regions.flatMap((region, index) => block([region], 60, region === 'P' ? 30 : 10 + index));
+  const after = [...before, ...added];
   const first = buildSnapshot(input(before));
   const second = buildSnapshot(input(after, { previousSnapshot: first, identity: { ...input(after).identity, snapshotId: 'snap-2', sequence: 2 } }));
   const p = second.segments.find((entry) => entry.segment === 'region=P') as SnapshotSegment;
@@ -121,18 +123,40 @@ describe('change since the previous snapshot and rank movement', () => {
     expect(p.rank_movement).toBe(4);
   });
 
-  test('the change of rate is the Newcombe interval between the two snapshots\' counts', () => {
+  test('the change of rate compares the contacts added since the previous snapshot with those before (Newcombe interval, disjoint groups)', () => {
     const expected = newcombeDifferenceInterval(30, 60, 2, 60, 0.95);
     if (!expected.ok) throw new Error(expected.reason);
     expect(p.change).toMatchObject({
       compared_with: 'previous_snapshot',
       previous_n: 60,
       previous_conversions: 2,
+      new_n: 60,
+      new_conversions: 30,
       rate_change: expected.value.estimate,
       rate_change_ci_low: expected.value.interval.low,
       rate_change_ci_high: expected.value.interval.high,
     });
     expect(second.comparison).toMatchObject({ compared_with: 'previous_snapshot', previous_snapshot_id: 'snap' });
+    expect(p.change?.rate_change_p_value).toBeLessThan(0.001);
+    // Adjusted over the five changes of the report (Benjamini–Hochberg): never below the raw p-value.
+    expect(p.change?.rate_change_p_adjusted).toBeGreaterThanOrEqual(p.change?.rate_change_p_value as number);
+  });
+
+  test('a refresh with no new contacts reports no change and says there is no new data', () => {
+    const again = buildSnapshot(input(after, { previousSnapshot: second, identity: { ...input(after).identity, snapshotId: 'snap-3', sequence: 3 } }));
+    for (const segment of again.segments) {
+      expect(segment.change).toBeNull();
+      expect(segment.summary).toMatch(/were added to it since the previous snapshot, so there is no change to report\./);
+      expect(segment.summary).not.toMatch(/differs by/);
+    }
+  });
+
+  test('when earlier contacts changed (not only new ones added) the change is not computed, with the reason', () => {
+    const rewritten = regions.flatMap((region) => block([region], 60, 40));
+    const changed = buildSnapshot(input(rewritten, { previousSnapshot: first }));
+    const q = changed.segments.find((entry) => entry.segment === 'region=Q') as SnapshotSegment;
+    expect(q.change).toBeNull();
+    expect(q.notes.join(' ')).toMatch(/contacts stored then were changed or erased since/);
   });
 
   test('a jump to the top on little data gets a regression-to-the-mean caution in words', () => {
@@ -144,7 +168,7 @@ describe('change since the previous snapshot and rank movement', () => {
 
   test('the same jump on plenty of data gets no such caution', () => {
     const bigBefore = regions.flatMap((region, index) => block([region], 600, region === 'P' ? 20 : 100 + 10 * index));
-    const bigAfter = regions.flatMap((region, index) => block([region], 600, region === 'P' ? 300 : 100 + 10 * index));
+    const bigAfter = [...bigBefore, ...regions.flatMap((region, index) => block([region], 600, region === 'P' ? 300 : 100 + 10 * index))];
     const bigFirst = buildSnapshot(input(bigBefore));
     const bigSecond = buildSnapshot(input(bigAfter, { previousSnapshot: bigFirst }));
     const bigP = bigSecond.segments.find((entry) => entry.segment === 'region=P') as SnapshotSegment;

@@ -7,6 +7,7 @@ export {
   Descriptives,
   DimensionProfile,
   DimensionValueProfile,
+  type EquivalenceTest,
   HistogramFigure,
   PopulationFigures,
   Reversal,
