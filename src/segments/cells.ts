@@ -18,7 +18,7 @@ import {
   type ShiftedSums,
   type Shifts,
 } from './shifted-sums.js';
-import { compareLabelLists } from './text-order.js';
+import { compareLabelLists, compareText } from './text-order.js';
 
 /** One finest cell: a combination of one value per dimension. */
 /**
@@ -153,6 +153,8 @@ export interface CellAggregates {
   /** Units that did not convert, per age (null: unknown), over the whole population. */
   unconvertedByAge: Map<number | null, number>;
   arithmetic: Arithmetic;
+  /** Reports over several campaigns: units and conversions per cell and campaign; otherwise empty. */
+  strata: CampaignCellCount[];
 }
 
 /** One row of the cell query with its sums about the report's shifts. */
@@ -222,9 +224,20 @@ function foldCellRows(groups: readonly GroupSums[], request: AggregationRequest,
   const cells = new Map<string, CellAggregate>();
   const ageCounts = new Map<string, AgeCount>();
   const unconvertedByAge = new Map<number | null, number>();
+  const stratified = request.source.kind === 'campaigns' && request.source.campaignIds.length > 1;
+  const strata = new Map<string, CampaignCellCount>();
   for (const { row, age, n, conversions, unitSum, unitSquares, convertedSum, convertedSquares } of groups) {
     const values = cellLabelsOf(row, request, age);
     const key = JSON.stringify(values);
+    if (stratified) {
+      const campaign = String(row['campaign_key']);
+      const stratumKey = JSON.stringify([campaign, values]);
+      const stratum = strata.get(stratumKey);
+      if (stratum) {
+        stratum.n += n;
+        stratum.conversions += conversions;
+      } else strata.set(stratumKey, { campaign, labels: values, n, conversions });
+    }
     let cell = cells.get(key);
     if (!cell) cells.set(key, (cell = emptyCell(values)));
     cell.n += n;
@@ -256,5 +269,6 @@ function foldCellRows(groups: readonly GroupSums[], request: AggregationRequest,
   const sorted = [...cells.values()].sort((left, right) => compareLabelLists(left.labels, right.labels));
   // SQLite turns an overflowing integer product into a float without an error; a sum beyond
   // 2^53 cannot be exact in JavaScript either. Either way the result is floating point.
-  return { cells: sorted, ageCounts: [...ageCounts.values()], unconvertedByAge, arithmetic: sorted.every(isExact) ? arithmetic : 'floating' };
+  const strataInOrder = [...strata.values()].sort((left, right) => compareText(left.campaign, right.campaign) || compareLabelLists(left.labels, right.labels));
+  return { cells: sorted, ageCounts: [...ageCounts.values()], unconvertedByAge, arithmetic: sorted.every(isExact) ? arithmetic : 'floating', strata: strataInOrder };
 }

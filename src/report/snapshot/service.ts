@@ -181,7 +181,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   let transaction = deps.readDb.transaction();
   if (deps.dialect === 'postgres') transaction = transaction.setIsolationLevel('repeatable read');
   const data = await transaction.execute(async (trx) => {
-    const { shifts, cells, ageCounts, unconvertedByAge, arithmetic } = await shiftsAndCellAggregates(trx, request);
+    const { shifts, cells, ageCounts, unconvertedByAge, arithmetic, strata } = await shiftsAndCellAggregates(trx, request);
     const valueCounts = await valueDistribution(trx, request, valueDistributionScope(cells, definition), cells);
     const ageAxis = ageGridAxis(ageCounts);
     const valuesByAgeBin = await valueCountsByAgeBin(trx, request, ageAxis, unconvertedByAge);
@@ -192,11 +192,13 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
     let previousWindow: PreviousWindow | null = null;
     if (source.kind === 'sales') {
       const window = precedingWindow(source.from, source.to);
-      const previousSource: PopulationSource = { kind: 'sales', from: window.from, to: window.to };
+      // Each window over the customers known at its start: later arrivals were not customers who failed to buy then.
+      const previousSource: PopulationSource = { kind: 'sales', from: window.from, to: window.to, knownAt: window.from };
       const previous = await shiftsAndCellAggregates(trx, { ...request, source: previousSource });
-      previousWindow = { ...window, cells: previous.cells, shifts: previous.shifts };
+      const current = await shiftsAndCellAggregates(trx, { ...request, source: { ...source, knownAt: source.from } });
+      previousWindow = { ...window, cells: previous.cells, shifts: previous.shifts, current: { cells: current.cells, shifts: current.shifts } };
     }
-    return { shifts, cells, arithmetic, ageCounts, valueCounts, populationValueCounts: wholeValueCounts, ageValueGrid, quality, previousWindow };
+    return { shifts, cells, arithmetic, ageCounts, valueCounts, populationValueCounts: wholeValueCounts, ageValueGrid, quality, previousWindow, strata };
   });
   const queriesDone = performance.now();
 
