@@ -4,8 +4,10 @@
  * appending it here.
  */
 import type { CalibrationSection } from './section.js';
+import { campaignSection } from './campaigns.js';
+import { changeSection } from './changes.js';
 import { verdictSection } from './verdicts.js';
 
 export type { CalibrationFigure, CalibrationOptions, CalibrationSection, SectionResult } from './section.js';
 
-export const SECTIONS: CalibrationSection[] = [verdictSection];
+export const SECTIONS: CalibrationSection[] = [verdictSection, changeSection, campaignSection];

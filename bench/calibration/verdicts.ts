@@ -34,7 +34,7 @@ function isFalseDiscovery(segment: SnapshotSegment, truth: TrueFigures): boolean
   return segment.verdict === 'better' ? trueDifference < 0 : trueDifference > 0;
 }
 
-const claimsEquivalence = (segment: SnapshotSegment) => (segment.verdict as string) === 'equivalent';
+const claimsEquivalence = (segment: SnapshotSegment) => segment.verdict === 'equivalent';
 
 function nullScenario(adjustment: Adjustment): Scenario {
   return {
@@ -84,10 +84,10 @@ function mixedFigures(options: CalibrationOptions): CalibrationFigure[] {
     let falseDiscoveries = 0;
     let equivalenceClaims = 0;
     let claimsBeyondMargin = 0;
-    let margin = 0.02;
+    let margin = 0;
     for (let replicate = 0; replicate < options.replicates; replicate += 1) {
       const { snapshot, truth } = simulateReport(seededRandom(options.seed + 10_000 + replicate), mixedScenario(adjustment));
-      margin = (snapshot.definition as { equivalence_margin?: number }).equivalence_margin ?? margin;
+      margin = snapshot.definition.equivalence_margin;
       for (const segment of snapshot.segments) {
         const figures = truth(segment);
         if (isDiscovery(segment)) {
@@ -105,6 +105,34 @@ function mixedFigures(options: CalibrationOptions): CalibrationFigure[] {
     figures.push(information(`effects in some regions, adjustment ${adjustment}: tested segments found equivalent`, equivalenceClaims, options.replicates * (REGIONS.length + CHANNELS.length + REGIONS.length * CHANNELS.length)));
   }
   return figures;
+}
+
+/**
+ * The size of the equivalence rule at its boundary: one region's true difference from the
+ * rest is exactly the margin (12 % against 10 %), on samples large enough for the test to
+ * claim equivalence often when the truth is well inside the margin. Claims here are false.
+ */
+function boundaryFigures(options: CalibrationOptions): CalibrationFigure[] {
+  const scenario = (rate: number): Scenario => ({
+    dimensions: [{ name: 'region', labels: REGIONS }],
+    units: 40000,
+    rateOf: (labels) => (labels[0] === REGIONS[0] ? rate : BASE_RATE),
+  });
+  const count = (rate: number, offset: number) => {
+    let claims = 0;
+    for (let replicate = 0; replicate < options.replicates; replicate += 1) {
+      const { snapshot } = simulateReport(seededRandom(options.seed + offset + replicate), scenario(rate));
+      if (snapshot.segments.find((segment) => segment.segment === `region=${REGIONS[0] as string}`)?.verdict === 'equivalent') claims += 1;
+    }
+    return claims;
+  };
+  const atBoundary = count(BASE_RATE + 0.02, 60_000);
+  const inside = count(BASE_RATE, 70_000);
+  const figure = atMost('true difference exactly at the margin (+2 points): reports that call the region equivalent', atBoundary, options.replicates, 0.05);
+  return [
+    { ...figure, met: (figure.value ?? 0) <= 0.05 + monteCarloSlack(0.05, options.replicates) },
+    information('true difference 0, same sizes: reports that call the region equivalent (the power of the rule)', inside, options.replicates),
+  ];
 }
 
 /**
@@ -139,10 +167,11 @@ export const verdictSection: CalibrationSection = {
   name: 'Verdicts: better, worse, equivalent; the minimum detectable difference',
   run(options): SectionResult {
     return {
-      figures: [...nullFigures(options), ...mixedFigures(options), ...powerFigures(options)],
+      figures: [...nullFigures(options), ...mixedFigures(options), ...boundaryFigures(options), ...powerFigures(options)],
       notes: [
         `No effect: 4,000 contacts, 6 regions × 4 channels with one-way segments and their crosses (34 tests), ${BASE_RATE * 100} % conversion everywhere.`,
         'Effects in some regions: 20,000 contacts, region rates 14, 7, 12.5, 11, 10, 10 %, channels without effect, same segments; the equivalence margin is the report default.',
+        'Equivalence boundary: 40,000 contacts in 6 regions (6 tests), one region at 12 % against 10 % for the others, i.e. exactly the 2-point margin.',
         'A discovery is false when the true difference (population truth) is zero or has the other sign.',
         'Targets on proportions are met within Monte-Carlo error: at most the limit plus two standard errors of a proportion at the limit.',
       ],
