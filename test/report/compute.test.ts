@@ -6,6 +6,8 @@ import type { SnapshotSegment } from '../../src/report/shapes/index.js';
 import { cellStats } from '../../src/segments/rollup.js';
 import { median, modes, newcombeDifferenceInterval, pearsonCorrelation, quartiles, skewness, summarize } from '../../src/stats/index.js';
 import { ZERO_SHIFTS, block, cellsFromUnits, countsFromUnits, type TestUnit } from './cells.js';
+import { readStoredSnapshot } from '../../src/report/snapshot/stored.js';
+import { knownSnapshot } from '../support/snapshot-fixture.js';
 
 const DEFINITION: ReportDefinition = {
   name: 'Pure',
@@ -266,5 +268,30 @@ describe('an empty population', () => {
     expect(snapshot.population).toMatchObject({ n: 0, conversion_rate: null, value_mean: null });
     expect(snapshot.summary).toMatch(/The population is empty/);
     expect(snapshot.cautions.length).toBeGreaterThanOrEqual(2);
+  });
+});
+
+describe('reading a snapshot stored before equivalence verdicts', () => {
+  test('a former "no detectable difference" is read as inconclusive with a note; missing fields are filled; a former change is dropped', () => {
+    const current = knownSnapshot();
+    const legacy = JSON.parse(JSON.stringify(current)) as Record<string, unknown> & { segments: Array<Record<string, unknown>>; verdict_counts: Record<string, number> };
+    legacy.verdict_counts = { better: 1, worse: 1, no_detectable_difference: 1, inconclusive: 1, too_small: 1 };
+    for (const segment of legacy.segments) {
+      if (segment['verdict'] === 'equivalent') segment['verdict'] = 'no_detectable_difference';
+      delete segment['equivalence'];
+      delete segment['mirror_of'];
+      delete segment['strata'];
+      segment['change'] = { compared_with: 'previous_snapshot', previous_n: 10, previous_conversions: 1, rate_change: 0 };
+    }
+    const read = readStoredSnapshot(JSON.stringify(legacy));
+    expect(read.verdict_counts).toEqual({ better: 1, worse: 1, equivalent: 0, inconclusive: 2, too_small: 1 });
+    const former = read.segments.find((segment) => segment.notes.some((note) => note.includes('former rule')));
+    expect(former?.verdict).toBe('inconclusive');
+    for (const segment of read.segments) {
+      expect(segment.equivalence).toEqual({ conversion_rate: null, value: null });
+      expect(segment.mirror_of).toBeNull();
+      expect(segment.change).toBeNull();
+    }
+    expect(readStoredSnapshot(JSON.stringify(current))).toEqual(current);
   });
 });

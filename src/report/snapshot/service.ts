@@ -22,6 +22,7 @@ import {
 import type { PreviousWindow } from '../analysis/index.js';
 import { buildSnapshot } from './build.js';
 import { normalizeDefinition, withCurrentDefaults, type ReportDefinition } from '../definition/index.js';
+import { readStoredSnapshot } from './stored.js';
 import { ageGridAxis, ageValueGridAxes, isExpandable } from './profiles.js';
 import * as repository from '../store/index.js';
 import { renderSegmentTable, type RenderedTable, type SegmentTableCache, type TableFormat } from '../../present/index.js';
@@ -203,7 +204,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   const queriesDone = performance.now();
 
   const previousBody = await repository.findSnapshotBody(deps.db, reportId, 'latest');
-  const previousSnapshot = previousBody === undefined ? null : (JSON.parse(previousBody) as Snapshot);
+  const previousSnapshot = previousBody === undefined ? null : readStoredSnapshot(previousBody);
   const snapshotId = randomUUID();
   let sequence = await repository.nextSnapshotSequence(deps.db, reportId);
   const snapshot = buildSnapshot({
@@ -293,7 +294,7 @@ export async function segmentTable(
   if (cached) return cached;
   const stored = await repository.findSnapshotBody(deps.readDb, reportId, resolvedId);
   if (stored === undefined) return undefined;
-  const table = renderSegmentTable(JSON.parse(stored) as Snapshot, format);
+  const table = renderSegmentTable(readStoredSnapshot(stored), format);
   cache.set(reportId, format, table);
   return table;
 }
@@ -321,7 +322,7 @@ export async function snapshotInContext(
 ): Promise<SnapshotInContext> {
   const readSnapshot = async (id: string): Promise<Snapshot | undefined> => {
     const body = await getSnapshotBody(deps, reportId, id);
-    return body === undefined ? undefined : (JSON.parse(body) as Snapshot);
+    return body === undefined ? undefined : readStoredSnapshot(body);
   };
   const shown = await readSnapshot(snapshotId);
   if (shown === undefined) throw new SnapshotNotFoundError(reportId, snapshotId);
