@@ -31,7 +31,7 @@ export interface CalibrationSection {
 }
 
 /** A proportion shown with its counts. */
-export function shownShare(part: number, whole: number): string {
+function shownShare(part: number, whole: number): string {
   return whole === 0 ? 'no cases' : `${((100 * part) / whole).toFixed(1)} % (${part} of ${whole})`;
 }
 
