@@ -4,7 +4,7 @@ import type { ReportDefinition } from '../../src/report/definition/index.js';
 import { findReversals, rankSegments } from '../../src/report/analysis/index.js';
 import type { SnapshotSegment } from '../../src/report/shapes/index.js';
 import { cellStats } from '../../src/segments/rollup.js';
-import { median, modes, newcombeDifferenceInterval, pearsonCorrelation, quartiles, skewness, summarize } from '../../src/stats/index.js';
+import { meanEquivalenceTest, median, modes, newcombeDifferenceInterval, pearsonCorrelation, quartiles, skewness, summarize } from '../../src/stats/index.js';
 import { ZERO_SHIFTS, block, cellsFromUnits, countsFromUnits, type TestUnit } from './cells.js';
 import { readStoredSnapshot } from '../../src/report/snapshot/stored.js';
 import { knownSnapshot } from '../support/snapshot-fixture.js';
@@ -293,5 +293,35 @@ describe('reading a snapshot stored before equivalence verdicts', () => {
       expect(segment.change).toBeNull();
     }
     expect(readStoredSnapshot(JSON.stringify(current))).toEqual(current);
+  });
+});
+
+describe('equivalence on the value metric', () => {
+  // Two regions of 400 units with nearly equal revenue per unit, and a value margin of 1.00.
+  const units = [...block(['A'], 400, 100, 2000), ...block(['B'], 400, 100, 2010), ...block(['C'], 400, 100, 1990)];
+  const definition = { ...DEFINITION, rank_by: 'value' as const, value_equivalence_margin: 1 };
+
+  test('the value TOST is the Welch TOST against ± the margin, adjusted over its family; the verdict follows it', () => {
+    const snapshot = buildSnapshot(input(units, { definition }));
+    const stats = (labels: string[]) => units.filter((unit) => labels.includes(unit.labels[0] as string)).map((unit) => unit.cents / 100);
+    for (const segment of snapshot.segments) {
+      const label = segment.values['region'] as string;
+      const expected = meanEquivalenceTest(summarize(stats([label])), summarize(stats(['A', 'B', 'C'].filter((other) => other !== label))), 1);
+      if (!expected.ok) throw new Error(expected.reason);
+      expect(segment.equivalence.value).toMatchObject({ margin: 1, margin_source: 'definition' });
+      expect(segment.equivalence.value?.p_value).toBeCloseTo(expected.value.pValue, 12);
+      expect(segment.equivalence.value?.p_adjusted).toBeGreaterThanOrEqual(segment.equivalence.value?.p_value as number);
+      const equivalent = (segment.equivalence.value?.p_adjusted as number) < 0.05 && !((segment.value_p_adjusted as number) < 0.05);
+      expect(segment.verdict === 'equivalent').toBe(equivalent);
+    }
+    expect(snapshot.segments.some((segment) => segment.verdict === 'equivalent')).toBe(true);
+  });
+
+  test('without a value margin no segment is equivalent on value', () => {
+    const snapshot = buildSnapshot(input(units, { definition: { ...definition, value_equivalence_margin: null } }));
+    for (const segment of snapshot.segments) {
+      expect(segment.equivalence.value).toBeNull();
+      expect(segment.verdict).not.toBe('equivalent');
+    }
   });
 });

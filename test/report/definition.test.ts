@@ -92,6 +92,20 @@ describe('report definitions', () => {
     expect(issues.map((issue) => issue.field)).toEqual(['body/age_bands/0', 'body/age_bands/2']);
   });
 
+  test.each([0, -0.01, 1.5, '0.02', null])('an equivalence margin of %j is refused', async (margin) => {
+    expect(await issuesOf({ name: 'x', source: { campaign_ids: ['spring'] }, equivalence_margin: margin })).toEqual([
+      { field: 'body/equivalence_margin', reason: expect.stringContaining('a difference of conversion rates as a fraction') },
+    ]);
+  });
+
+  test.each([0, -5, '10'])('a value equivalence margin of %j is refused; null and a positive amount are kept', async (margin) => {
+    expect(await issuesOf({ name: 'x', source: { campaign_ids: ['spring'] }, value_equivalence_margin: margin })).toEqual([
+      { field: 'body/value_equivalence_margin', reason: expect.stringContaining('a positive amount of money in major units, or null') },
+    ]);
+    const kept = await normalizeDefinition({ name: 'x', source: { campaign_ids: ['spring'] }, equivalence_margin: 0.05, value_equivalence_margin: 2.5 }, lookup);
+    expect(kept).toMatchObject({ equivalence_margin: 0.05, value_equivalence_margin: 2.5 });
+  });
+
   test.each([0, 1, 1.5, -0.2, '0.95'])('a confidence of %j is refused', async (confidence) => {
     expect(await issuesOf({ name: 'x', source: { campaign_ids: ['spring'] }, confidence })).toEqual([
       { field: 'body/confidence', reason: expect.stringContaining('strictly between 0 and 1') },
