@@ -136,31 +136,36 @@ function boundaryFigures(options: CalibrationOptions): CalibrationFigure[] {
 }
 
 /**
- * Power at the stated minimum detectable difference: the first region's own figure is read
- * from a report with no effect, then that difference is planted and the share of reports
- * that call the region better (or worse) is counted.
+ * Power at the stated minimum detectable difference, in each direction: a region's own figure
+ * is read from a report with no effect (the first region whose observed difference has that
+ * sign), then that difference is planted and the share of reports that call the region
+ * better (or worse) is counted.
  */
 function powerFigures(options: CalibrationOptions): CalibrationFigure[] {
-  return (['bh', 'holm', 'none'] as const).map((adjustment) => {
+  const figures: CalibrationFigure[] = [];
+  for (const adjustment of ['bh', 'holm', 'none'] as const) {
     const probe = simulateReport(seededRandom(options.seed + 20_000), nullScenario(adjustment)).snapshot;
-    const region = probe.segments.find((segment) => segment.segment === `region=${REGIONS[0] as string}`) as SnapshotSegment;
-    const direction = (region.rate_diff ?? 0) >= 0 ? 1 : -1;
-    const planted = direction * (region.min_detectable_diff ?? 0);
-    const scenario: Scenario = { ...nullScenario(adjustment), rateOf: (labels) => (labels[0] === REGIONS[0] ? BASE_RATE + planted : BASE_RATE) };
-    let detected = 0;
-    for (let replicate = 0; replicate < options.replicates; replicate += 1) {
-      const { snapshot } = simulateReport(seededRandom(options.seed + 30_000 + replicate), scenario);
-      const segment = snapshot.segments.find((entry) => entry.segment === region.segment);
-      if (segment?.verdict === (direction > 0 ? 'better' : 'worse')) detected += 1;
+    for (const direction of [1, -1]) {
+      const region = probe.segments.find((segment) => segment.dimensions === 'region' && Math.sign(segment.rate_diff ?? 0) === direction) as SnapshotSegment;
+      const label = region.values['region'];
+      const planted = direction * (region.min_detectable_diff ?? 0);
+      const scenario: Scenario = { ...nullScenario(adjustment), rateOf: (labels) => (labels[0] === label ? BASE_RATE + planted : BASE_RATE) };
+      let detected = 0;
+      for (let replicate = 0; replicate < options.replicates; replicate += 1) {
+        const { snapshot } = simulateReport(seededRandom(options.seed + 30_000 + replicate), scenario);
+        const segment = snapshot.segments.find((entry) => entry.segment === region.segment);
+        if (segment?.verdict === (direction > 0 ? 'better' : 'worse')) detected += 1;
+      }
+      const figure = atLeast(
+        `true difference = the stated minimum detectable ${direction > 0 ? 'rise' : 'fall'} (${(100 * planted).toFixed(2)} points), adjustment ${adjustment}: reports that detect it`,
+        detected,
+        options.replicates,
+        0.8,
+      );
+      figures.push({ ...figure, met: (figure.value ?? 0) >= 0.8 - monteCarloSlack(0.8, options.replicates) });
     }
-    const figure = atLeast(
-      `true difference = the stated minimum detectable difference (${(100 * planted).toFixed(2)} points), adjustment ${adjustment}: reports that detect it`,
-      detected,
-      options.replicates,
-      0.8,
-    );
-    return { ...figure, met: (figure.value ?? 0) >= 0.8 - monteCarloSlack(0.8, options.replicates) };
-  });
+  }
+  return figures;
 }
 
 export const verdictSection: CalibrationSection = {

@@ -157,10 +157,10 @@ export function analyzeSegment(segment: GroupStats, rest: GroupStats, settings: 
   const bothPresent = segment.n > 0 && rest.n > 0;
   const rateMdd = {
     increase: bothPresent
-      ? minimumDetectableRateDifference({ n1: segment.n, n2: rest.n, baselineRate: restRate as number, alpha, power: PLANNING_POWER, direction: 'increase' })
+      ? minimumDetectableRateDifference({ n1: segment.n, n2: rest.n, baselineRate: restRate as number, alpha, power: PLANNING_POWER, direction: 'increase', nullVariance: 'pooled-null' })
       : notComputable('The minimum detectable difference is undefined: the segment or the rest is empty.'),
     decrease: bothPresent
-      ? minimumDetectableRateDifference({ n1: segment.n, n2: rest.n, baselineRate: restRate as number, alpha, power: PLANNING_POWER, direction: 'decrease' })
+      ? minimumDetectableRateDifference({ n1: segment.n, n2: rest.n, baselineRate: restRate as number, alpha, power: PLANNING_POWER, direction: 'decrease', nullVariance: 'pooled-null' })
       : notComputable('The minimum detectable difference is undefined: the segment or the rest is empty.'),
   };
 
