@@ -8,6 +8,7 @@ const UNIT = [
   'test/report/{compute,csv,definition,format,segment-table,verdict,withholding,wording-grammar}.test.ts',
   'test/segments/{dimensions,rollup}.test.ts',
   'test/view/{charts,html,interval-chart,page,scale,svg-safety,text-width}.test.ts',
+  'test/calibration/**/*.test.ts',
 ];
 const ROBUSTNESS = ['test/robustness/**/*.test.ts'];
 const BROWSER = ['test/browser/**/*.test.ts'];

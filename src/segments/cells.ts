@@ -9,7 +9,18 @@ import type { Executor } from '../db/executor.js';
 import { ageBandOf, isBuiltInDimension } from './dimensions.js';
 import { CONTACT_CELL_COLUMNS, VALUE, attributeColumn, basePopulation, plausibleAgeOf, toNumber, type AggregationRequest } from './population.js';
 import { exactTotals, shiftsFromTotals, type Arithmetic, type MoneySums, type PairedShiftedSums, type ShiftedSums, type Shifts } from './shifted-sums.js';
-import { compareLabelLists } from './text-order.js';
+import { compareLabelLists, compareText } from './text-order.js';
+
+/**
+ * Units and conversions of one cell within one campaign, for reports over several campaigns,
+ * whose comparisons are made within campaign.
+ */
+export interface CampaignCellCount {
+  campaign: string;
+  labels: string[];
+  n: number;
+  conversions: number;
+}
 
 /** One finest cell: a combination of one value per dimension. */
 export interface CellAggregate {
@@ -144,6 +155,8 @@ export interface CellAggregates {
   unconvertedByAge: Map<number | null, number>;
   /** Always `exact`: the money sums are exact integers whatever their size. */
   arithmetic: Arithmetic;
+  /** Reports over several campaigns: units and conversions per cell and campaign; otherwise empty. */
+  strata: CampaignCellCount[];
 }
 
 /** One row of the cell query with its exact money sums. */
@@ -219,9 +232,20 @@ function foldCellRows(groups: readonly GroupSums[], request: AggregationRequest,
   const cells = new Map<string, CellAggregate>();
   const ageCounts = new Map<string, AgeCount>();
   const unconvertedByAge = new Map<number | null, number>();
+  const stratified = request.source.kind === 'campaigns' && request.source.campaignIds.length > 1;
+  const strata = new Map<string, CampaignCellCount>();
   for (const { row, age, n, converted, valueSum, valueSquares } of groups) {
     const conversions = converted ? n : 0;
     const values = cellLabelsOf(row, request, age);
+    if (stratified) {
+      const campaign = String(row['campaign_key']);
+      const stratumKey = JSON.stringify([campaign, values]);
+      const stratum = strata.get(stratumKey);
+      if (stratum) {
+        stratum.n += n;
+        stratum.conversions += conversions;
+      } else strata.set(stratumKey, { campaign, labels: values, n, conversions });
+    }
     const key = JSON.stringify(values);
     let cell = cells.get(key);
     if (!cell) cells.set(key, (cell = emptyCell(values)));
@@ -250,5 +274,6 @@ function foldCellRows(groups: readonly GroupSums[], request: AggregationRequest,
     };
   }
   const sorted = [...cells.values()].sort((left, right) => compareLabelLists(left.labels, right.labels));
-  return { cells: sorted, ageCounts: [...ageCounts.values()], unconvertedByAge, arithmetic: 'exact' };
+  const strataInOrder = [...strata.values()].sort((left, right) => compareText(left.campaign, right.campaign) || compareLabelLists(left.labels, right.labels));
+  return { cells: sorted, ageCounts: [...ageCounts.values()], unconvertedByAge, arithmetic: 'exact', strata: strataInOrder };
 }

@@ -15,12 +15,12 @@ export { binIndex, gridCountsOf, valueCountsByAgeBin, valueCountsOf } from './ag
 export type { AgeValueBinCount, AgeValueGridAxes, GridAxis, PopulationValueCount } from './age-value-grid.js';
 
 export { cellAggregates, shiftsAndCellAggregates } from './cells.js';
-export type { AgeCount, CellAggregate } from './cells.js';
+export type { AgeCount, CampaignCellCount, CellAggregate } from './cells.js';
 
 export { sourceQuality } from './data-quality.js';
 export type { SourceQuality } from './data-quality.js';
 
-export { BUILT_IN_DIMENSIONS, MAX_PLAUSIBLE_AGE, MIN_PLAUSIBLE_AGE, ageBandOf, isAttributeName } from './dimensions.js';
+export { BUILT_IN_DIMENSIONS, MAX_PLAUSIBLE_AGE, MIN_PLAUSIBLE_AGE, UNKNOWN, ageBandOf, isAttributeName } from './dimensions.js';
 
 export { labelCounts } from './label-counts.js';
 

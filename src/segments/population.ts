@@ -13,7 +13,13 @@ import type { Executor } from '../db/executor.js';
 import { MAX_PLAUSIBLE_AGE, MIN_PLAUSIBLE_AGE, UNKNOWN, ageBands, isBuiltInDimension } from './dimensions.js';
 import type { PopulationTotals } from './shifted-sums.js';
 
-export type PopulationSource = { kind: 'campaigns'; campaignIds: string[] } | { kind: 'sales'; from: string; to: string };
+/**
+ * Campaigns' contacts, or customers in a sales window. `knownAt` (a date) keeps only the
+ * customers known by then: stored before that day, or with a sale before it. A window compared
+ * with an earlier one is judged with the customers known at its start, so a customer who
+ * arrived later is not counted as not buying back then.
+ */
+export type PopulationSource = { kind: 'campaigns'; campaignIds: string[] } | { kind: 'sales'; from: string; to: string; knownAt?: string };
 
 export interface AggregationRequest {
   source: PopulationSource;
@@ -101,7 +107,12 @@ export function basePopulation(source: PopulationSource, dimensions: readonly st
       where sold_at >= ${source.from} and sold_at <= ${source.to}
       group by customer_id
     ) s on s.customer_id = cu.customer_id
-    ${sql.join(attributeJoins, sql` `)}`;
+    ${sql.join(attributeJoins, sql` `)}
+    ${
+      source.knownAt === undefined
+        ? sql``
+        : sql`where (cu.created_at < ${source.knownAt} or exists (select 1 from sales k where k.customer_id = cu.customer_id and k.sold_at < ${source.knownAt}))`
+    }`;
 }
 
 /** The age as the population's `age` column has it: the raw age when plausible, else null. */

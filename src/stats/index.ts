@@ -89,3 +89,9 @@ export type {
   TwoSampleTPowerInput,
   TwoSampleTSampleSizeInput,
 } from './power.js';
+
+export { meanEquivalenceTest, rateEquivalenceTest } from './equivalence.js';
+export type { EquivalenceTestResult } from './equivalence.js';
+
+export { cochranMantelHaenszelTest, mantelHaenszelRiskDifference } from './stratified.js';
+export type { RateStratum, StratifiedRateTestResult } from './stratified.js';

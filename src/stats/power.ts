@@ -216,7 +216,31 @@ export interface MinimumDetectableRateDifferenceInput {
   readonly power?: number;
   /** look for a rise (default) or a fall of group 1's rate */
   readonly direction?: 'increase' | 'decrease';
+  /**
+   * the standard error the test statistic is divided by: `unpooled` (default, as above) or
+   * `pooled-null`, the pooled two-proportion z-test's, under the null (see below)
+   */
+  readonly nullVariance?: 'unpooled' | 'pooled-null';
 }
+
+/**
+ * Power of the pooled two-proportion z-test (two-sided, opposite tail ignored) when group 1's
+ * rate is p₁ and group 2's p₀: Φ((|p₁ − p₀| − z(1 − α/2)·SE₀)/SE₁), with the null standard
+ * error SE₀ = √(p̄(1 − p̄)(1/n₁ + 1/n₂)), p̄ = (n₁p₁ + n₂p₀)/(n₁ + n₂), and the alternative's
+ * SE₁ = √(p₁(1 − p₁)/n₁ + p₀(1 − p₀)/n₂). Source: Fleiss, Levin & Paik (2003), Statistical
+ * Methods for Rates and Proportions, 3rd ed., §4.2 (from memory); as statsmodels'
+ * `power_proportions_2indep` (checked in the tests).
+ */
+function pooledTestPower(p1: number, p0: number, n1: number, n2: number, criticalZ: number): number {
+  const pooled = (n1 * p1 + n2 * p0) / (n1 + n2);
+  const nullError = Math.sqrt(pooled * (1 - pooled) * (1 / n1 + 1 / n2));
+  const alternativeError = Math.sqrt((p1 * (1 - p1)) / n1 + (p0 * (1 - p0)) / n2);
+  if (alternativeError === 0) return Math.abs(p1 - p0) > criticalZ * nullError ? 1 : 0;
+  return standardNormalCdf((Math.abs(p1 - p0) - criticalZ * nullError) / alternativeError);
+}
+
+/** Bisection steps for the pooled-null minimum detectable difference: 2⁻⁶⁰ of the range, below binary64 resolution. */
+const POOLED_BISECTION_STEPS = 60;
 
 /**
  * Minimum detectable difference of rates for two groups of unequal size: the smallest d > 0
@@ -253,6 +277,23 @@ export function minimumDetectableRateDifference(input: MinimumDetectableRateDiff
   }
   // A fall from p₀ is a rise from 1 − p₀ on the complementary outcome.
   const baseline = direction === 'increase' ? baselineRate : 1 - baselineRate;
+  if (input.nullVariance === 'pooled-null') {
+    const criticalZ = standardNormalQuantile(1 - alpha / 2);
+    if (pooledTestPower(1, baseline, n1, n2, criticalZ) < power) {
+      return notComputable(
+        `No ${direction} of the rate is detectable with this power: even a rate of ${direction === 'increase' ? 1 : 0} in group 1 would not reach it with ${n1} and ${n2} units.`,
+      );
+    }
+    // The power rises with the difference over (0, 1 − p₀]; bisection finds where it reaches the target.
+    let low = 0;
+    let high = 1 - baseline;
+    for (let step = 0; step < POOLED_BISECTION_STEPS; step += 1) {
+      const middle = (low + high) / 2;
+      if (pooledTestPower(baseline + middle, baseline, n1, n2, criticalZ) < power) low = middle;
+      else high = middle;
+    }
+    return computed(high);
+  }
   const combinedZSquared = combinedZ * combinedZ;
   const quadratic = 1 + combinedZSquared / n1;
   const linear = -(combinedZSquared * (1 - 2 * baseline)) / n1;

@@ -62,12 +62,12 @@ export function decisionSection(snapshot: Snapshot): SafeHtml {
   const worse = of('worse').sort((left, right) => (metric.differenceOf(left).high ?? 0) - (metric.differenceOf(right).high ?? 0));
   // The uncertain ones that could matter most first: the highest upper bound of the difference.
   const uncertain = of('inconclusive').sort((left, right) => (metric.differenceOf(right).high ?? 0) - (metric.differenceOf(left).high ?? 0));
-  const alike = of('no_detectable_difference').length;
+  const alike = of('equivalent').length;
   const small = snapshot.segments.length - published.length + of('too_small').length;
   const tested = snapshot.segments.length - small;
   return html`<section aria-labelledby="decision-heading" class="decision">
 <h2 id="decision-heading">Whom to target next</h2>
-<p class="lead">Of ${formatCount(tested)} ${tested === 1 ? 'segment' : 'segments'} tested on ${metric.name}, ${counted(better.length, 'does', 'do')} better than the rest, ${counted(worse.length, 'does', 'do')} worse, ${counted(uncertain.length, 'is', 'are')} still too uncertain to call and ${counted(alike, 'shows', 'show')} no detectable difference${small > 0 ? `; ${counted(small, 'is', 'are')} too small to test` : ''}.
+<p class="lead">Of ${formatCount(tested)} ${tested === 1 ? 'segment' : 'segments'} tested on ${metric.name}, ${counted(better.length, 'does', 'do')} better than the rest, ${counted(worse.length, 'does', 'do')} worse, ${counted(uncertain.length, 'is', 'are')} still too uncertain to call and ${counted(alike, 'is', 'are')} equivalent to the rest within the margin${small > 0 ? `; ${counted(small, 'is', 'are')} too small to test` : ''}.
 Each segment below: its expected ${metric.name} with the ${formatConfidence(snapshot.definition.confidence)} confidence interval, against everyone else, and how many ${vocabulary(snapshot.definition).units} it holds (n).</p>
 <div class="decision-lists">
 ${verdictList(snapshot, {
@@ -92,6 +92,6 @@ ${verdictList(snapshot, {
   segments: uncertain,
 })}
 </div>
-${alike > 0 ? html`<p>${VERDICT_STYLES.no_detectable_difference.symbol} ${formatCount(alike)} ${alike === 1 ? 'segment behaves' : 'segments behave'} like the rest as far as this data can tell: plan ${alike === 1 ? 'it' : 'them'} like everyone else.</p>` : ''}
+${alike > 0 ? html`<p>${VERDICT_STYLES.equivalent.symbol} ${formatCount(alike)} ${alike === 1 ? 'segment is' : 'segments are'} equivalent to the rest within the equivalence margin: plan ${alike === 1 ? 'it' : 'them'} like everyone else.</p>` : ''}
 </section>`;
 }

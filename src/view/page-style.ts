@@ -4,7 +4,7 @@
  * the controls and keeps each chart on one page.
  */
 // Each verdict's filter button hides every other segment; `:has()` lets the stylesheet do it without a script.
-const FILTER_RULES = ['better', 'worse', 'inconclusive', 'no_detectable_difference', 'too_small']
+const FILTER_RULES = ['better', 'worse', 'inconclusive', 'equivalent', 'too_small']
   .map((verdict) => `main:has(#filter-${verdict}:checked) #segment-table tbody.segment:not([data-verdict="${verdict}"]) { display: none; }`)
   .join('\n');
 

@@ -19,7 +19,7 @@ interface Column {
   cell(segment: SnapshotSegment): { text: SafeHtml | string; sortKey: string };
 }
 
-const VERDICT_ORDER = ['better', 'no_detectable_difference', 'inconclusive', 'worse', 'too_small'];
+const VERDICT_ORDER = ['better', 'equivalent', 'inconclusive', 'worse', 'too_small'];
 
 function keyOf(value: number | null): string {
   return value === null ? '' : String(value);
@@ -93,7 +93,7 @@ const COLUMNS: readonly Column[] = [
 ];
 
 /** The verdicts in the order the filter offers them. */
-const FILTER_VERDICTS: readonly Verdict[] = ['better', 'worse', 'inconclusive', 'no_detectable_difference', 'too_small'];
+const FILTER_VERDICTS: readonly Verdict[] = ['better', 'worse', 'inconclusive', 'equivalent', 'too_small'];
 
 /**
  * Radio buttons that show only the segments of one verdict. The stylesheet does the hiding

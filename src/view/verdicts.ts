@@ -22,10 +22,10 @@ export interface VerdictStyle {
 export const VERDICT_STYLES: Record<Verdict, VerdictStyle> = {
   better: { label: 'better than the rest', shape: 'triangle-up', symbol: '▲', colour: '#0072B2', filled: true },
   worse: { label: 'worse than the rest', shape: 'triangle-down', symbol: '▼', colour: '#D55E00', filled: true },
-  no_detectable_difference: { label: 'no detectable difference', shape: 'circle', symbol: '○', colour: '#4D4D4D', filled: false },
+  equivalent: { label: 'equivalent to the rest (within the margin)', shape: 'circle', symbol: '○', colour: '#4D4D4D', filled: false },
   inconclusive: { label: 'inconclusive', shape: 'diamond', symbol: '◇', colour: '#9A6A00', filled: false },
   too_small: { label: 'too small to test', shape: 'square', symbol: '□', colour: '#777777', filled: false },
 };
 
 /** Verdicts of tested segments, in the order legends list them. */
-export const TESTED_VERDICTS: readonly Verdict[] = ['better', 'worse', 'no_detectable_difference', 'inconclusive'];
+export const TESTED_VERDICTS: readonly Verdict[] = ['better', 'worse', 'equivalent', 'inconclusive'];

@@ -4,8 +4,10 @@ import type { ReportDefinition } from '../../src/report/definition/index.js';
 import { findReversals, rankSegments } from '../../src/report/analysis/index.js';
 import type { SnapshotSegment } from '../../src/report/shapes/index.js';
 import { cellStats } from '../../src/segments/rollup.js';
-import { median, modes, newcombeDifferenceInterval, pearsonCorrelation, quartiles, skewness, summarize } from '../../src/stats/index.js';
+import { meanEquivalenceTest, median, modes, newcombeDifferenceInterval, pearsonCorrelation, quartiles, skewness, summarize } from '../../src/stats/index.js';
 import { ZERO_SHIFTS, block, cellsFromUnits, countsFromUnits, type TestUnit } from './cells.js';
+import { readStoredSnapshot } from '../../src/report/snapshot/stored.js';
+import { knownSnapshot } from '../support/snapshot-fixture.js';
 
 const DEFINITION: ReportDefinition = {
   name: 'Pure',
@@ -15,6 +17,8 @@ const DEFINITION: ReportDefinition = {
   age_bands: [18, 25, 35, 45, 55, 65],
   min_n: 30,
   confidence: 0.95,
+  equivalence_margin: 0.02,
+  value_equivalence_margin: null,
   adjustment: 'bh',
   value_basis: 'per_unit',
   rank_by: 'conversion_rate',
@@ -107,7 +111,9 @@ describe('the reversal check', () => {
 describe('change since the previous snapshot and rank movement', () => {
   const regions = ['P', 'Q', 'R', 'S', 'T'];
   const before = regions.flatMap((region, index) => block([region], 60, region === 'P' ? 2 : 10 + index));
-  const after = regions.flatMap((region, index) => block([region], 60, region === 'P' ? 30 : 10 + index));
+  // Campaign contacts are only added between snapshots: the second snapshot holds the first's contacts and 60 new ones per region.
+  const added = regions.flatMap((region, index) => block([region], 60, region === 'P' ? 30 : 10 + index));
+  const after = [...before, ...added];
   const first = buildSnapshot(input(before));
   const second = buildSnapshot(input(after, { previousSnapshot: first, identity: { ...input(after).identity, snapshotId: 'snap-2', sequence: 2 } }));
   const p = second.segments.find((entry) => entry.segment === 'region=P') as SnapshotSegment;
@@ -119,18 +125,40 @@ describe('change since the previous snapshot and rank movement', () => {
     expect(p.rank_movement).toBe(4);
   });
 
-  test('the change of rate is the Newcombe interval between the two snapshots\' counts', () => {
+  test('the change of rate compares the contacts added since the previous snapshot with those before (Newcombe interval, disjoint groups)', () => {
     const expected = newcombeDifferenceInterval(30, 60, 2, 60, 0.95);
     if (!expected.ok) throw new Error(expected.reason);
     expect(p.change).toMatchObject({
       compared_with: 'previous_snapshot',
       previous_n: 60,
       previous_conversions: 2,
+      new_n: 60,
+      new_conversions: 30,
       rate_change: expected.value.estimate,
       rate_change_ci_low: expected.value.interval.low,
       rate_change_ci_high: expected.value.interval.high,
     });
     expect(second.comparison).toMatchObject({ compared_with: 'previous_snapshot', previous_snapshot_id: 'snap' });
+    expect(p.change?.rate_change_p_value).toBeLessThan(0.001);
+    // Adjusted over the five changes of the report (Benjamini–Hochberg): never below the raw p-value.
+    expect(p.change?.rate_change_p_adjusted).toBeGreaterThanOrEqual(p.change?.rate_change_p_value as number);
+  });
+
+  test('a refresh with no new contacts reports no change and says there is no new data', () => {
+    const again = buildSnapshot(input(after, { previousSnapshot: second, identity: { ...input(after).identity, snapshotId: 'snap-3', sequence: 3 } }));
+    for (const segment of again.segments) {
+      expect(segment.change).toBeNull();
+      expect(segment.summary).toMatch(/were added to it since the previous snapshot, so there is no change to report\./);
+      expect(segment.summary).not.toMatch(/differs by/);
+    }
+  });
+
+  test('when earlier contacts changed (not only new ones added) the change is not computed, with the reason', () => {
+    const rewritten = regions.flatMap((region) => block([region], 60, 40));
+    const changed = buildSnapshot(input(rewritten, { previousSnapshot: first }));
+    const q = changed.segments.find((entry) => entry.segment === 'region=Q') as SnapshotSegment;
+    expect(q.change).toBeNull();
+    expect(q.notes.join(' ')).toMatch(/contacts stored then were changed or erased since/);
   });
 
   test('a jump to the top on little data gets a regression-to-the-mean caution in words', () => {
@@ -142,7 +170,7 @@ describe('change since the previous snapshot and rank movement', () => {
 
   test('the same jump on plenty of data gets no such caution', () => {
     const bigBefore = regions.flatMap((region, index) => block([region], 600, region === 'P' ? 20 : 100 + 10 * index));
-    const bigAfter = regions.flatMap((region, index) => block([region], 600, region === 'P' ? 300 : 100 + 10 * index));
+    const bigAfter = [...bigBefore, ...regions.flatMap((region, index) => block([region], 600, region === 'P' ? 300 : 100 + 10 * index))];
     const bigFirst = buildSnapshot(input(bigBefore));
     const bigSecond = buildSnapshot(input(bigAfter, { previousSnapshot: bigFirst }));
     const bigP = bigSecond.segments.find((entry) => entry.segment === 'region=P') as SnapshotSegment;
@@ -240,5 +268,60 @@ describe('an empty population', () => {
     expect(snapshot.population).toMatchObject({ n: 0, conversion_rate: null, value_mean: null });
     expect(snapshot.summary).toMatch(/The population is empty/);
     expect(snapshot.cautions.length).toBeGreaterThanOrEqual(2);
+  });
+});
+
+describe('reading a snapshot stored before equivalence verdicts', () => {
+  test('a former "no detectable difference" is read as inconclusive with a note; missing fields are filled; a former change is dropped', () => {
+    const current = knownSnapshot();
+    const legacy = JSON.parse(JSON.stringify(current)) as Record<string, unknown> & { segments: Array<Record<string, unknown>>; verdict_counts: Record<string, number> };
+    legacy.verdict_counts = { better: 1, worse: 1, no_detectable_difference: 1, inconclusive: 1, too_small: 1 };
+    for (const segment of legacy.segments) {
+      if (segment['verdict'] === 'equivalent') segment['verdict'] = 'no_detectable_difference';
+      delete segment['equivalence'];
+      delete segment['mirror_of'];
+      delete segment['strata'];
+      segment['change'] = { compared_with: 'previous_snapshot', previous_n: 10, previous_conversions: 1, rate_change: 0 };
+    }
+    const read = readStoredSnapshot(JSON.stringify(legacy));
+    expect(read.verdict_counts).toEqual({ better: 1, worse: 1, equivalent: 0, inconclusive: 2, too_small: 1 });
+    const former = read.segments.find((segment) => segment.notes.some((note) => note.includes('former rule')));
+    expect(former?.verdict).toBe('inconclusive');
+    for (const segment of read.segments) {
+      expect(segment.equivalence).toEqual({ conversion_rate: null, value: null });
+      expect(segment.mirror_of).toBeNull();
+      expect(segment.change).toBeNull();
+    }
+    expect(readStoredSnapshot(JSON.stringify(current))).toEqual(current);
+  });
+});
+
+describe('equivalence on the value metric', () => {
+  // Two regions of 400 units with nearly equal revenue per unit, and a value margin of 1.00.
+  const units = [...block(['A'], 400, 100, 2000), ...block(['B'], 400, 100, 2010), ...block(['C'], 400, 100, 1990)];
+  const definition = { ...DEFINITION, rank_by: 'value' as const, value_equivalence_margin: 1 };
+
+  test('the value TOST is the Welch TOST against ± the margin, adjusted over its family; the verdict follows it', () => {
+    const snapshot = buildSnapshot(input(units, { definition }));
+    const stats = (labels: string[]) => units.filter((unit) => labels.includes(unit.labels[0] as string)).map((unit) => unit.cents / 100);
+    for (const segment of snapshot.segments) {
+      const label = segment.values['region'] as string;
+      const expected = meanEquivalenceTest(summarize(stats([label])), summarize(stats(['A', 'B', 'C'].filter((other) => other !== label))), 1);
+      if (!expected.ok) throw new Error(expected.reason);
+      expect(segment.equivalence.value).toMatchObject({ margin: 1, margin_source: 'definition' });
+      expect(segment.equivalence.value?.p_value).toBeCloseTo(expected.value.pValue, 12);
+      expect(segment.equivalence.value?.p_adjusted).toBeGreaterThanOrEqual(segment.equivalence.value?.p_value as number);
+      const equivalent = (segment.equivalence.value?.p_adjusted as number) < 0.05 && !((segment.value_p_adjusted as number) < 0.05);
+      expect(segment.verdict === 'equivalent').toBe(equivalent);
+    }
+    expect(snapshot.segments.some((segment) => segment.verdict === 'equivalent')).toBe(true);
+  });
+
+  test('without a value margin no segment is equivalent on value', () => {
+    const snapshot = buildSnapshot(input(units, { definition: { ...definition, value_equivalence_margin: null } }));
+    for (const segment of snapshot.segments) {
+      expect(segment.equivalence.value).toBeNull();
+      expect(segment.verdict).not.toBe('equivalent');
+    }
   });
 });

@@ -31,6 +31,8 @@ describe('report definitions', () => {
       age_bands: [18, 25, 35, 45, 55, 65],
       min_n: 30,
       confidence: 0.95,
+      equivalence_margin: 0.02,
+      value_equivalence_margin: null,
       adjustment: 'bh',
       value_basis: 'per_unit',
       rank_by: 'conversion_rate',
@@ -88,6 +90,20 @@ describe('report definitions', () => {
   test('age band edges below 18 or above 120 are refused, because such ages count as unknown', async () => {
     const issues = await issuesOf({ name: 'x', source: { campaign_ids: ['spring'] }, age_bands: [16, 30, 121] });
     expect(issues.map((issue) => issue.field)).toEqual(['body/age_bands/0', 'body/age_bands/2']);
+  });
+
+  test.each([0, -0.01, 1.5, '0.02', null])('an equivalence margin of %j is refused', async (margin) => {
+    expect(await issuesOf({ name: 'x', source: { campaign_ids: ['spring'] }, equivalence_margin: margin })).toEqual([
+      { field: 'body/equivalence_margin', reason: expect.stringContaining('a difference of conversion rates as a fraction') },
+    ]);
+  });
+
+  test.each([0, -5, '10'])('a value equivalence margin of %j is refused; null and a positive amount are kept', async (margin) => {
+    expect(await issuesOf({ name: 'x', source: { campaign_ids: ['spring'] }, value_equivalence_margin: margin })).toEqual([
+      { field: 'body/value_equivalence_margin', reason: expect.stringContaining('a positive amount of money in major units, or null') },
+    ]);
+    const kept = await normalizeDefinition({ name: 'x', source: { campaign_ids: ['spring'] }, equivalence_margin: 0.05, value_equivalence_margin: 2.5 }, lookup);
+    expect(kept).toMatchObject({ equivalence_margin: 0.05, value_equivalence_margin: 2.5 });
   });
 
   // The last three were once accepted, and every refresh of such a report failed.

@@ -46,6 +46,13 @@ function formattedFields(segment: PublishedSegment, snapshot: Snapshot): string[
   texts.push(...money.filter(present).map(formatMoney));
   texts.push(...signedMoney.filter(present).map(formatSignedMoney));
   texts.push(...[segment.rate_p_adjusted, segment.value_p_adjusted].filter(present).map(formatPValue));
+  for (const test of [segment.equivalence.conversion_rate, segment.equivalence.value].filter(present)) {
+    texts.push(formatPointsMagnitude(test.margin), formatMoney(test.margin), formatPValue(test.p_adjusted ?? 1));
+  }
+  if (segment.change) {
+    texts.push(formatCount(segment.change.new_n), formatCount(segment.change.previous_n));
+    texts.push(...[segment.change.rate_change_p_adjusted, segment.change.value_change_p_adjusted].filter(present).map(formatPValue));
+  }
   if (present(segment.lift)) texts.push(formatRatio(segment.lift));
   if (present(segment.min_detectable_diff)) texts.push(formatPointsMagnitude(segment.min_detectable_diff), formatMoney(Math.abs(segment.min_detectable_diff)));
   texts.push(formatCount(segment.n), formatCount(segment.rest.n), formatCount(segment.value_n));
@@ -83,8 +90,14 @@ function checkSegmentSentences(snapshot: Snapshot): void {
     if (segment.verdict === 'too_small') {
       expect(text).toContain(formatCount(segment.n < snapshot.definition.min_n ? segment.n : segment.rest.n));
       if (present(segment.min_detectable_diff)) expect(text).toContain(magnitude(segment.min_detectable_diff));
-    } else if (segment.verdict === 'inconclusive' || segment.verdict === 'no_detectable_difference') {
+    } else if (segment.verdict === 'inconclusive') {
       if (present(segment.min_detectable_diff)) expect(text).toContain(magnitude(segment.min_detectable_diff));
+    } else if (segment.verdict === 'equivalent') {
+      const test = metric === 'conversion_rate' ? segment.equivalence.conversion_rate : segment.equivalence.value;
+      expect(test).not.toBeNull();
+      expect(text).toContain(magnitude(test?.margin as number));
+      expect(text).toContain(formatPValue(test?.p_adjusted as number));
+      expect(text).not.toContain('rules out');
     }
     if ((segment.verdict === 'better' || segment.verdict === 'worse' || segment.verdict === 'inconclusive') && present(adjusted)) {
       expect(text).toContain(formatPValue(adjusted));
@@ -158,7 +171,13 @@ describe.each(TEST_DIALECTS)('sentences quote the fields (%s)', (dialect) => {
       adjustment: 'holm',
       confidence: 0.9,
     });
-    const sales2026 = await createReport(context.app, { name: 'Spring sales', source: { sales_from: '2026-03-01', sales_to: '2026-04-30' }, dimensions: ['region', 'customer_type'], min_n: 50 });
+    const sales2026 = await createReport(context.app, {
+      name: 'Spring sales',
+      source: { sales_from: '2026-03-01', sales_to: '2026-04-30' },
+      dimensions: ['region', 'customer_type'],
+      min_n: 50,
+      equivalence_margin: 0.15,
+    });
     snapshots.push(await refresh(context.app, byRate.report_id), await refresh(context.app, byValue.report_id), await refresh(context.app, sales2026.report_id));
     // More contacts, then a second snapshot: change and rank movement appear in the sentences.
     const more = generateContacts(customers.slice(2000), { seed: 6, baseRate: 0.12, plantedRegion: 'Westbrook', plantedRate: 0.5 });
@@ -171,7 +190,7 @@ describe.each(TEST_DIALECTS)('sentences quote the fields (%s)', (dialect) => {
 
   test('the data give every kind of verdict, so every kind of sentence is checked', () => {
     const verdicts = new Set(snapshots.flatMap((snapshot) => snapshot.segments.map((segment) => segment.verdict)));
-    expect([...verdicts].sort()).toEqual(['better', 'inconclusive', 'no_detectable_difference', 'too_small', 'worse']);
+    expect([...verdicts].sort()).toEqual(['better', 'equivalent', 'inconclusive', 'too_small', 'worse']);
     expect(snapshots[3]?.segments.some((segment) => segment.change !== null && segment.previous_rank !== null)).toBe(true);
   });
 

@@ -118,14 +118,20 @@ function benjaminiHochberg(pValues: number[]): number[] {
   return adjusted;
 }
 
-/** Smallest d with power 0.8: Φ(d/SE(d) − z) = 0.8, SE(d) = √((p₀+d)(1−p₀−d)/n₁ + p₀(1−p₀)/n₂), by bisection. */
-function mddByBisection(n1: number, n2: number, baseline: number): number {
+/**
+ * Smallest d with power 0.8 for the pooled z-test: Φ((d − z·SE₀)/SE₁) = 0.8, SE₀ the pooled null
+ * error at p̄ = (n₁(p₀+d) + n₂p₀)/(n₁+n₂), SE₁ = √((p₀+d)(1−p₀−d)/n₁ + p₀(1−p₀)/n₂), by bisection
+ * (Fleiss, Levin & Paik 2003, §4.2, from memory).
+ */
+function mddByBisection(n1: number, n2: number, baseline: number, z: number): number {
   let low = 0;
   let high = 1 - baseline;
   for (let step = 0; step < 200; step += 1) {
     const d = (low + high) / 2;
+    const pooled = (n1 * (baseline + d) + n2 * baseline) / (n1 + n2);
+    const nullSe = Math.sqrt(pooled * (1 - pooled) * (1 / n1 + 1 / n2));
     const se = Math.sqrt(((baseline + d) * (1 - baseline - d)) / n1 + (baseline * (1 - baseline)) / n2);
-    if (normalCdf(d / se - Z, 0, 1) < 0.8) low = d;
+    if (normalCdf((d - z * nullSe) / se, 0, 1) < 0.8) low = d;
     else high = d;
   }
   return (low + high) / 2;
@@ -166,7 +172,8 @@ describe.each(TEST_DIALECTS)('every field of a small snapshot (%s)', (dialect) =
     const [low, high] = wilsonByFormula(24, 80);
     expect(snapshot.population.conversion_rate_ci_low).toBeCloseTo(low, 12);
     expect(snapshot.population.conversion_rate_ci_high).toBeCloseTo(high, 12);
-    expect(snapshot.row_counts).toEqual({ population: 80, cells: 4, segments: 8, tested: 8, too_small: 0, rate_tests: 8, value_tests: 8 });
+    // region and channel have two values each: South and web mirror North and store, so 6 of the 8 tested segments are in each family.
+    expect(snapshot.row_counts).toEqual({ population: 80, cells: 4, segments: 8, tested: 8, too_small: 0, rate_tests: 6, value_tests: 6 });
   });
 
   test('the segments are the four one-way values and the four cross cells', () => {
@@ -258,18 +265,49 @@ describe.each(TEST_DIALECTS)('every field of a small snapshot (%s)', (dialect) =
     expect(snapshot.segments.filter((segment) => segment.rate_test === 'fisher').map((segment) => segment.segment)).toEqual(['region=North & channel=store']);
   });
 
-  test('adjusted p-values are Benjamini-Hochberg over all eight tests, per metric', () => {
-    const rateRaw = snapshot.segments.map((segment) => segment.rate_p_value as number);
-    const valueRaw = snapshot.segments.map((segment) => segment.value_p_value as number);
+  test('a yes/no dimension is tested once: the second value mirrors the first, with the same p-values', () => {
+    const mirrors = Object.fromEntries(snapshot.segments.filter((segment) => segment.mirror_of !== null).map((segment) => [segment.segment, segment.mirror_of]));
+    expect(mirrors).toEqual({ 'region=South': 'region=North', 'channel=web': 'channel=store' });
+    for (const [mirror, twin] of Object.entries(mirrors)) {
+      const [a, b] = [mirror, twin].map((label) => snapshot.segments.find((segment) => segment.segment === label) as SnapshotSegment);
+      expect(a?.rate_p_value).toBeCloseTo(b?.rate_p_value as number, 14);
+      expect(a?.rate_p_adjusted).toBe(b?.rate_p_adjusted);
+      expect(a?.rate_diff).toBeCloseTo(-(b?.rate_diff as number), 14);
+      expect(a?.summary).toContain(`the same as that of ${twin} seen from the other side`);
+    }
+  });
+
+  test('adjusted p-values are Benjamini-Hochberg over the six distinct tests, per metric', () => {
+    const family = snapshot.segments.filter(isPublished).filter((segment) => segment.mirror_of === null);
+    const rateRaw = family.map((segment) => segment.rate_p_value as number);
+    const valueRaw = family.map((segment) => segment.value_p_value as number);
     const rateCore = adjustPValues(rateRaw, 'bh');
     const valueCore = adjustPValues(valueRaw, 'bh');
     const rateHere = benjaminiHochberg(rateRaw);
     const valueHere = benjaminiHochberg(valueRaw);
-    snapshot.segments.forEach((segment, index) => {
+    family.forEach((segment, index) => {
       expect(segment.rate_p_adjusted).toBe(rateCore[index]);
       expect(segment.value_p_adjusted).toBe(valueCore[index]);
       expect(segment.rate_p_adjusted).toBeCloseTo(rateHere[index] as number, 14);
       expect(segment.value_p_adjusted).toBeCloseTo(valueHere[index] as number, 14);
+    });
+  });
+
+  test('the equivalence p-value is the Agresti–Caffo TOST against ± 2 points, adjusted in its own family', () => {
+    const family = snapshot.segments.filter(isPublished).filter((segment) => segment.mirror_of === null);
+    const byFormula = family.map((segment) => {
+      // Agresti & Caffo (2000): add one success and one failure to each group.
+      const p1 = (segment.conversions + 1) / (segment.n + 2);
+      const p2 = (segment.rest.conversions + 1) / (segment.rest.n + 2);
+      const se = Math.sqrt((p1 * (1 - p1)) / (segment.n + 2) + (p2 * (1 - p2)) / (segment.rest.n + 2));
+      return Math.max(1 - normalCdf((p1 - p2 + 0.02) / se, 0, 1), normalCdf((p1 - p2 - 0.02) / se, 0, 1));
+    });
+    const adjusted = benjaminiHochberg(byFormula);
+    family.forEach((segment, index) => {
+      expect(segment.equivalence.conversion_rate).toMatchObject({ margin: 0.02, margin_source: 'default' });
+      expect(segment.equivalence.conversion_rate?.p_value).toBeCloseTo(byFormula[index] as number, 12);
+      expect(segment.equivalence.conversion_rate?.p_adjusted).toBeCloseTo(adjusted[index] as number, 12);
+      expect(segment.equivalence.value).toBeNull();
     });
   });
 
@@ -304,26 +342,27 @@ describe.each(TEST_DIALECTS)('every field of a small snapshot (%s)', (dialect) =
     }
   });
 
-  test('the minimum detectable difference is the rate rise (or fall) with 80% power against the rest', () => {
+  test('the minimum detectable difference is the rate rise (or fall) with 80% power of the pooled z-test against the rest at α/m, m = 6 tests', () => {
     for (const segment of snapshot.segments.filter(isPublished)) {
       const rest = segment.rest;
       const direction = (segment.rate_diff as number) >= 0 ? 'increase' : 'decrease';
-      const core = minimumDetectableRateDifference({ n1: segment.n, n2: rest.n, baselineRate: rest.conversion_rate as number, alpha: 0.05, power: 0.8, direction });
-      if (!core.ok) throw new Error(core.reason);
+      const core = minimumDetectableRateDifference({ n1: segment.n, n2: rest.n, baselineRate: rest.conversion_rate as number, alpha: 0.05 / 6, power: 0.8, direction, nullVariance: 'pooled-null' });
+      if (!core.ok) {
+        expect(segment.min_detectable_diff).toBeNull();
+        continue;
+      }
       expect(segment.min_detectable_diff).toBe(core.value);
       const baseline = direction === 'increase' ? (rest.conversion_rate as number) : 1 - (rest.conversion_rate as number);
-      expect(segment.min_detectable_diff).toBeCloseTo(mddByBisection(segment.n, rest.n, baseline), 10);
+      expect(segment.min_detectable_diff).toBeCloseTo(mddByBisection(segment.n, rest.n, baseline, normalQuantile(1 - 0.05 / 12, 0, 1)), 9);
     }
   });
 
   test('verdicts follow the documented rule and the ranking is by the lower Wilson bound', () => {
     for (const segment of snapshot.segments.filter(isPublished)) {
       const significant = (segment.rate_p_adjusted as number) < 0.05;
-      const mddUp = minimumDetectableRateDifference({ n1: segment.n, n2: segment.rest.n, baselineRate: segment.rest.conversion_rate as number, alpha: 0.05, power: 0.8, direction: 'increase' });
-      const mddDown = minimumDetectableRateDifference({ n1: segment.n, n2: segment.rest.n, baselineRate: segment.rest.conversion_rate as number, alpha: 0.05, power: 0.8, direction: 'decrease' });
       let expected: string;
       if (significant) expected = (segment.rate_diff as number) > 0 ? 'better' : 'worse';
-      else if (mddUp.ok && mddDown.ok && (segment.rate_diff_ci_low as number) > -mddDown.value && (segment.rate_diff_ci_high as number) < mddUp.value) expected = 'no_detectable_difference';
+      else if ((segment.equivalence.conversion_rate?.p_adjusted as number) < 0.05) expected = 'equivalent';
       else expected = 'inconclusive';
       expect(segment.verdict).toBe(expected);
     }

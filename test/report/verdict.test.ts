@@ -3,11 +3,10 @@ import { decideVerdict, type VerdictInput } from '../../src/report/analysis/inde
 
 const base: VerdictInput = {
   tested: true,
-  difference: { estimate: 0.05, low: 0.02, high: 0.08 },
+  difference: 0.05,
   adjustedPValue: 0.001,
+  adjustedEquivalencePValue: 0.9,
   alpha: 0.05,
-  mddIncrease: 0.03,
-  mddDecrease: 0.03,
 };
 
 describe('the verdict rule', () => {
@@ -20,30 +19,30 @@ describe('the verdict rule', () => {
   });
 
   test('significant after adjustment with a negative difference is worse', () => {
-    expect(decideVerdict({ ...base, difference: { estimate: -0.05, low: -0.08, high: -0.02 } })).toBe('worse');
+    expect(decideVerdict({ ...base, difference: -0.05 })).toBe('worse');
   });
 
   test('an adjusted p-value equal to alpha is not significant', () => {
-    expect(decideVerdict({ ...base, adjustedPValue: 0.05, difference: { estimate: 0.001, low: -0.01, high: 0.012 } })).toBe('no_detectable_difference');
+    expect(decideVerdict({ ...base, adjustedPValue: 0.05, difference: 0.001 })).toBe('inconclusive');
   });
 
-  test('not significant with an interval inside the detectable differences is no detectable difference', () => {
-    expect(decideVerdict({ ...base, adjustedPValue: 0.6, difference: { estimate: 0.001, low: -0.029, high: 0.029 } })).toBe('no_detectable_difference');
+  test('not significant, and the equivalence test within the margin significant after adjustment: equivalent', () => {
+    expect(decideVerdict({ ...base, adjustedPValue: 0.6, difference: 0.001, adjustedEquivalencePValue: 0.01 })).toBe('equivalent');
   });
 
-  test('not significant with an interval reaching the detectable difference upwards is inconclusive', () => {
-    expect(decideVerdict({ ...base, adjustedPValue: 0.3, difference: { estimate: 0.01, low: -0.01, high: 0.03 } })).toBe('inconclusive');
+  test('an adjusted equivalence p-value equal to alpha is not enough', () => {
+    expect(decideVerdict({ ...base, adjustedPValue: 0.6, difference: 0.001, adjustedEquivalencePValue: 0.05 })).toBe('inconclusive');
   });
 
-  test('not significant with an interval reaching the detectable difference downwards is inconclusive', () => {
-    expect(decideVerdict({ ...base, adjustedPValue: 0.3, mddDecrease: 0.02, difference: { estimate: -0.005, low: -0.021, high: 0.01 } })).toBe('inconclusive');
+  test('a real difference is reported as such even when it also lies within the margin', () => {
+    expect(decideVerdict({ ...base, difference: 0.004, adjustedEquivalencePValue: 0.001 })).toBe('better');
   });
 
-  test('a direction in which no difference is detectable leaves the result inconclusive', () => {
-    expect(decideVerdict({ ...base, adjustedPValue: 0.9, mddIncrease: null, difference: { estimate: 0, low: -0.001, high: 0.001 } })).toBe('inconclusive');
+  test('without an equivalence test (no margin for the metric) a non-significant result is inconclusive', () => {
+    expect(decideVerdict({ ...base, adjustedPValue: 0.9, difference: 0, adjustedEquivalencePValue: null })).toBe('inconclusive');
   });
 
-  test('a test that could not be computed is inconclusive', () => {
+  test('a test that could not be computed is inconclusive unless equivalence was shown', () => {
     expect(decideVerdict({ ...base, adjustedPValue: null })).toBe('inconclusive');
     expect(decideVerdict({ ...base, difference: null })).toBe('inconclusive');
   });

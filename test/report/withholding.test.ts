@@ -23,6 +23,8 @@ const DEFINITION: ReportDefinition = {
   value_basis: 'per_unit',
   rank_by: 'conversion_rate',
   rank_order: 'lower_bound',
+  equivalence_margin: 0.02,
+  value_equivalence_margin: null,
   refresh: 'manual',
 };
 

@@ -9,7 +9,7 @@ const definition = snapshot.definition;
 const words = vocabulary(definition);
 
 function summaryWith(tooSmall: number): string {
-  const counts: Record<Verdict, number> = { better: 1, worse: 1, no_detectable_difference: 1, inconclusive: 1, too_small: tooSmall };
+  const counts: Record<Verdict, number> = { better: 1, worse: 1, equivalent: 1, inconclusive: 1, too_small: tooSmall };
   return reportSummary({ definition, vocabulary: words, population: { n: 1000, conversion_rate: 0.1, value_mean: null }, counts, familySize: 4, top: null, reversals: 0 });
 }
 
@@ -23,7 +23,7 @@ describe('sentence grammar', () => {
     const segment = snapshot.segments[0];
     if (segment === undefined || segment.rest === null) throw new Error('the fixture has no published segment');
     const rest = segment.rest;
-    const context = { definition, vocabulary: words, familySizes: { conversion_rate: 1, value: 1 }, hasPreviousSnapshot: false };
+    const context = { definition, vocabulary: words, familySizes: { conversion_rate: 1, value: 1 }, hasPreviousSnapshot: false, comparedWith: null };
     const everyone = segmentSummary({ ...segment, verdict: 'too_small', n: 5000, rest: { ...rest, n: 0 } }, context);
     expect(everyone).toMatch(/covers everyone: no contacted customers are left outside it to compare with, so it was not tested\./);
     expect(everyone).not.toMatch(/the other 0/);

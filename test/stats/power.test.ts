@@ -172,3 +172,27 @@ describe('minimumDetectableRateDifference', () => {
     expect(() => minimumDetectableRateDifference({ n1: 10, n2: 10, baselineRate: 0.1, power: 0.01 })).toThrow(StatsInputError);
   });
 });
+
+describe('minimumDetectableRateDifference with the pooled null variance (the z-test a report runs)', () => {
+  // statsmodels 0.13.5 (Debian python3-statsmodels), the power of the pooled two-proportion z-test at the returned difference:
+  //   power_proportions_2indep(0.0653504657562592, 0.1, 400, ratio=9, alpha=0.0025).power → 0.8000000013165655
+  //   power_proportions_2indep(-0.05617318102014441, 0.1, 400, ratio=9, alpha=0.0025).power → 0.8000000000000029
+  // (statsmodels counts the opposite tail too, worth about 1e-9 here.)
+  it.each([
+    ['increase', 0.0653504657562592],
+    ['decrease', 0.05617318102014441],
+  ] as const)('%s: the difference at which statsmodels finds 80 %% power', (direction, expected) => {
+    const result = minimumDetectableRateDifference({ n1: 400, n2: 3600, baselineRate: 0.1, alpha: 0.0025, power: 0.8, direction, nullVariance: 'pooled-null' });
+    expect(result.value).toBeCloseTo(expected, 12);
+  });
+
+  it('a fall needs more than the unpooled formula says, because the pooled null error is larger than the segment’s own', () => {
+    const pooled = minimumDetectableRateDifference({ n1: 667, n2: 3333, baselineRate: 0.1, alpha: 0.05 / 34, power: 0.8, direction: 'decrease', nullVariance: 'pooled-null' });
+    const unpooled = minimumDetectableRateDifference({ n1: 667, n2: 3333, baselineRate: 0.1, alpha: 0.05 / 34, power: 0.8, direction: 'decrease' });
+    expect(pooled.value as number).toBeGreaterThan(unpooled.value as number);
+  });
+
+  it('no reachable difference gives a reason', () => {
+    expect(minimumDetectableRateDifference({ n1: 2, n2: 2, baselineRate: 0.5, alpha: 0.001, power: 0.99, nullVariance: 'pooled-null' }).ok).toBe(false);
+  });
+});

@@ -17,6 +17,8 @@ const definition: ReportDefinition = {
   age_bands: [18, 25, 35, 45, 55, 65],
   min_n: 30,
   confidence: 0.95,
+  equivalence_margin: 0.02,
+  value_equivalence_margin: null,
   adjustment: 'bh',
   value_basis: 'per_unit',
   rank_by: 'conversion_rate',
@@ -76,6 +78,12 @@ function segment(figures: SegmentFigures): SnapshotSegment {
     withheld_below: null,
     values: { [figures.dimension]: figures.value },
     tested,
+    mirror_of: null,
+    equivalence: {
+      conversion_rate: tested ? { margin: 0.02, margin_source: 'default', p_value: figures.verdict === 'equivalent' ? 0.004 : 0.4, p_adjusted: figures.verdict === 'equivalent' ? 0.012 : 0.6 } : null,
+      value: null,
+    },
+    strata: null,
     rest: { n: 1000 - figures.n, conversions: 100, conversion_rate: 0.1, value_n: 1000 - figures.n, value_mean: 5 },
     value_n: figures.n,
     rate_z: tested ? 2.1 : null,
@@ -94,7 +102,7 @@ function segment(figures: SegmentFigures): SnapshotSegment {
 export const TESTED: readonly SegmentFigures[] = [
   { rank: 1, dimension: 'channel', value: 'catalogue', n: 250, conversions: 60, difference: [0.12, 0.07, 0.17], verdict: 'better' },
   { rank: 2, dimension: 'region', value: HOSTILE_SCRIPT, n: 120, conversions: 18, difference: [0.03, -0.02, 0.09], verdict: 'inconclusive' },
-  { rank: 3, dimension: 'region', value: 'Northmoor', n: 400, conversions: 44, difference: [0.005, -0.02, 0.03], verdict: 'no_detectable_difference' },
+  { rank: 3, dimension: 'region', value: 'Northmoor', n: 400, conversions: 44, difference: [0.005, -0.02, 0.03], verdict: 'equivalent' },
   { rank: 4, dimension: 'region', value: HOSTILE_IMAGE, n: 200, conversions: 8, difference: [-0.07, -0.1, -0.035], verdict: 'worse' },
 ];
 
@@ -138,7 +146,7 @@ export function knownSnapshot(overrides: Partial<Snapshot> = {}): Snapshot {
     row_counts: { population: 1000, cells: 10, segments: 5, tested: 4, too_small: 1, rate_tests: 4, value_tests: 4 },
     summary: 'The population holds 1,000 contacted customers <with a summary that mentions a tag>.',
     cautions: ['Targeting by age may be restricted; check local law.', 'Birth dates are personal data.'],
-    verdict_counts: { better: 1, worse: 1, no_detectable_difference: 1, inconclusive: 1, too_small: 1 },
+    verdict_counts: { better: 1, worse: 1, equivalent: 1, inconclusive: 1, too_small: 1 },
     segments,
     dimensions: [
       {

@@ -70,7 +70,7 @@ describe('the interval chart of a small known snapshot', () => {
     const shapes = markGroup(figure.svg, 'estimates').map((mark) => mark.attributes['d']);
     expect(new Set(shapes).size).toBe(4);
     const words = markGroup(figure.svg, 'verdict_labels').sort((left, right) => left.y - right.y).map((text) => text.text);
-    expect(words).toEqual(['better than the rest', 'inconclusive', 'no detectable difference', 'worse than the rest']);
+    expect(words).toEqual(['better than the rest', 'inconclusive', 'equivalent to the rest (within the margin)', 'worse than the rest']);
     const counts = markGroup(figure.svg, 'counts').sort((left, right) => left.y - right.y).map((text) => text.text);
     expect(counts).toEqual(['250', '120', '400', '200']);
   });
@@ -87,7 +87,7 @@ describe('the interval chart of a small known snapshot', () => {
 
   test('the text alternative names the chart, the verdict counts and the first segment', () => {
     expect(figure.label).toMatch(/^Interval chart of the difference in conversion rate between each of 4 tested segments and the rest/);
-    expect(figure.label).toContain('1 better than the rest, 1 worse than the rest, 1 no detectable difference, 1 inconclusive');
+    expect(figure.label).toContain('1 better than the rest, 1 worse than the rest, 1 equivalent to the rest (within the margin), 1 inconclusive');
     expect(figure.label).toContain('First in rank: catalogue, +12.0 points (95% CI +7.0 points to +17.0 points)');
     expect(figure.data.rows).toHaveLength(4);
     expect(figure.data.rows[0]).toEqual(['1', 'catalogue', '250', '+12.0 points', '+7.0 points', '+17.0 points', '0.040', 'better than the rest']);

@@ -111,7 +111,7 @@ describe('the report page of a small known snapshot', () => {
     expect(rows).toEqual([
       ['1', 'better'],
       ['2', 'inconclusive'],
-      ['3', 'no_detectable_difference'],
+      ['3', 'equivalent'],
       ['4', 'worse'],
       ['', 'too_small'],
     ]);
@@ -213,7 +213,7 @@ describe('the top of the page: the decision', () => {
   test('the settings behind the figures are folded away, and the filter offers each verdict present with its count', () => {
     expect(page).toMatch(/<details class="method"><summary>The report in one paragraph, and how these figures were made[^<]*<\/summary>\n<p class="summary">[^<]+<\/p>\n<dl class="facts">/);
     const filter = /<fieldset class="verdict-filter no-print">[\s\S]*?<\/fieldset>/.exec(page)?.[0] ?? '';
-    expect([...filter.matchAll(/id="filter-([a-z_]+)"/g)].map((match) => match[1])).toEqual(['all', 'better', 'worse', 'inconclusive', 'no_detectable_difference', 'too_small']);
+    expect([...filter.matchAll(/id="filter-([a-z_]+)"/g)].map((match) => match[1])).toEqual(['all', 'better', 'worse', 'inconclusive', 'equivalent', 'too_small']);
     expect(filter).toContain('<input type="radio" name="verdict-filter" id="filter-all" value="all" checked> all segments (5)');
   });
 });

@@ -6,6 +6,8 @@ export { comparisonBasis, recordChanges, type PreviousWindow } from './change.js
 export { valueOrNull } from './outcome.js';
 export { rankSegments } from './ranking.js';
 export { findReversals } from './reversals.js';
-export { segmentRow } from './segment-row.js';
+export { campaignStrata, mirroredSegments } from './families.js';
+export { segmentLabel, segmentRow } from './segment-row.js';
 export { analyzeSegment, valueSummary } from './segment-tests.js';
 export { decideVerdict, segmentVerdict, type VerdictInput } from './verdict.js';
+export type { AnalysisSettings } from './segment-tests.js';

@@ -3,7 +3,7 @@
  * p-values are adjusted, the verdict decided and the rank given later, over all segments.
  */
 import type { Group, GroupStats } from '../../segments/index.js';
-import type { ReportDefinition } from '../definition/index.js';
+import { DEFAULT_EQUIVALENCE_MARGIN, type ReportDefinition } from '../definition/index.js';
 import type { PublishedSegment } from '../shapes/index.js';
 import { valueOrNull } from './outcome.js';
 import { statisticNotes, type SegmentStatistics } from './segment-tests.js';
@@ -65,6 +65,22 @@ export function segmentRow(group: Group, rest: GroupStats, statistics: SegmentSt
     withheld_below: null,
     values,
     tested: statistics.tested,
+    mirror_of: null,
+    equivalence: {
+      conversion_rate: statistics.tested
+        ? {
+            margin: definition.equivalence_margin,
+            margin_source: definition.equivalence_margin === DEFAULT_EQUIVALENCE_MARGIN ? 'default' : 'definition',
+            p_value: valueOrNull(statistics.rateEquivalence)?.pValue ?? null,
+            p_adjusted: null,
+          }
+        : null,
+      value:
+        statistics.tested && statistics.valueEquivalence !== null && definition.value_equivalence_margin !== null
+          ? { margin: definition.value_equivalence_margin, margin_source: 'definition', p_value: valueOrNull(statistics.valueEquivalence)?.pValue ?? null, p_adjusted: null }
+          : null,
+    },
+    strata: statistics.strata,
     rest: {
       n: rest.n,
       conversions: rest.conversions,

@@ -4,7 +4,11 @@
  * method applies (z-test or Fisher's exact test) and what "the rest" is.
  */
 import {
+  cochranMantelHaenszelTest,
   cohensH,
+  mantelHaenszelRiskDifference,
+  meanEquivalenceTest,
+  rateEquivalenceTest,
   fisherExactTest,
   hedgesG,
   katzRatioInterval,
@@ -17,7 +21,9 @@ import {
   twoProportionZTest,
   welchTTest,
   wilsonInterval,
+  type EquivalenceTestResult,
   type EstimateWithInterval,
+  type RateStratum,
   type MeanInterval,
   type Outcome,
   type Summary,
@@ -36,7 +42,7 @@ const PLANNING_POWER = 0.8;
 const MIN_EXPECTED_CELL_COUNT = 5;
 
 export interface RateTest {
-  kind: 'z' | 'fisher';
+  kind: 'z' | 'fisher' | 'cmh';
   pValue: number;
   /** the z statistic (z-test only) */
   z: number | null;
@@ -57,10 +63,30 @@ export interface SegmentStatistics {
   valueMean: Outcome<MeanInterval>;
   valueComparison: Outcome<TwoSampleTTestResult>;
   hedgesG: Outcome<number>;
-  /** minimum detectable rate difference upwards and downwards at 80 % power */
+  /** minimum detectable rate difference upwards and downwards at 80 % power, at the per-test level */
   rateMdd: { increase: Outcome<number>; decrease: Outcome<number> };
-  /** minimum detectable difference of the value mean (either direction) at 80 % power */
+  /** minimum detectable difference of the value mean (either direction) at 80 % power, at the per-test level */
   valueMdd: Outcome<number>;
+  /** two one-sided tests of the rate difference against ± the equivalence margin */
+  rateEquivalence: Outcome<EquivalenceTestResult>;
+  /** the same for the value; null when the report sets no value margin */
+  valueEquivalence: Outcome<EquivalenceTestResult> | null;
+  /** campaigns the rate comparison was made within, or null for one sample */
+  strata: number | null;
+}
+
+/** What the comparison of one segment needs to know about the report. */
+export interface AnalysisSettings {
+  confidence: number;
+  minN: number;
+  valueBasis: ValueBasis;
+  /**
+   * The per-test level of the minimum detectable difference: α/m when the report adjusts
+   * over m tests (bh or holm), α when it does not, so its 80 % power holds after adjustment.
+   */
+  detectionAlpha: number;
+  equivalenceMargin: number;
+  valueEquivalenceMargin: number | null;
 }
 
 const notTested = (what: string) => notComputable(`${what} is not computed: the segment was not tested.`);
@@ -78,7 +104,7 @@ export function valueSummary(stats: GroupStats, basis: ValueBasis): Summary {
  * @example
  * rateTest(3, 10, 40, 400); // Fisher: the expected conversions in the segment are 10·43/410 ≈ 1.05
  */
-function rateTest(x1: number, n1: number, x2: number, n2: number): Outcome<RateTest> {
+export function rateTest(x1: number, n1: number, x2: number, n2: number): Outcome<RateTest> {
   const total = n1 + n2;
   const successes = x1 + x2;
   if (n1 === 0 || n2 === 0) return notComputable('The rate test is undefined: one of the two groups is empty.');
@@ -120,13 +146,8 @@ function minimumDetectableMeanDifference(a: Summary, b: Summary, alpha: number, 
  * @example
  * analyzeSegment(segmentStats, restStats, { confidence: 0.95, minN: 30, valueBasis: 'per_unit' });
  */
-export function analyzeSegment(
-  segment: GroupStats,
-  rest: GroupStats,
-  settings: { confidence: number; minN: number; valueBasis: ValueBasis },
-): SegmentStatistics {
-  const { confidence, minN, valueBasis } = settings;
-  const alpha = 1 - confidence;
+export function analyzeSegment(segment: GroupStats, rest: GroupStats, settings: AnalysisSettings, campaignStrata: readonly RateStratum[] | null = null): SegmentStatistics {
+  const { confidence, minN, valueBasis, detectionAlpha: alpha } = settings;
   const untestedReason = segment.n < minN ? 'segment_too_small' : rest.n < minN ? 'rest_too_small' : null;
   const tested = untestedReason === null;
   const segmentValue = valueSummary(segment, valueBasis);
@@ -136,10 +157,10 @@ export function analyzeSegment(
   const bothPresent = segment.n > 0 && rest.n > 0;
   const rateMdd = {
     increase: bothPresent
-      ? minimumDetectableRateDifference({ n1: segment.n, n2: rest.n, baselineRate: restRate as number, alpha, power: PLANNING_POWER, direction: 'increase' })
+      ? minimumDetectableRateDifference({ n1: segment.n, n2: rest.n, baselineRate: restRate as number, alpha, power: PLANNING_POWER, direction: 'increase', nullVariance: 'pooled-null' })
       : notComputable('The minimum detectable difference is undefined: the segment or the rest is empty.'),
     decrease: bothPresent
-      ? minimumDetectableRateDifference({ n1: segment.n, n2: rest.n, baselineRate: restRate as number, alpha, power: PLANNING_POWER, direction: 'decrease' })
+      ? minimumDetectableRateDifference({ n1: segment.n, n2: rest.n, baselineRate: restRate as number, alpha, power: PLANNING_POWER, direction: 'decrease', nullVariance: 'pooled-null' })
       : notComputable('The minimum detectable difference is undefined: the segment or the rest is empty.'),
   };
 
@@ -163,17 +184,25 @@ export function analyzeSegment(
       hedgesG: notTested("Hedges' g"),
       rateMdd,
       valueMdd,
+      rateEquivalence: notTested('The equivalence test'),
+      valueEquivalence: settings.valueEquivalenceMargin === null ? null : notTested('The equivalence test'),
+      strata: null,
     };
   }
+  const stratified = campaignStrata !== null && campaignStrata.length > 1;
   const segmentRate = segment.conversions / segment.n;
   return {
     tested,
     untestedReason,
     rate,
     restRate,
-    difference: newcombeDifferenceInterval(segment.conversions, segment.n, rest.conversions, rest.n, confidence),
-    lift: katzRatioInterval(segment.conversions, segment.n, rest.conversions, rest.n, confidence),
-    rateTest: rateTest(segment.conversions, segment.n, rest.conversions, rest.n),
+    difference: stratified
+      ? mantelHaenszelRiskDifference(campaignStrata, confidence)
+      : newcombeDifferenceInterval(segment.conversions, segment.n, rest.conversions, rest.n, confidence),
+    lift: stratified
+      ? notComputable('The lift is not given for a report over several campaigns: a ratio of pooled rates would mix the campaigns; the difference is compared within campaign.')
+      : katzRatioInterval(segment.conversions, segment.n, rest.conversions, rest.n, confidence),
+    rateTest: stratified ? stratifiedRateTest(campaignStrata) : rateTest(segment.conversions, segment.n, rest.conversions, rest.n),
     cohensH: cohensH(segmentRate, restRate as number),
     segmentValue,
     restValue,
@@ -182,7 +211,16 @@ export function analyzeSegment(
     hedgesG: hedgesG(segmentValue, restValue),
     rateMdd,
     valueMdd,
+    rateEquivalence: rateEquivalenceTest(segment.conversions, segment.n, rest.conversions, rest.n, settings.equivalenceMargin),
+    valueEquivalence: settings.valueEquivalenceMargin === null ? null : meanEquivalenceTest(segmentValue, restValue, settings.valueEquivalenceMargin),
+    strata: stratified ? campaignStrata.length : null,
   };
+}
+
+/** The Cochran–Mantel–Haenszel test within campaigns, as a rate test. */
+function stratifiedRateTest(strata: readonly RateStratum[]): Outcome<RateTest> {
+  const test = cochranMantelHaenszelTest(strata);
+  return test.ok ? computed({ kind: 'cmh', pValue: test.value.pValue, z: test.value.z }) : test;
 }
 
 /**
@@ -196,7 +234,8 @@ export function statisticNotes(statistics: SegmentStatistics): string[] {
     statistics.rate,
     ...(compared ? [statistics.difference, statistics.lift, statistics.rateTest] : []),
     statistics.valueMean,
-    ...(compared ? [statistics.valueComparison, statistics.hedgesG] : []),
+    ...(compared ? [statistics.valueComparison, statistics.hedgesG, statistics.rateEquivalence] : []),
+    ...(compared && statistics.valueEquivalence !== null ? [statistics.valueEquivalence] : []),
     statistics.rateMdd.increase,
     statistics.rateMdd.decrease,
     statistics.valueMdd,

@@ -32,6 +32,18 @@ const MIN_N = { minimum: 2, maximum: 1_000_000, default: 30, description: 'segme
 const CONFIDENCE = { minimum: 0.5, maximum: 0.9999, default: 0.95, description: 'confidence level of the intervals, from 0.5 to 0.9999' } as const;
 /** Six dimensions make at most 15 pairs; a longer list can only repeat or misname them. */
 const CROSSES = { maxItems: 15, description: 'pairs of the dimensions for two-way segments; every pair when left out, [] for none' } as const;
+// Two points of conversion rate: a difference most campaign plans would not act on (common
+// practice, no source); the analyst sets the margin that matters to the business.
+const EQUIVALENCE_MARGIN = {
+  exclusiveMinimum: 0,
+  maximum: 1,
+  default: 0.02,
+  description: 'a difference of conversion rates (a fraction) small enough to treat a segment like the rest; `equivalent` is claimed only when the data show the difference lies within ± this margin',
+} as const;
+const VALUE_EQUIVALENCE_MARGIN = {
+  exclusiveMinimum: 0,
+  description: 'a difference of the value metric (major currency units) small enough to treat a segment like the rest; null (the default): no equivalence claims on value',
+} as const;
 const CHOICES = {
   adjustment: { enum: ['bh', 'holm', 'none'], default: 'bh', description: 'multiplicity adjustment of the p-values' },
   value_basis: { enum: ['per_unit', 'per_conversion'], default: 'per_unit' },
@@ -76,6 +88,8 @@ export const ReportDefinitionBody = Type.Object(
     age_bands: Type.Optional(Type.Array(Type.Integer({ minimum: MIN_PLAUSIBLE_AGE, maximum: MAX_PLAUSIBLE_AGE }), AGE_BANDS)),
     min_n: Type.Optional(Type.Integer(MIN_N)),
     confidence: Type.Optional(Type.Number(CONFIDENCE)),
+    equivalence_margin: Type.Optional(Type.Number(EQUIVALENCE_MARGIN)),
+    value_equivalence_margin: Type.Optional(Type.Union([Type.Number({ exclusiveMinimum: VALUE_EQUIVALENCE_MARGIN.exclusiveMinimum }), Type.Null()], { description: VALUE_EQUIVALENCE_MARGIN.description })),
     adjustment: Type.Optional(choice(CHOICES.adjustment)),
     value_basis: Type.Optional(choice(CHOICES.value_basis)),
     rank_by: Type.Optional(choice(CHOICES.rank_by)),
@@ -171,6 +185,12 @@ const REASONS: Record<string, { reason: (value: unknown, keyword: string) => str
   '/confidence': {
     reason: (value) =>
       `must be a number from ${CONFIDENCE.minimum} to ${CONFIDENCE.maximum}, such as ${CONFIDENCE.default}, ${got(value)}`,
+  },
+  '/equivalence_margin': {
+    reason: (value) => `must be a number greater than ${EQUIVALENCE_MARGIN.exclusiveMinimum} and at most ${EQUIVALENCE_MARGIN.maximum} (a difference of conversion rates as a fraction, such as ${EQUIVALENCE_MARGIN.default}), ${got(value)}`,
+  },
+  '/value_equivalence_margin': {
+    reason: (value) => `must be a positive amount of money in major units, or null for no equivalence claims on value, ${got(value)}`,
   },
   ...Object.fromEntries(
     (Object.keys(CHOICES) as Array<keyof typeof CHOICES>).map((name) => [
@@ -275,12 +295,25 @@ export async function normalizeDefinition(body: unknown, lookup: DefinitionLooku
     age_bands: ageBands,
     min_n: (body['min_n'] as number | undefined) ?? MIN_N.default,
     confidence: (body['confidence'] as number | undefined) ?? CONFIDENCE.default,
+    equivalence_margin: (body['equivalence_margin'] as number | undefined) ?? EQUIVALENCE_MARGIN.default,
+    value_equivalence_margin: (body['value_equivalence_margin'] as number | null | undefined) ?? null,
     adjustment: (body['adjustment'] as Adjustment | undefined) ?? CHOICES.adjustment.default,
     value_basis: (body['value_basis'] as ValueBasis | undefined) ?? CHOICES.value_basis.default,
     rank_by: (body['rank_by'] as RankBy | undefined) ?? CHOICES.rank_by.default,
     rank_order: (body['rank_order'] as RankOrder | undefined) ?? CHOICES.rank_order.default,
     refresh: (body['refresh'] as RefreshMode | undefined) ?? CHOICES.refresh.default,
   };
+}
+
+/** The default equivalence margin, so the wording can say whether a report uses it or its own. */
+export const DEFAULT_EQUIVALENCE_MARGIN = EQUIVALENCE_MARGIN.default;
+
+/**
+ * A definition as stored, with the defaults of fields added since it was stored (the
+ * equivalence margins), so every reader sees the current shape.
+ */
+export function withCurrentDefaults(stored: Omit<ReportDefinition, 'equivalence_margin' | 'value_equivalence_margin'> & Partial<ReportDefinition>): ReportDefinition {
+  return { ...stored, equivalence_margin: stored.equivalence_margin ?? EQUIVALENCE_MARGIN.default, value_equivalence_margin: stored.value_equivalence_margin ?? null };
 }
 
 type Report = (path: string, reason: string) => void;

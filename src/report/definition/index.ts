@@ -5,6 +5,8 @@ export {
   ReportDefinitionBody,
   ReportSource,
   normalizeDefinition,
+  withCurrentDefaults,
+  DEFAULT_EQUIVALENCE_MARGIN,
   type Adjustment,
   type DefinitionIssue,
   type DefinitionLookup,

@@ -8,6 +8,7 @@ export {
   Disclosure,
   DimensionProfile,
   DimensionValueProfile,
+  type EquivalenceTest,
   HistogramFigure,
   PopulationFigures,
   Reversal,

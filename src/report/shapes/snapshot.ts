@@ -12,7 +12,7 @@ const nullable = <T extends TSchema>(schema: T, options: { description?: string 
 const NullableNumber = (description?: string) => nullable(Type.Number(), description === undefined ? {} : { description });
 const strings = () => Type.Array(Type.String());
 
-export const VERDICTS = ['better', 'worse', 'no_detectable_difference', 'inconclusive', 'too_small'] as const;
+export const VERDICTS = ['better', 'worse', 'equivalent', 'inconclusive', 'too_small'] as const;
 export const Verdict = Type.Unsafe<(typeof VERDICTS)[number]>({ type: 'string', enum: [...VERDICTS] });
 export type Verdict = Static<typeof Verdict>;
 
@@ -33,7 +33,11 @@ export const SegmentRow = Type.Object({
   lift: NullableNumber('segment rate / rest rate (Katz log interval)'),
   lift_ci_low: NullableNumber(),
   lift_ci_high: NullableNumber(),
-  rate_test: Type.Unsafe<'z' | 'fisher' | null>({ type: ['string', 'null'], enum: ['z', 'fisher', null] }),
+  rate_test: Type.Unsafe<'z' | 'fisher' | 'cmh' | null>({
+    type: ['string', 'null'],
+    enum: ['z', 'fisher', 'cmh', null],
+    description: 'z: pooled two-proportion z-test; fisher: Fisher exact test; cmh: Cochran–Mantel–Haenszel test within campaign (reports over several campaigns)',
+  }),
   rate_p_value: NullableNumber(),
   rate_p_adjusted: NullableNumber(),
   value_mean: NullableNumber('major currency units, per the report value_basis'),
@@ -44,7 +48,9 @@ export const SegmentRow = Type.Object({
   value_diff_ci_high: NullableNumber(),
   value_p_value: NullableNumber(),
   value_p_adjusted: NullableNumber(),
-  min_detectable_diff: NullableNumber('at 80% power, in the unit of the ranking metric: a rate difference (fraction) or money (major units)'),
+  min_detectable_diff: NullableNumber(
+    'at 80% power at the per-test level the adjustment implies (α/m for bh and holm, α for none), in the direction of the observed difference, in the unit of the ranking metric: a rate difference (fraction) or money (major units)',
+  ),
   verdict: Verdict,
   summary: Type.String(),
   withheld_below: nullable(Type.Integer(), {
@@ -67,27 +73,57 @@ const RestFigures = Type.Object({
 });
 export type RestFigures = Static<typeof RestFigures>;
 
-/** Change of a segment since the previous window (sales reports) or snapshot (campaign reports). */
+/**
+ * Change of a segment: campaign reports compare the contacts stored since the previous
+ * snapshot (new_*) with those it had (previous_*); sales reports compare this window (new_*)
+ * with the window of the same length before it (previous_*). The groups are disjoint, so the
+ * two-sample intervals and tests apply; p-values are adjusted over the family of changes.
+ */
 export const SegmentChange = Type.Object({
   compared_with: Type.Unsafe<'previous_window' | 'previous_snapshot'>({ type: 'string', enum: ['previous_window', 'previous_snapshot'] }),
   previous_n: Type.Integer(),
   previous_conversions: Type.Integer(),
   previous_conversion_rate: NullableNumber(),
-  rate_change: NullableNumber(),
+  new_n: Type.Integer({ description: 'units since the previous snapshot (campaign reports) or in this window (sales reports, customers known at its start)' }),
+  new_conversions: Type.Integer(),
+  new_conversion_rate: NullableNumber(),
+  rate_change: NullableNumber('new rate − previous rate (Newcombe hybrid score interval)'),
   rate_change_ci_low: NullableNumber(),
   rate_change_ci_high: NullableNumber(),
+  rate_change_p_value: NullableNumber('pooled two-proportion z-test, or Fisher exact test for small expected counts'),
+  rate_change_p_adjusted: NullableNumber('adjusted over the changes of all segments'),
   previous_value_mean: NullableNumber(),
-  value_change: NullableNumber(),
+  new_value_mean: NullableNumber(),
+  value_change: NullableNumber('new mean − previous mean (Welch)'),
   value_change_ci_low: NullableNumber(),
   value_change_ci_high: NullableNumber(),
+  value_change_p_value: NullableNumber(),
+  value_change_p_adjusted: NullableNumber(),
 });
 export type SegmentChange = Static<typeof SegmentChange>;
+
+/** One equivalence test (two one-sided tests against ± the margin) of one metric. */
+const EquivalenceTest = Type.Object({
+  margin: Type.Number({ description: 'rates: a fraction; value: major currency units' }),
+  margin_source: Type.Unsafe<'default' | 'definition'>({ type: 'string', enum: ['default', 'definition'], description: "default: the product's default margin; definition: set in the report definition" }),
+  p_value: NullableNumber('TOST p-value: the larger of the two one-sided p-values (Agresti–Caffo for rates, Welch for values)'),
+  p_adjusted: NullableNumber('adjusted over the equivalence tests of this metric, with the report adjustment'),
+});
+export type EquivalenceTest = Static<typeof EquivalenceTest>;
 
 /** A segment as the full snapshot holds it: the flat row, then its detail. */
 export const SnapshotSegment = Type.Object({
   ...SegmentRow.properties,
   values: Type.Record(Type.String(), Type.String()),
   tested: Type.Boolean(),
+  mirror_of: nullable(Type.String(), {
+    description: 'for the second value of a yes/no dimension (two values, no unknowns): the segment whose comparison this one mirrors; its tests are counted once, under that segment',
+  }),
+  equivalence: Type.Object(
+    { conversion_rate: nullable(EquivalenceTest), value: nullable(EquivalenceTest, { description: 'null when value_equivalence_margin is null or the test cannot be computed' }) },
+    { description: 'whether the difference from the rest lies within ± the margin; the verdict uses the ranking metric' },
+  ),
+  strata: nullable(Type.Integer(), { description: 'campaigns the rate comparison was made within (reports over several campaigns); null: one sample' }),
   rest: nullable(RestFigures, { description: 'null when the segment is withheld' }),
   value_n: nullable(Type.Integer(), { description: 'units behind value_mean: every unit (per_unit) or the converted ones (per_conversion); null when withheld' }),
   rate_z: NullableNumber(),

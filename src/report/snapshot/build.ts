@@ -12,11 +12,14 @@ import {
   findReversals,
   rankSegments,
   recordChanges,
+  campaignStrata,
+  mirroredSegments,
+  segmentLabel,
   segmentRow,
   segmentVerdict,
   valueSummary,
 } from '../analysis/index.js';
-import { VERDICTS, type Comparison, type Reversal, type Snapshot, type Verdict } from '../shapes/index.js';
+import { VERDICTS, type Comparison, type Reversal, type Snapshot, type SnapshotSegment, type Verdict } from '../shapes/index.js';
 import { comparisonNote, reportSummary, reversalSentence, segmentSummary, snapshotCautions, vocabulary, type SentenceContext } from '../wording/index.js';
 import { fingerprintOf } from './fingerprint.js';
 import type { SnapshotInput } from './input.js';
@@ -40,21 +43,56 @@ export function buildSnapshot(input: SnapshotInput): Snapshot {
   const threshold = input.publicationThreshold ?? DEFAULT_PUBLICATION_THRESHOLD;
   // A segment below the publication threshold is withheld, so it is not tested either: the
   // adjustment's family then holds only segments whose figures can be shown.
-  const settings = { confidence: definition.confidence, minN: Math.max(definition.min_n, threshold), valueBasis: basis };
+  const minN = Math.max(definition.min_n, threshold);
+  const mirrors = mirroredSegments(groups);
+  const isTested = (stats: GroupStats) => stats.n >= minN && total.n - stats.n >= minN;
+  const plannedTests = groups.filter((group) => isTested(group.stats) && !mirrors.has(segmentLabel(group.dimensions, group.labels))).length;
+  const alpha = 1 - definition.confidence;
+  const settings = {
+    confidence: definition.confidence,
+    minN,
+    valueBasis: basis,
+    detectionAlpha: definition.adjustment === 'none' ? alpha : alpha / Math.max(1, plannedTests),
+    equivalenceMargin: definition.equivalence_margin,
+    valueEquivalenceMargin: definition.value_equivalence_margin,
+  };
+  const strataOf = campaignStrata(input.strata ?? [], definition.dimensions);
 
   const analysed = groups.map((group) => {
     const rest = subtractGroup(total, group.stats);
-    const statistics = analyzeSegment(group.stats, rest, settings);
-    return { group, statistics, segment: segmentRow(group, rest, statistics, total, definition) };
+    const statistics = analyzeSegment(group.stats, rest, settings, strataOf(group));
+    const segment = segmentRow(group, rest, statistics, total, definition);
+    segment.mirror_of = mirrors.get(segment.segment) ?? null;
+    return { group, statistics, segment };
   });
 
-  const rateAdjusted = adjustPValues(analysed.map(({ segment }) => (segment.tested ? segment.rate_p_value : null)), definition.adjustment);
-  const valueAdjusted = adjustPValues(analysed.map(({ segment }) => (segment.tested ? segment.value_p_value : null)), definition.adjustment);
-  analysed.forEach(({ segment, statistics }, index) => {
+  // A mirror repeats its twin's comparison: it is left out of every family and takes the twin's adjusted values.
+  const family = analysed.map(({ segment }) => segment.tested && segment.mirror_of === null);
+  const adjusted = (pick: (segment: SnapshotSegment) => number | null) =>
+    adjustPValues(
+      analysed.map(({ segment }, index) => (family[index] ? pick(segment) : null)),
+      definition.adjustment,
+    );
+  const rateAdjusted = adjusted((segment) => segment.rate_p_value);
+  const valueAdjusted = adjusted((segment) => segment.value_p_value);
+  const rateEquivalenceAdjusted = adjusted((segment) => segment.equivalence.conversion_rate?.p_value ?? null);
+  const valueEquivalenceAdjusted = adjusted((segment) => segment.equivalence.value?.p_value ?? null);
+  analysed.forEach(({ segment }, index) => {
     segment.rate_p_adjusted = rateAdjusted[index] ?? null;
     segment.value_p_adjusted = valueAdjusted[index] ?? null;
-    segment.verdict = segmentVerdict(segment, statistics, definition);
+    if (segment.equivalence.conversion_rate) segment.equivalence.conversion_rate.p_adjusted = rateEquivalenceAdjusted[index] ?? null;
+    if (segment.equivalence.value) segment.equivalence.value.p_adjusted = valueEquivalenceAdjusted[index] ?? null;
   });
+  const byLabel = new Map(analysed.map(({ segment }) => [segment.segment, segment]));
+  for (const { segment } of analysed) {
+    const twin = segment.mirror_of === null ? undefined : byLabel.get(segment.mirror_of);
+    if (!twin || !segment.tested) continue;
+    segment.rate_p_adjusted = twin.rate_p_adjusted;
+    segment.value_p_adjusted = twin.value_p_adjusted;
+    if (segment.equivalence.conversion_rate) segment.equivalence.conversion_rate.p_adjusted = twin.equivalence.conversion_rate?.p_adjusted ?? null;
+    if (segment.equivalence.value) segment.equivalence.value.p_adjusted = twin.equivalence.value?.p_adjusted ?? null;
+  }
+  for (const { segment } of analysed) segment.verdict = segmentVerdict(segment, definition);
   const rateTests = rateAdjusted.filter((value) => value !== null).length;
   const valueTests = valueAdjusted.filter((value) => value !== null).length;
 
@@ -75,6 +113,7 @@ export function buildSnapshot(input: SnapshotInput): Snapshot {
     vocabulary: words,
     familySizes: { conversion_rate: rateTests, value: valueTests },
     hasPreviousSnapshot: previous !== null,
+    comparedWith: comparedWith.compared_with,
   };
   for (const segment of segments) segment.summary = segmentSummary(segment, context);
 

@@ -14,7 +14,8 @@ function cellText(cell: unknown): string {
 
 /**
  * A SHA-256 over everything the snapshot was computed from: the definition, the shifts and
- * every cell aggregate and grouped count (sorted), and the previous window's cells. Equal data
+ * every cell aggregate and grouped count (sorted), the previous window's cells (and this
+ * window's over the customers known at its start), and the campaign strata. Equal data
  * give an equal fingerprint on either database engine.
  */
 export function fingerprintOf(input: SnapshotInput): string {
@@ -33,6 +34,11 @@ export function fingerprintOf(input: SnapshotInput): string {
   if (input.previousWindow) {
     hash.update(JSON.stringify({ from: input.previousWindow.from, to: input.previousWindow.to, shifts: input.previousWindow.shifts }));
     for (const cell of input.previousWindow.cells) hash.update(cellText(cell));
+    if (input.previousWindow.current) {
+      hash.update(JSON.stringify({ currentShifts: input.previousWindow.current.shifts }));
+      for (const cell of input.previousWindow.current.cells) hash.update(cellText(cell));
+    }
   }
+  for (const stratum of input.strata ?? []) hash.update(JSON.stringify(stratum));
   return hash.digest('hex');
 }

@@ -3,6 +3,7 @@ import type {
   AgeCount,
   AgeValueBinCount,
   AgeValueGridAxes,
+  CampaignCellCount,
   CellAggregate,
   PopulationValueCount,
   Shifts,
@@ -38,6 +39,8 @@ export interface SnapshotInput {
   /** Counts of the age × value grid (`gridCountsOf`) with the axes they were binned on; null or absent: no grid. */
   ageValueGrid?: { axes: AgeValueGridAxes; counts: AgeValueBinCount[] } | null;
   quality: SourceQuality;
+  /** reports over several campaigns: units and conversions per cell and campaign; absent or empty: one sample */
+  strata?: CampaignCellCount[];
   /** sales reports: the window of the same length just before this one */
   previousWindow: PreviousWindow | null;
   previousSnapshot: Snapshot | null;

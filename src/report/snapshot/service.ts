@@ -22,7 +22,8 @@ import {
 } from '../../segments/index.js';
 import type { PreviousWindow } from '../analysis/index.js';
 import { buildSnapshot } from './build.js';
-import { InvalidDefinitionError, normalizeDefinition, type ReportDefinition } from '../definition/index.js';
+import { InvalidDefinitionError, normalizeDefinition, withCurrentDefaults, type ReportDefinition } from '../definition/index.js';
+import { readStoredSnapshot } from './stored.js';
 import { ageGridAxis, ageValueGridAxes, isExpandable } from './profiles.js';
 import { storedTextIsWithheldAt, withholdSnapshot } from './withholding.js';
 import * as repository from '../store/index.js';
@@ -55,7 +56,8 @@ export function reportDependencies(database: DatabaseHandle, logger: Logger, now
  */
 function publishedText(body: string, threshold: number): string {
   if (storedTextIsWithheldAt(body, threshold)) return body;
-  return JSON.stringify(withholdSnapshot(JSON.parse(body) as Snapshot, threshold));
+  // Read in the current shape first: a snapshot stored before withholding may predate other fields too.
+  return JSON.stringify(withholdSnapshot(readStoredSnapshot(body), threshold));
 }
 
 /** A saved report as the API returns it: its definition, id, creation time and latest snapshot. */
@@ -80,7 +82,7 @@ export class SnapshotNotFoundError extends Error {
 }
 
 function parseDefinition(row: ReportsTable): ReportDefinition {
-  return JSON.parse(row.definition) as ReportDefinition;
+  return withCurrentDefaults(JSON.parse(row.definition) as ReportDefinition);
 }
 
 async function toResource(db: Kysely<Database>, row: ReportsTable): Promise<ReportResource> {
@@ -261,7 +263,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   let transaction = deps.readDb.transaction();
   if (deps.dialect === 'postgres') transaction = transaction.setIsolationLevel('repeatable read');
   const data = await transaction.execute(async (trx) => {
-    const { shifts, cells, ageCounts, unconvertedByAge, arithmetic } = await shiftsAndCellAggregates(trx, request);
+    const { shifts, cells, ageCounts, unconvertedByAge, arithmetic, strata } = await shiftsAndCellAggregates(trx, request);
     // The data may have grown since the definition was saved: checked on the cells, before any
     // segment is built, so a dimension of thousands of labels costs one query, not a snapshot.
     const over = dimensionsOverLimit(definition.dimensions, distinctLabels(cells, definition.dimensions.length), deps.maxLabelsPerDimension);
@@ -276,16 +278,18 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
     let previousWindow: PreviousWindow | null = null;
     if (source.kind === 'sales') {
       const window = precedingWindow(source.from, source.to);
-      const previousSource: PopulationSource = { kind: 'sales', from: window.from, to: window.to };
+      // Each window over the customers known at its start: later arrivals were not customers who failed to buy then.
+      const previousSource: PopulationSource = { kind: 'sales', from: window.from, to: window.to, knownAt: window.from };
       const previous = await shiftsAndCellAggregates(trx, { ...request, source: previousSource });
-      previousWindow = { ...window, cells: previous.cells, shifts: previous.shifts };
+      const current = await shiftsAndCellAggregates(trx, { ...request, source: { ...source, knownAt: source.from } });
+      previousWindow = { ...window, cells: previous.cells, shifts: previous.shifts, current: { cells: current.cells, shifts: current.shifts } };
     }
-    return { shifts, cells, arithmetic, ageCounts, valueCounts, populationValueCounts: wholeValueCounts, ageValueGrid, quality, previousWindow };
+    return { shifts, cells, arithmetic, ageCounts, valueCounts, populationValueCounts: wholeValueCounts, ageValueGrid, quality, previousWindow, strata };
   });
   const queriesDone = performance.now();
 
   const previousBody = await repository.findSnapshotBody(deps.readDb, reportId, 'latest');
-  const previousSnapshot = previousBody === undefined ? null : (JSON.parse(publishedText(previousBody, deps.publicationThreshold)) as Snapshot);
+  const previousSnapshot = previousBody === undefined ? null : readStoredSnapshot(publishedText(previousBody, deps.publicationThreshold));
   const snapshotId = randomUUID();
   let sequence = await repository.nextSnapshotSequence(deps.db, reportId);
   const snapshot = buildSnapshot({
@@ -406,7 +410,7 @@ export async function snapshotInContext(
 ): Promise<SnapshotInContext> {
   const readSnapshot = async (id: string): Promise<Snapshot | undefined> => {
     const body = await getSnapshotBody(deps, reportId, id);
-    return body === undefined ? undefined : (JSON.parse(body) as Snapshot);
+    return body === undefined ? undefined : readStoredSnapshot(body);
   };
   const shown = await readSnapshot(snapshotId);
   if (shown === undefined) throw new SnapshotNotFoundError(reportId, snapshotId);

@@ -253,6 +253,7 @@ export function withholdSnapshot(snapshot: Snapshot, threshold: number): Snapsho
     vocabulary: words,
     familySizes: { conversion_rate: snapshot.row_counts.rate_tests, value: snapshot.row_counts.value_tests },
     hasPreviousSnapshot: snapshot.comparison.previous_snapshot_id !== null,
+    comparedWith: snapshot.comparison.compared_with,
   };
   for (const segment of segments) segment.summary = segmentSummary(segment, context);
 

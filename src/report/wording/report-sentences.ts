@@ -54,11 +54,11 @@ export function reportSummary(input: ReportSummaryInput): string {
       : input.population.value_mean === null
         ? ''
         : ` with a ${words.valueName} of ${formatMoney(input.population.value_mean)}`;
-  const segments = counts.better + counts.worse + counts.no_detectable_difference + counts.inconclusive + counts.too_small;
+  const segments = counts.better + counts.worse + counts.equivalent + counts.inconclusive + counts.too_small;
   const parts = [
     `The population holds ${formatCount(input.population.n)} ${words.units}${overall}.`,
     ` Of ${formatCount(segments)} segments, ${formatCount(input.familySize)} were tested against the rest on ${metric}, using ${ADJUSTMENT_NAMES[definition.adjustment]} at ${confidence} confidence:`,
-    ` ${formatCount(counts.better)} do better, ${formatCount(counts.worse)} do worse, ${formatCount(counts.no_detectable_difference)} show no detectable difference and ${formatCount(counts.inconclusive)} are inconclusive;`,
+    ` ${formatCount(counts.better)} do better, ${formatCount(counts.worse)} do worse, ${formatCount(counts.equivalent)} are equivalent to the rest within the equivalence margin and ${formatCount(counts.inconclusive)} are inconclusive;`,
     ` ${formatCount(counts.too_small)} ${counts.too_small === 1 ? 'has' : 'have'} fewer than ${formatCount(definition.min_n)} ${words.units} (or ${counts.too_small === 1 ? 'leaves' : 'leave'} fewer than that outside) and ${counts.too_small === 1 ? 'was' : 'were'} not tested.`,
   ];
   if (input.withheld !== undefined && input.withheld.segments > 0) {
@@ -117,8 +117,10 @@ export function snapshotCautions(arithmetic: 'exact' | 'floating'): string[] {
 export function comparisonNote(basis: Omit<Comparison, 'note'>): string {
   const window = basis.previous_window;
   if (basis.compared_with === 'previous_window' && window !== null) {
-    return `Each segment is compared with the same segment in the window of the same length just before this one (${window.from} to ${window.to}); rank movement is against the previous snapshot.`;
+    return `Each segment is compared with the same segment in the window of the same length just before this one (${window.from} to ${window.to}), each window over the customers known at its start; rank movement is against the previous snapshot.`;
   }
-  if (basis.compared_with === 'previous_snapshot') return 'A campaign report has no time window, so each segment is compared with its counts in the previous snapshot.';
+  if (basis.compared_with === 'previous_snapshot') {
+    return 'A campaign report has no time window, so the change of each segment compares the contacts stored since the previous snapshot with those it had; a segment with no new contacts has no change.';
+  }
   return 'This is the first snapshot of the report: there is nothing earlier to compare with.';
 }

@@ -6,7 +6,7 @@
  */
 import { formatConfidence, formatCount, formatPoints, formatPValue, formatRank, formatRatio, formatSignedMoney } from './format.js';
 import type { ReportDefinition } from '../definition/index.js';
-import { isPublished, type PublishedSegment, type SnapshotSegment, type Verdict } from '../shapes/index.js';
+import { isPublished, type EquivalenceTest, type PublishedSegment, type SnapshotSegment, type Verdict } from '../shapes/index.js';
 import { metricView, type MetricView } from './metric-view.js';
 import { describeSegment, type Vocabulary } from './vocabulary.js';
 
@@ -21,6 +21,8 @@ export interface SentenceContext {
   familySizes: Record<ReportDefinition['rank_by'], number>;
   /** whether a previous snapshot exists (for rank movement) */
   hasPreviousSnapshot: boolean;
+  /** what the change of each segment is measured against */
+  comparedWith: 'previous_window' | 'previous_snapshot' | null;
 }
 function levelWithInterval(view: MetricView, confidence: string): string {
   if (view.estimate === null) return `a ${view.name} that cannot be computed`;
@@ -105,8 +107,10 @@ function mainSentence(segment: PublishedSegment, context: SentenceContext): stri
       view.low !== null && view.high !== null ? ` (${confidence} CI ${view.level(view.low)} to ${view.level(view.high)})` : ''
     }${against(view)}${differenceWithInterval(view, confidence)}.${liftClause(segment, metric)} The difference holds ${familyPhrase(context, metric)} (${adjustedPhrase(view, context)}).`;
   }
-  if (verdict === 'no_detectable_difference') {
-    return `${opening}${liftClause(segment, metric)} The interval rules out differences as large as ${view.magnitude(view.mdd as number)}${view.unit}, the smallest this comparison could reliably detect, so for planning treat this group like the rest.`;
+  if (verdict === 'equivalent') {
+    const test = metric === 'conversion_rate' ? segment.equivalence.conversion_rate : segment.equivalence.value;
+    const adjustment = context.definition.adjustment === 'none' ? 'p' : 'adjusted p';
+    return `${opening}${liftClause(segment, metric)} Two one-sided tests show the difference lies within ± ${marginPhrase(view, test, words)} (${adjustment} ${formatPValue(test?.p_adjusted ?? 1)}), so for planning treat this group like the rest.`;
   }
   // inconclusive
   const notReliable = view.adjustedP === null ? '' : ` The difference is not reliable ${familyPhrase(context, metric)} (${adjustedPhrase(view, context)}).`;
@@ -115,7 +119,21 @@ function mainSentence(segment: PublishedSegment, context: SentenceContext): stri
     view.mdd === null
       ? ''
       : ` With ${formatCount(comparedCount)} ${comparedUnits} this comparison could only reliably detect a difference of about ${view.magnitude(view.mdd)}${view.unit} or more; a smaller real difference may be hidden.`;
-  return `${opening}${missing ? ` ${missing}` : ''}${liftClause(segment, metric)}${notReliable}${detectable}`;
+  const test = metric === 'conversion_rate' ? segment.equivalence.conversion_rate : segment.equivalence.value;
+  const notEquivalent = test === null ? '' : ` Nor do the data show it lies within ± ${marginPhrase(view, test, words)}: a difference that large cannot be ruled out.`;
+  return `${opening}${missing ? ` ${missing}` : ''}${liftClause(segment, metric)}${notReliable}${notEquivalent}${detectable}`;
+}
+
+/** The margin with where it came from, e.g. "2 percentage points, the default equivalence margin". */
+function marginPhrase(view: MetricView, test: EquivalenceTest | null, words: Vocabulary): string {
+  if (test === null) return `the margin of the ${words.rateName}`;
+  const source = test.margin_source === 'default' ? 'the default equivalence margin' : "the report's equivalence margin";
+  return `${view.magnitude(test.margin)}${view.unit}, ${source}`;
+}
+
+function mirrorSentence(segment: SnapshotSegment): string {
+  if (segment.mirror_of === null || !segment.tested) return '';
+  return ` Its comparison is the same as that of ${segment.mirror_of} seen from the other side, so it is counted once among the tests.`;
 }
 
 function secondarySentence(segment: PublishedSegment, context: SentenceContext): string {
@@ -130,22 +148,31 @@ function secondarySentence(segment: PublishedSegment, context: SentenceContext):
 
 function changeSentence(segment: PublishedSegment, context: SentenceContext): string {
   const change = segment.change;
-  if (change === null) return '';
-  const since = change.compared_with === 'previous_window' ? 'the previous window of the same length' : 'the previous snapshot';
+  const words = context.vocabulary;
+  if (change === null) {
+    const noNewData = context.comparedWith === 'previous_snapshot' && !segment.notes.some((note) => note.startsWith('The change since the previous snapshot'));
+    return noNewData ? ` No ${words.units} were added to it since the previous snapshot, so there is no change to report.` : '';
+  }
+  const groups =
+    change.compared_with === 'previous_window'
+      ? 'this window against the previous window of the same length'
+      : `the ${formatCount(change.new_n)} ${words.units} added since the previous snapshot against the ${formatCount(change.previous_n)} before them`;
+  const adjustment = context.definition.adjustment === 'none' ? 'p' : 'adjusted p';
+  const confidence = formatConfidence(context.definition.confidence);
   if (context.definition.rank_by === 'conversion_rate') {
     if (change.rate_change === null) return '';
     const interval =
       change.rate_change_ci_low !== null && change.rate_change_ci_high !== null
-        ? ` (${formatConfidence(context.definition.confidence)} CI ${formatPoints(change.rate_change_ci_low)} to ${formatPoints(change.rate_change_ci_high)})`
+        ? ` (${confidence} CI ${formatPoints(change.rate_change_ci_low)} to ${formatPoints(change.rate_change_ci_high)}${change.rate_change_p_adjusted === null ? '' : `, ${adjustment} ${formatPValue(change.rate_change_p_adjusted)}`})`
         : '';
-    return ` Since ${since} its ${context.vocabulary.rateName} changed by ${formatPoints(change.rate_change)} percentage points${interval}.`;
+    return ` Comparing ${groups}, its ${words.rateName} differs by ${formatPoints(change.rate_change)} percentage points${interval}.`;
   }
   if (change.value_change === null) return '';
   const interval =
     change.value_change_ci_low !== null && change.value_change_ci_high !== null
-      ? ` (${formatConfidence(context.definition.confidence)} CI ${formatSignedMoney(change.value_change_ci_low)} to ${formatSignedMoney(change.value_change_ci_high)})`
+      ? ` (${confidence} CI ${formatSignedMoney(change.value_change_ci_low)} to ${formatSignedMoney(change.value_change_ci_high)}${change.value_change_p_adjusted === null ? '' : `, ${adjustment} ${formatPValue(change.value_change_p_adjusted)}`})`
       : '';
-  return ` Since ${since} its ${context.vocabulary.valueName} changed by ${formatSignedMoney(change.value_change)}${interval}.`;
+  return ` Comparing ${groups}, its ${words.valueName} differs by ${formatSignedMoney(change.value_change)}${interval}.`;
 }
 
 /**
@@ -195,5 +222,5 @@ function withheldSentence(segment: SnapshotSegment, context: SentenceContext): s
  */
 export function segmentSummary(segment: SnapshotSegment, context: SentenceContext): string {
   if (!isPublished(segment)) return withheldSentence(segment, context);
-  return `${mainSentence(segment, context)}${secondarySentence(segment, context)}${changeSentence(segment, context)}${rankSentence(segment, context)}`;
+  return `${mainSentence(segment, context)}${mirrorSentence(segment)}${secondarySentence(segment, context)}${changeSentence(segment, context)}${rankSentence(segment, context)}`;
 }
