@@ -89,3 +89,6 @@ export type {
   TwoSampleTPowerInput,
   TwoSampleTSampleSizeInput,
 } from './power.js';
+
+export { empiricalLogit, fitPriorSpread, logistic, shrinkObservation } from './shrinkage.js';
+export type { PriorSpread, ShrinkageObservation, ShrunkEstimate } from './shrinkage.js';

@@ -3,6 +3,8 @@
  * row, the verdict rule, the ranking, the change since last time and the reversal check.
  */
 export { comparisonBasis, recordChanges, type PreviousWindow } from './change.js';
+export { expectedFigures, type ExpectedFigure, type ExpectedFigures } from './expected.js';
+export { explainingParent, parentLabels } from './parents.js';
 export { valueOrNull } from './outcome.js';
 export { rankSegments } from './ranking.js';
 export { findReversals } from './reversals.js';

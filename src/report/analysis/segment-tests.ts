@@ -13,6 +13,7 @@ import {
   notComputable,
   computed,
   standardNormalQuantile,
+  studentTTest,
   tInterval,
   twoProportionZTest,
   welchTTest,
@@ -20,8 +21,8 @@ import {
   type EstimateWithInterval,
   type MeanInterval,
   type Outcome,
+  type Interval,
   type Summary,
-  type TwoSampleTTestResult,
 } from '../../stats/index.js';
 import type { GroupStats } from '../../segments/index.js';
 import type { ValueBasis } from '../definition/index.js';
@@ -34,6 +35,32 @@ const PLANNING_POWER = 0.8;
  * below 5 (common practice: the rule of thumb for the normal approximation).
  */
 const MIN_EXPECTED_CELL_COUNT = 5;
+
+/**
+ * The value is compared only when the segment and the rest each have at least this many
+ * converted units: below it the segment's value is one or no purchase, which says nothing
+ * about its customers (with none, every unit is worth 0 and a test would only restate the
+ * conversion rate).
+ */
+export const MIN_CONVERSIONS_FOR_VALUE_TEST = 2;
+
+/**
+ * The value comparison of a segment with the rest: the difference of means with Welch's
+ * interval (unequal variances; its coverage under skewed revenue is measured in
+ * bench/calibration/value-test.ts), and the test of no difference from Student's pooled t,
+ * whose variance is the one the null hypothesis implies (segment and rest drawn from one
+ * distribution): the large-sample form of the Fisher–Pitman permutation test of the means.
+ * Welch's own test divides by the segment's variance, which under skewed revenue is small
+ * exactly when the segment's mean is small, so it calls segments "worse" far too often.
+ */
+export interface ValueComparison {
+  difference: number;
+  interval: Interval;
+  /** Student's pooled t, its degrees of freedom and two-sided p-value */
+  t: number;
+  degreesOfFreedom: number;
+  pValue: number;
+}
 
 export interface RateTest {
   kind: 'z' | 'fisher';
@@ -55,7 +82,7 @@ export interface SegmentStatistics {
   segmentValue: Summary;
   restValue: Summary;
   valueMean: Outcome<MeanInterval>;
-  valueComparison: Outcome<TwoSampleTTestResult>;
+  valueComparison: Outcome<ValueComparison>;
   hedgesG: Outcome<number>;
   /** minimum detectable rate difference upwards and downwards at 80 % power */
   rateMdd: { increase: Outcome<number>; decrease: Outcome<number> };
@@ -78,7 +105,7 @@ export function valueSummary(stats: GroupStats, basis: ValueBasis): Summary {
  * @example
  * rateTest(3, 10, 40, 400); // Fisher: the expected conversions in the segment are 10·43/410 ≈ 1.05
  */
-function rateTest(x1: number, n1: number, x2: number, n2: number): Outcome<RateTest> {
+export function rateTest(x1: number, n1: number, x2: number, n2: number): Outcome<RateTest> {
   const total = n1 + n2;
   const successes = x1 + x2;
   if (n1 === 0 || n2 === 0) return notComputable('The rate test is undefined: one of the two groups is empty.');
@@ -89,6 +116,31 @@ function rateTest(x1: number, n1: number, x2: number, n2: number): Outcome<RateT
   }
   const z = twoProportionZTest(x1, n1, x2, n2);
   return z.ok ? computed({ kind: 'z', pValue: z.value.pValue, z: z.value.z }) : z;
+}
+
+/**
+ * The value comparison described at `ValueComparison`, or the reason it is not made: too few
+ * converted units in the segment or the rest, or values that do not vary.
+ * @throws StatsInputError for an invalid summary (from the statistics core)
+ */
+export function valueTest(
+  segment: { summary: Summary; conversions: number },
+  rest: { summary: Summary; conversions: number },
+  confidence: number,
+): Outcome<ValueComparison> {
+  const fewest = Math.min(segment.conversions, rest.conversions);
+  if (fewest < MIN_CONVERSIONS_FOR_VALUE_TEST) {
+    const who = segment.conversions < MIN_CONVERSIONS_FOR_VALUE_TEST ? 'the segment' : 'the rest';
+    const count = segment.conversions < MIN_CONVERSIONS_FOR_VALUE_TEST ? segment.conversions : rest.conversions;
+    return notComputable(
+      `The value comparison is not made: ${who} has ${count} converted ${count === 1 ? 'unit' : 'units'}, fewer than the ${MIN_CONVERSIONS_FOR_VALUE_TEST} it needs to say anything about value.`,
+    );
+  }
+  const interval = welchTTest(segment.summary, rest.summary, confidence);
+  if (!interval.ok) return interval;
+  const test = studentTTest(segment.summary, rest.summary, confidence);
+  if (!test.ok) return test;
+  return computed({ difference: interval.value.difference, interval: interval.value.interval, t: test.value.t, degreesOfFreedom: test.value.degreesOfFreedom, pValue: test.value.pValue });
 }
 
 /**
@@ -178,7 +230,7 @@ export function analyzeSegment(
     segmentValue,
     restValue,
     valueMean,
-    valueComparison: welchTTest(segmentValue, restValue, confidence),
+    valueComparison: valueTest({ summary: segmentValue, conversions: segment.conversions }, { summary: restValue, conversions: rest.conversions }, confidence),
     hedgesG: hedgesG(segmentValue, restValue),
     rateMdd,
     valueMdd,

@@ -27,6 +27,11 @@ export const SegmentRow = Type.Object({
   conversion_rate: NullableNumber(),
   conversion_rate_ci_low: NullableNumber(),
   conversion_rate_ci_high: NullableNumber(),
+  rate_expected: NullableNumber(
+    "the segment's conversion rate after allowing for chance: an empirical-Bayes estimate drawn toward what its parents predict (the population for a one-way segment); the ranking uses it",
+  ),
+  rate_expected_ci_low: NullableNumber('lower end of the interval of rate_expected, at the report confidence'),
+  rate_expected_ci_high: NullableNumber('upper end of the interval of rate_expected, at the report confidence'),
   rate_diff: NullableNumber('segment rate − rest rate (Newcombe hybrid score interval)'),
   rate_diff_ci_low: NullableNumber(),
   rate_diff_ci_high: NullableNumber(),
@@ -39,13 +44,22 @@ export const SegmentRow = Type.Object({
   value_mean: NullableNumber('major currency units, per the report value_basis'),
   value_ci_low: NullableNumber(),
   value_ci_high: NullableNumber(),
-  value_diff: NullableNumber('segment mean − rest mean (Welch)'),
+  value_expected: NullableNumber("the segment's value mean after allowing for chance (empirical Bayes, as rate_expected), major currency units"),
+  value_expected_ci_low: NullableNumber(),
+  value_expected_ci_high: NullableNumber(),
+  value_diff: NullableNumber('segment mean − rest mean; the interval is Welch\'s'),
   value_diff_ci_low: NullableNumber(),
   value_diff_ci_high: NullableNumber(),
-  value_p_value: NullableNumber(),
+  value_p_value: NullableNumber(
+    "Student's pooled two-sample t-test (the variance under no difference); null when the segment or the rest has fewer than 2 converted units",
+  ),
   value_p_adjusted: NullableNumber(),
   min_detectable_diff: NullableNumber('at 80% power, in the unit of the ranking metric: a rate difference (fraction) or money (major units)'),
   verdict: Verdict,
+  explained_by: nullable(Type.String(), {
+    description:
+      'two-way segments: the label of the parent (one-way) segment that explains its better or worse verdict, because within that parent the segment shows no difference; null otherwise',
+  }),
   summary: Type.String(),
 });
 export type SegmentRow = Static<typeof SegmentRow>;

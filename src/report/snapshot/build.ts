@@ -9,6 +9,8 @@ import { cellStats, groupBy, rollUp, subtractGroup, type GroupStats } from '../.
 import {
   analyzeSegment,
   comparisonBasis,
+  expectedFigures,
+  explainingParent,
   findReversals,
   rankSegments,
   recordChanges,
@@ -50,6 +52,22 @@ export function buildSnapshot(input: SnapshotInput): Snapshot {
     segment.value_p_adjusted = valueAdjusted[index] ?? null;
     segment.verdict = segmentVerdict(segment, statistics, definition);
   });
+  const expected = expectedFigures(
+    analysed.map(({ group }) => group),
+    total,
+    { confidence: definition.confidence, valueBasis: basis },
+  );
+  analysed.forEach(({ segment }, index) => {
+    const { rate, value } = expected[index] ?? { rate: null, value: null };
+    segment.rate_expected = rate?.estimate ?? null;
+    segment.rate_expected_ci_low = rate?.low ?? null;
+    segment.rate_expected_ci_high = rate?.high ?? null;
+    segment.value_expected = value?.estimate ?? null;
+    segment.value_expected_ci_low = value?.low ?? null;
+    segment.value_expected_ci_high = value?.high ?? null;
+  });
+  const oneWayByLabel = new Map(analysed.filter(({ group }) => group.dimensions.length === 1).map((entry) => [entry.segment.segment, entry]));
+  for (const entry of analysed) entry.segment.explained_by = explainingParent(entry, oneWayByLabel, definition);
   const rateTests = rateAdjusted.filter((value) => value !== null).length;
   const valueTests = valueAdjusted.filter((value) => value !== null).length;
 
