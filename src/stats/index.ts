@@ -92,3 +92,6 @@ export type {
 
 export { empiricalLogit, fitPriorSpread, logistic, shrinkObservation } from './shrinkage.js';
 export type { PriorSpread, ShrinkageObservation, ShrunkEstimate } from './shrinkage.js';
+
+export { twoPartTest } from './two-part.js';
+export type { TwoPartGroup, TwoPartTestResult } from './two-part.js';

@@ -9,5 +9,6 @@ export { valueOrNull } from './outcome.js';
 export { rankSegments } from './ranking.js';
 export { findReversals } from './reversals.js';
 export { segmentRow } from './segment-row.js';
+export { positiveLogSummaries, type PositiveLogs } from './value-logs.js';
 export { analyzeSegment, valueSummary } from './segment-tests.js';
 export { decideVerdict, segmentVerdict, type VerdictInput } from './verdict.js';

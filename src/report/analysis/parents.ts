@@ -4,11 +4,12 @@
  * the parent shows no difference (two-sided p ≥ α, unadjusted, so that a real difference
  * within the parent is the easier finding) while the parent itself has the cross's verdict.
  */
-import { subtractGroup, type Group, type GroupStats } from '../../segments/index.js';
+import { subtractGroup, type Group } from '../../segments/index.js';
 import type { ReportDefinition } from '../definition/index.js';
 import type { SnapshotSegment } from '../shapes/index.js';
 import { segmentLabel } from './segment-row.js';
 import { rateTest, valueTest, valueSummary } from './segment-tests.js';
+import type { PositiveLogs } from './value-logs.js';
 
 /** The labels of a segment's one-way parents: two for a cross, none for a one-way segment. */
 export function parentLabels(group: Pick<Group, 'dimensions' | 'labels'>): string[] {
@@ -17,16 +18,16 @@ export function parentLabels(group: Pick<Group, 'dimensions' | 'labels'>): strin
 }
 
 /** The two-sided p-value of the cross against the other members of its parent on the report's metric, or null when it cannot be computed. */
-function withinParentPValue(cross: GroupStats, parent: GroupStats, definition: ReportDefinition): number | null {
-  const others = subtractGroup(parent, cross);
+function withinParentPValue(cross: Group, parent: Group, definition: ReportDefinition, logs: PositiveLogs): number | null {
+  const others = subtractGroup(parent.stats, cross.stats);
   if (others.n < definition.min_n) return null;
   if (definition.rank_by === 'conversion_rate') {
-    const test = rateTest(cross.conversions, cross.n, others.conversions, others.n);
+    const test = rateTest(cross.stats.conversions, cross.stats.n, others.conversions, others.n);
     return test.ok ? test.value.pValue : null;
   }
   const test = valueTest(
-    { summary: valueSummary(cross, definition.value_basis), conversions: cross.conversions },
-    { summary: valueSummary(others, definition.value_basis), conversions: others.conversions },
+    { summary: valueSummary(cross.stats, definition.value_basis), conversions: cross.stats.conversions, logPositive: logs.of(cross) },
+    { summary: valueSummary(others, definition.value_basis), conversions: others.conversions, logPositive: logs.without(logs.of(parent), logs.of(cross)) },
     definition.confidence,
   );
   return test.ok ? test.value.pValue : null;
@@ -40,6 +41,7 @@ export function explainingParent(
   cross: { group: Group; segment: SnapshotSegment },
   parents: ReadonlyMap<string, { group: Group; segment: SnapshotSegment }>,
   definition: ReportDefinition,
+  logs: PositiveLogs,
 ): string | null {
   const verdict = cross.segment.verdict;
   if (verdict !== 'better' && verdict !== 'worse') return null;
@@ -48,7 +50,7 @@ export function explainingParent(
   for (const label of parentLabels(cross.group)) {
     const parent = parents.get(label);
     if (parent === undefined || parent.segment.verdict !== verdict) continue;
-    const pValue = withinParentPValue(cross.group.stats, parent.group.stats, definition);
+    const pValue = withinParentPValue(cross.group, parent.group, definition, logs);
     if (pValue === null || pValue < alpha) continue;
     if (best === null || pValue > best.pValue) best = { label, pValue };
   }

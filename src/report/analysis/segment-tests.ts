@@ -15,6 +15,7 @@ import {
   standardNormalQuantile,
   studentTTest,
   tInterval,
+  twoPartTest,
   twoProportionZTest,
   welchTTest,
   wilsonInterval,
@@ -47,19 +48,32 @@ export const MIN_CONVERSIONS_FOR_VALUE_TEST = 2;
 /**
  * The value comparison of a segment with the rest: the difference of means with Welch's
  * interval (unequal variances; its coverage under skewed revenue is measured in
- * bench/calibration/value-test.ts), and the test of no difference from Student's pooled t,
- * whose variance is the one the null hypothesis implies (segment and rest drawn from one
- * distribution): the large-sample form of the Fisher–Pitman permutation test of the means.
- * Welch's own test divides by the segment's variance, which under skewed revenue is small
- * exactly when the segment's mean is small, so it calls segments "worse" far too often.
+ * bench/calibration/value-test.ts), and a test of no difference that keeps its size under
+ * skewed revenue. When the logarithms of the positive values are known for both sides (from
+ * the value counts), Lachenbruch's two-part test (`two_part`): share of positive values and
+ * mean log of the positive values. Otherwise (groups too large to be read value by value,
+ * where the sample mean is near normal) Student's pooled t (`pooled_t`), whose variance is the
+ * one the null hypothesis implies (segment and rest drawn from one distribution): the
+ * large-sample form of the Fisher–Pitman permutation test of the means. Welch's own test
+ * divides by the segment's variance, which under skewed revenue is small exactly when the
+ * segment's mean is small, so it called segments "worse" far too often.
  */
 export interface ValueComparison {
+  method: 'two_part' | 'pooled_t';
   difference: number;
   interval: Interval;
-  /** Student's pooled t, its degrees of freedom and two-sided p-value */
+  /** Student's t (of the means for pooled_t, of the mean logs for two_part) */
   t: number;
-  degreesOfFreedom: number;
+  /** degrees of freedom of pooled_t; null for two_part (referred to chi-square with 2) */
+  degreesOfFreedom: number | null;
   pValue: number;
+}
+
+/** One side of a value comparison: the metric's summary, the converted units, and the summary of the logs of its positive values when known. */
+export interface ValueSide {
+  summary: Summary;
+  conversions: number;
+  logPositive: Summary | null;
 }
 
 export interface RateTest {
@@ -123,11 +137,7 @@ export function rateTest(x1: number, n1: number, x2: number, n2: number): Outcom
  * converted units in the segment or the rest, or values that do not vary.
  * @throws StatsInputError for an invalid summary (from the statistics core)
  */
-export function valueTest(
-  segment: { summary: Summary; conversions: number },
-  rest: { summary: Summary; conversions: number },
-  confidence: number,
-): Outcome<ValueComparison> {
+export function valueTest(segment: ValueSide, rest: ValueSide, confidence: number): Outcome<ValueComparison> {
   const fewest = Math.min(segment.conversions, rest.conversions);
   if (fewest < MIN_CONVERSIONS_FOR_VALUE_TEST) {
     const who = segment.conversions < MIN_CONVERSIONS_FOR_VALUE_TEST ? 'the segment' : 'the rest';
@@ -138,9 +148,16 @@ export function valueTest(
   }
   const interval = welchTTest(segment.summary, rest.summary, confidence);
   if (!interval.ok) return interval;
+  const { difference } = interval.value;
+  if (segment.logPositive !== null && rest.logPositive !== null && segment.logPositive.n >= 2 && rest.logPositive.n >= 2) {
+    const twoPart = twoPartTest({ n: segment.summary.n, logPositive: segment.logPositive }, { n: rest.summary.n, logPositive: rest.logPositive });
+    if (twoPart.ok) {
+      return computed({ method: 'two_part', difference, interval: interval.value.interval, t: twoPart.value.t, degreesOfFreedom: null, pValue: twoPart.value.pValue });
+    }
+  }
   const test = studentTTest(segment.summary, rest.summary, confidence);
   if (!test.ok) return test;
-  return computed({ difference: interval.value.difference, interval: interval.value.interval, t: test.value.t, degreesOfFreedom: test.value.degreesOfFreedom, pValue: test.value.pValue });
+  return computed({ method: 'pooled_t', difference, interval: interval.value.interval, t: test.value.t, degreesOfFreedom: test.value.degreesOfFreedom, pValue: test.value.pValue });
 }
 
 /**
@@ -176,6 +193,7 @@ export function analyzeSegment(
   segment: GroupStats,
   rest: GroupStats,
   settings: { confidence: number; minN: number; valueBasis: ValueBasis },
+  logPositive: { segment: Summary | null; rest: Summary | null } = { segment: null, rest: null },
 ): SegmentStatistics {
   const { confidence, minN, valueBasis } = settings;
   const alpha = 1 - confidence;
@@ -230,7 +248,11 @@ export function analyzeSegment(
     segmentValue,
     restValue,
     valueMean,
-    valueComparison: valueTest({ summary: segmentValue, conversions: segment.conversions }, { summary: restValue, conversions: rest.conversions }, confidence),
+    valueComparison: valueTest(
+      { summary: segmentValue, conversions: segment.conversions, logPositive: logPositive.segment },
+      { summary: restValue, conversions: rest.conversions, logPositive: logPositive.rest },
+      confidence,
+    ),
     hedgesG: hedgesG(segmentValue, restValue),
     rateMdd,
     valueMdd,

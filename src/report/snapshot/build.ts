@@ -12,6 +12,7 @@ import {
   expectedFigures,
   explainingParent,
   findReversals,
+  positiveLogSummaries,
   rankSegments,
   recordChanges,
   segmentRow,
@@ -39,9 +40,17 @@ export function buildSnapshot(input: SnapshotInput): Snapshot {
   const { total, segments: groups } = rollUp(cellGroups, definition.dimensions, definition.crosses);
   const settings = { confidence: definition.confidence, minN: definition.min_n, valueBasis: basis };
 
+  const logs = positiveLogSummaries({
+    dimensions: definition.dimensions,
+    cells: cellGroups,
+    valueCounts: input.valueCounts,
+    populationValueCounts: input.populationValueCounts,
+    basis,
+  });
   const analysed = groups.map((group) => {
     const rest = subtractGroup(total, group.stats);
-    const statistics = analyzeSegment(group.stats, rest, settings);
+    const segmentLogs = logs.of(group);
+    const statistics = analyzeSegment(group.stats, rest, settings, { segment: segmentLogs, rest: logs.without(logs.total, segmentLogs) });
     return { group, statistics, segment: segmentRow(group, rest, statistics, total, definition) };
   });
 
@@ -67,7 +76,7 @@ export function buildSnapshot(input: SnapshotInput): Snapshot {
     segment.value_expected_ci_high = value?.high ?? null;
   });
   const oneWayByLabel = new Map(analysed.filter(({ group }) => group.dimensions.length === 1).map((entry) => [entry.segment.segment, entry]));
-  for (const entry of analysed) entry.segment.explained_by = explainingParent(entry, oneWayByLabel, definition);
+  for (const entry of analysed) entry.segment.explained_by = explainingParent(entry, oneWayByLabel, definition, logs);
   const rateTests = rateAdjusted.filter((value) => value !== null).length;
   const valueTests = valueAdjusted.filter((value) => value !== null).length;
 
