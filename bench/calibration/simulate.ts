@@ -151,6 +151,7 @@ export function simulateCampaign(scenario: CampaignScenario, random: Draws, over
     else counts.set(key, { labels, n: 1 });
   }
   const cells: CellAggregate[] = [];
+  const valueCounts: Array<{ labels: string[]; valueCents: number; count: number }> = [];
   const cellTruth: Array<{ labels: number[]; n: number; rate: number; value: number }> = [];
   for (const { labels, n } of counts.values()) {
     let eta = logit(scenario.baseRate);
@@ -165,14 +166,19 @@ export function simulateCampaign(scenario: CampaignScenario, random: Draws, over
     const conversions = random.binomial(n, rate);
     let sum = 0;
     let squares = 0;
+    const cellLabels = labels.map((label, dimension) => labelName(dimension, label));
+    const cellValues = new Map<number, number>();
+    if (n > conversions) cellValues.set(0, n - conversions);
     for (let index = 0; index < conversions; index++) {
       const cents = Math.max(1, Math.round(100 * random.logNormalWithMean(orderMean, scenario.sigma)));
       sum += cents;
       squares += cents * cents;
+      cellValues.set(cents, (cellValues.get(cents) ?? 0) + 1);
     }
+    for (const [valueCents, count] of cellValues) valueCounts.push({ labels: cellLabels, valueCents, count });
     const sums = (count: number) => ({ n: count, sumOfShifted: sum, sumOfSquaredShifted: squares });
     cells.push({
-      labels: labels.map((label, dimension) => labelName(dimension, label)),
+      labels: cellLabels,
       n,
       conversions,
       unitValue: sums(n),
@@ -207,7 +213,7 @@ export function simulateCampaign(scenario: CampaignScenario, random: Draws, over
     arithmetic: 'exact',
     cells,
     ageCounts: [],
-    valueCounts: [],
+    valueCounts,
     quality: { customersOutsidePopulation: 0, customersWithoutAnySale: 0, rejectedRows: [] },
     previousWindow: null,
     previousSnapshot: null,
