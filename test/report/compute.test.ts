@@ -104,6 +104,41 @@ describe('ranking', () => {
   });
 });
 
+describe('crosses judged against their parents', () => {
+  // Invented counts: the web channel converts at 30 % in every region, the other channels at
+  // 10 %, except region D's stores, which convert at 40 % (a real interaction).
+  const rates: Record<string, number> = { web: 0.3, store: 0.1, phone: 0.1 };
+  const units = ['A', 'B', 'C', 'D'].flatMap((region) =>
+    ['web', 'store', 'phone'].flatMap((channel) => block([region, channel], 300, Math.round(300 * (region === 'D' && channel === 'store' ? 0.4 : (rates[channel] as number))))),
+  );
+  const snapshot = buildSnapshot(input(units, { definition: { ...DEFINITION, dimensions: ['region', 'channel'], crosses: [['region', 'channel']] } }));
+  const find = (label: string) => snapshot.segments.find((entry) => entry.segment === label) as SnapshotSegment;
+
+  test('a cross no different from the other members of its parent is explained by it and ranked after it', () => {
+    const cross = find('region=A & channel=web');
+    expect(cross.verdict).toBe('better');
+    expect(find('channel=web').verdict).toBe('better');
+    expect(cross.explained_by).toBe('channel=web');
+    expect(cross.rank as number).toBeGreaterThan(find('channel=web').rank as number);
+    expect(cross.summary).toMatch(/within channel web/i);
+  });
+
+  test('a cross that differs within both its parents is not explained', () => {
+    const cross = find('region=D & channel=store');
+    expect(cross.verdict).toBe('better');
+    expect(cross.explained_by).toBeNull();
+  });
+
+  test('expected rates lie between the raw rate and what the parents predict, with intervals around them', () => {
+    const cross = find('region=D & channel=store');
+    expect(cross.rate_expected as number).toBeLessThanOrEqual(cross.conversion_rate as number);
+    expect(cross.rate_expected as number).toBeGreaterThan(0.1);
+    expect(cross.rate_expected_ci_low as number).toBeLessThan(cross.rate_expected as number);
+    expect(cross.rate_expected_ci_high as number).toBeGreaterThan(cross.rate_expected as number);
+    for (const entry of snapshot.segments) expect(entry.value_expected).not.toBeNull();
+  });
+});
+
 describe('the reversal check', () => {
   // Invented counts: region A sells mostly in stores, where everyone converts more, so A looks
   // better overall although it converts less than B in each channel.

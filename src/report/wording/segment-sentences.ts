@@ -9,6 +9,7 @@ import type { ReportDefinition } from '../definition/index.js';
 import type { SnapshotSegment, Verdict } from '../shapes/index.js';
 import { metricView, type MetricView } from './metric-view.js';
 import { describeSegment, type Vocabulary } from './vocabulary.js';
+import { expectedSentence, explainedSentence } from './expected-sentences.js';
 
 function capitalize(text: string): string {
   return text.charAt(0).toUpperCase() + text.slice(1);
@@ -182,5 +183,5 @@ function rankSentence(segment: SnapshotSegment, context: SentenceContext): strin
  * // 'Region North has a higher conversion rate than the rest: 18.2% (95% CI 15.1% to 21.6%) against 10.3% for the rest, …'
  */
 export function segmentSummary(segment: SnapshotSegment, context: SentenceContext): string {
-  return `${mainSentence(segment, context)}${secondarySentence(segment, context)}${changeSentence(segment, context)}${rankSentence(segment, context)}`;
+  return `${mainSentence(segment, context)}${explainedSentence(segment, context)}${expectedSentence(segment, context)}${secondarySentence(segment, context)}${changeSentence(segment, context)}${rankSentence(segment, context)}`;
 }
