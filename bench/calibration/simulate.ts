@@ -58,8 +58,8 @@ export function draws(seed: number): Draws {
   return { uniform, normal, binomial, logNormalWithMean };
 }
 
-export const logit = (p: number) => Math.log(p / (1 - p));
-export const expit = (x: number) => 1 / (1 + Math.exp(-x));
+const logit = (p: number) => Math.log(p / (1 - p));
+const expit = (x: number) => 1 / (1 + Math.exp(-x));
 
 /** What a simulated campaign looks like; effects are on the logit scale (rate) and the log scale (order value). */
 export interface CampaignScenario {
@@ -87,7 +87,7 @@ export interface SimulatedCampaign {
   truth: Map<string, { rate: number; value: number }>;
 }
 
-export function definitionFor(scenario: CampaignScenario, overrides: Partial<ReportDefinition> = {}): ReportDefinition {
+function definitionFor(scenario: CampaignScenario, overrides: Partial<ReportDefinition> = {}): ReportDefinition {
   const names = scenario.dimensions.map((dimension) => dimension.name);
   const crosses: Array<[string, string]> = [];
   names.forEach((first, index) => names.slice(index + 1).forEach((second) => crosses.push([first, second])));

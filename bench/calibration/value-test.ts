@@ -103,11 +103,11 @@ export function measureValueTest(scenario: ValueTestScenario, options: Calibrati
   };
 }
 
-export const NULL_GRID: ValueTestScenario[] = [0.05, 0.1, 0.2].flatMap((rate) =>
+const NULL_GRID: ValueTestScenario[] = [0.05, 0.1, 0.2].flatMap((rate) =>
   [0.5, 1.0, 1.5].flatMap((sigma) => [30, 40, 100, 230, 1000].map((segmentSize) => ({ rate, sigma, segmentSize, orderValueRatio: 1 }))),
 );
 
-export const ALTERNATIVE_GRID: ValueTestScenario[] = [0.05, 0.1, 0.2].flatMap((rate) => [100, 230, 1000].map((segmentSize) => ({ rate, sigma: 1.5, segmentSize, orderValueRatio: 1.5 })));
+const ALTERNATIVE_GRID: ValueTestScenario[] = [0.05, 0.1, 0.2].flatMap((rate) => [100, 230, 1000].map((segmentSize) => ({ rate, sigma: 1.5, segmentSize, orderValueRatio: 1.5 })));
 
 /** The section as markdown. */
 export function run(options: CalibrationOptions): string {

@@ -4,7 +4,7 @@
  */
 export { comparisonBasis, recordChanges, type PreviousWindow } from './change.js';
 export { expectedFigures, type ExpectedFigure, type ExpectedFigures } from './expected.js';
-export { explainingParent, parentLabels } from './parents.js';
+export { explainingParent } from './parents.js';
 export { valueOrNull } from './outcome.js';
 export { rankSegments } from './ranking.js';
 export { findReversals } from './reversals.js';

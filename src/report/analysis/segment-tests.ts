@@ -43,7 +43,7 @@ const MIN_EXPECTED_CELL_COUNT = 5;
  * about its customers (with none, every unit is worth 0 and a test would only restate the
  * conversion rate).
  */
-export const MIN_CONVERSIONS_FOR_VALUE_TEST = 2;
+const MIN_CONVERSIONS_FOR_VALUE_TEST = 2;
 
 /**
  * The value comparison of a segment with the rest: the difference of means with Welch's
