@@ -109,9 +109,10 @@ describe('the report page of a small known snapshot', () => {
     const table = /<table class="segments" id="segment-table">[\s\S]*?<\/table>/.exec(page)?.[0] ?? '';
     const rows = [...table.matchAll(/<tbody class="segment"><tr class="figures"><td class="num" data-sort="([^"]*)">/g)].map((match) => match[1]);
     expect(rows).toEqual(['1', '2', '3', '4', '']);
-    expect(table).toContain('<tr class="sentence"><td colspan="9">Sentence about channel kiosk.</td></tr></tbody>');
+    expect(table).toContain('<tr class="sentence"><td colspan="11">Sentence about channel kiosk.</td></tr></tbody>');
     expect(table).toContain('<th scope="col" data-type="number" aria-sort="ascending" class="num"><button type="button">Rank</button></th>');
     expect(table).toContain('<th scope="col" data-type="number" aria-sort="none" class="num"><button type="button">n</button></th>');
+    expect(table).toContain('<button type="button">Expected rate</button>');
   });
 
   test('the picker offers the snapshots and the CSV and JSON pulls are linked for the shown snapshot', async () => {
