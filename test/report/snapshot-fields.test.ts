@@ -300,6 +300,7 @@ describe.each(TEST_DIALECTS)('every field of a small snapshot (%s)', (dialect) =
       expect(segment.value_p_value).toBeCloseTo(twoPart.value.pValue, 10);
       expect(segment.value_t).toBeCloseTo(twoPart.value.t, 10);
       expect(segment.value_degrees_of_freedom).toBeNull();
+      expect(segment.value_test).toBe('two_part');
       expect(segment.value_diff_ci_low).toBeCloseTo(welch.ci[0] as number, 10);
       expect(segment.value_diff_ci_high).toBeCloseTo(welch.ci[1] as number, 10);
       expect(segment.effect_sizes.hedges_g).toBeCloseTo(coreG.value, 10);

@@ -85,6 +85,7 @@ function segment(figures: SegmentFigures): SnapshotSegment {
     rest: { n: 1000 - figures.n, conversions: 100, conversion_rate: 0.1, value_n: 1000 - figures.n, value_mean: 5 },
     value_n: figures.n,
     rate_z: tested ? 2.1 : null,
+    value_test: tested ? 'two_part' : null,
     value_t: tested ? 1 : null,
     value_degrees_of_freedom: tested ? 300 : null,
     effect_sizes: { cohens_h: tested ? 0.1 : null, hedges_g: tested ? 0.05 : null },

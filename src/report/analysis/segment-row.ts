@@ -80,6 +80,7 @@ export function segmentRow(group: Group, rest: GroupStats, statistics: SegmentSt
     },
     value_n: segmentValue.n,
     rate_z: test?.z ?? null,
+    value_test: comparison?.method ?? null,
     value_t: comparison?.t ?? null,
     value_degrees_of_freedom: comparison?.degreesOfFreedom ?? null,
     effect_sizes: { cohens_h: statistics.cohensH, hedges_g: valueOrNull(statistics.hedgesG) },

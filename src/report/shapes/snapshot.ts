@@ -51,7 +51,7 @@ export const SegmentRow = Type.Object({
   value_diff_ci_low: NullableNumber(),
   value_diff_ci_high: NullableNumber(),
   value_p_value: NullableNumber(
-    "Student's pooled two-sample t-test (the variance under no difference); null when the segment or the rest has fewer than 2 converted units",
+    "Lachenbruch's two-part test (share of positive values and mean log of the positive values), or Student's pooled t when the values were not read one by one; null when the segment or the rest has fewer than 2 converted units",
   ),
   value_p_adjusted: NullableNumber(),
   min_detectable_diff: NullableNumber('at 80% power, in the unit of the ranking metric: a rate difference (fraction) or money (major units)'),
@@ -101,8 +101,13 @@ export const SnapshotSegment = Type.Object({
   rest: RestFigures,
   value_n: Type.Integer({ description: 'units behind value_mean: every unit (per_unit) or the converted ones (per_conversion)' }),
   rate_z: NullableNumber(),
-  value_t: NullableNumber(),
-  value_degrees_of_freedom: NullableNumber(),
+  value_test: Type.Unsafe<'two_part' | 'pooled_t' | null>({
+    type: ['string', 'null'],
+    enum: ['two_part', 'pooled_t', null],
+    description: 'the test behind value_p_value: two_part (Lachenbruch) or pooled_t (Student); null when not compared',
+  }),
+  value_t: NullableNumber('t of the mean logs (two_part) or of the means (pooled_t)'),
+  value_degrees_of_freedom: NullableNumber('of pooled_t; null for two_part (chi-square with 2 degrees of freedom)'),
   effect_sizes: Type.Object({ cohens_h: NullableNumber(), hedges_g: NullableNumber() }),
   sufficient_statistics: Type.Object(
     {

@@ -50,6 +50,12 @@ function missingReason(segment: SnapshotSegment, metric: ReportDefinition['rank_
   }
   if (segment.value_n < 2) return `The ${words.valueName} could not be compared: the segment has fewer than two ${words.units} with a value.`;
   if (segment.rest.value_n < 2) return `The ${words.valueName} could not be compared: the rest has fewer than two ${words.units} with a value.`;
+  if (segment.value_p_value === null && segment.conversions < 2) {
+    return `The ${words.valueName} was not compared: the segment has fewer than two converted ${words.units}, too few to say anything about value.`;
+  }
+  if (segment.value_p_value === null && segment.rest.conversions < 2) {
+    return `The ${words.valueName} was not compared: the rest has fewer than two converted ${words.units}, too few to say anything about value.`;
+  }
   if (segment.value_p_value === null) return `The ${words.valueName} could not be compared: the values do not vary within the segment and the rest.`;
   return '';
 }
