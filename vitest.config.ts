@@ -5,7 +5,7 @@ import { defineConfig } from 'vitest/config';
 const UNIT = [
   'test/stats/**/*.test.ts',
   'test/ingest/{fields,parse}.test.ts',
-  'test/report/{calibration,compute,csv,definition,format,segment-table,verdict}.test.ts',
+  'test/report/{calibration,compute,csv,definition,format,segment-table,value-logs,verdict}.test.ts',
   'test/segments/{dimensions,rollup}.test.ts',
   'test/view/{charts,html,interval-chart,page,scale,svg-safety,text-width}.test.ts',
 ];

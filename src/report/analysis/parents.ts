@@ -26,8 +26,8 @@ function withinParentPValue(cross: Group, parent: Group, definition: ReportDefin
     return test.ok ? test.value.pValue : null;
   }
   const test = valueTest(
-    { summary: valueSummary(cross.stats, definition.value_basis), conversions: cross.stats.conversions, logPositive: logs.of(cross) },
-    { summary: valueSummary(others, definition.value_basis), conversions: others.conversions, logPositive: logs.without(logs.of(parent), logs.of(cross)) },
+    { summary: valueSummary(cross.stats, definition.value_basis), conversions: cross.stats.conversions, logPositive: logs.summary(logs.of(cross)) },
+    { summary: valueSummary(others, definition.value_basis), conversions: others.conversions, logPositive: logs.summary(logs.without(logs.of(parent), logs.of(cross))) },
     definition.confidence,
   );
   return test.ok ? test.value.pValue : null;

@@ -50,7 +50,7 @@ export function buildSnapshot(input: SnapshotInput): Snapshot {
   const analysed = groups.map((group) => {
     const rest = subtractGroup(total, group.stats);
     const segmentLogs = logs.of(group);
-    const statistics = analyzeSegment(group.stats, rest, settings, { segment: segmentLogs, rest: logs.without(logs.total, segmentLogs) });
+    const statistics = analyzeSegment(group.stats, rest, settings, { segment: logs.summary(segmentLogs), rest: logs.summary(logs.without(logs.total, segmentLogs)) });
     return { group, statistics, segment: segmentRow(group, rest, statistics, total, definition) };
   });
 
