@@ -61,7 +61,11 @@ export function positiveLogSummaries(input: {
   populationValueCounts?: ReadonlyArray<{ valueCents: number; count: number }> | undefined;
   basis: ValueBasis;
 }): PositiveLogs {
-  const shiftSource: ReadonlyArray<{ valueCents: number; count: number }> = input.populationValueCounts ?? input.valueCounts;
+  // Summed in one fixed order, so both database engines (which return rows in different orders) give the same bits.
+  const byValue = <T extends { valueCents: number }>(entries: readonly T[]) => [...entries].sort((left, right) => left.valueCents - right.valueCents);
+  const valueCounts = byValue(input.valueCounts);
+  const populationValueCounts = input.populationValueCounts === undefined ? undefined : byValue(input.populationValueCounts);
+  const shiftSource: ReadonlyArray<{ valueCents: number; count: number }> = populationValueCounts ?? valueCounts;
   let logTotal = 0;
   let positives = 0;
   for (const entry of shiftSource) {
@@ -72,7 +76,7 @@ export function positiveLogSummaries(input: {
   const shift = positives > 0 ? logTotal / positives : 0;
 
   const perCell = new Map<string, MutableLogSums>();
-  for (const entry of input.valueCounts) {
+  for (const entry of valueCounts) {
     const key = JSON.stringify(entry.labels);
     const sums = perCell.get(key) ?? emptySums();
     addValue(sums, entry.valueCents, entry.count, shift);
@@ -99,9 +103,9 @@ export function positiveLogSummaries(input: {
     return { n, sum, squares };
   };
   let total: LogSums | null;
-  if (input.populationValueCounts !== undefined) {
+  if (populationValueCounts !== undefined) {
     const sums = emptySums();
-    for (const entry of input.populationValueCounts) addValue(sums, entry.valueCents, entry.count, shift);
+    for (const entry of populationValueCounts) addValue(sums, entry.valueCents, entry.count, shift);
     total = settled(sums);
   } else {
     total = addAll(input.cells.map((_cell, index) => index));
