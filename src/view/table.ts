@@ -58,6 +58,12 @@ const COLUMNS: readonly Column[] = [
     cell: (segment) => ({ text: withInterval(segment.conversion_rate, segment.conversion_rate_ci_low, segment.conversion_rate_ci_high, formatPercent), sortKey: keyOf(segment.conversion_rate) }),
   },
   {
+    heading: 'Expected rate',
+    type: 'number',
+    numeric: true,
+    cell: (segment) => ({ text: withInterval(segment.rate_expected, segment.rate_expected_ci_low, segment.rate_expected_ci_high, formatPercent), sortKey: keyOf(segment.rate_expected) }),
+  },
+  {
     heading: 'Rate vs rest (points)',
     type: 'number',
     numeric: true,
@@ -76,6 +82,12 @@ const COLUMNS: readonly Column[] = [
     cell: (segment) => ({ text: withInterval(segment.value_mean, segment.value_ci_low, segment.value_ci_high, formatMoney), sortKey: keyOf(segment.value_mean) }),
   },
   {
+    heading: 'Expected value',
+    type: 'number',
+    numeric: true,
+    cell: (segment) => ({ text: withInterval(segment.value_expected, segment.value_expected_ci_low, segment.value_expected_ci_high, formatMoney), sortKey: keyOf(segment.value_expected) }),
+  },
+  {
     heading: 'Value vs rest',
     type: 'number',
     numeric: true,
@@ -87,7 +99,11 @@ const COLUMNS: readonly Column[] = [
     numeric: false,
     cell: (segment) => {
       const style = VERDICT_STYLES[segment.verdict];
-      return { text: html`<span class="verdict verdict-${segment.verdict}"><span aria-hidden="true">${style.symbol}</span> ${style.label}</span>`, sortKey: String(VERDICT_ORDER.indexOf(segment.verdict)) };
+      const explained = segment.explained_by === null ? '' : html`<span class="ci">explained by ${segment.explained_by}</span>`;
+      return {
+        text: html`<span class="verdict verdict-${segment.verdict}"><span aria-hidden="true">${style.symbol}</span> ${style.label}</span>${explained}`,
+        sortKey: String(VERDICT_ORDER.indexOf(segment.verdict)),
+      };
     },
   },
 ];

@@ -42,19 +42,19 @@ function input(units: TestUnit[], overrides: Partial<SnapshotInput> = {}): Snaps
 }
 
 function segment(partial: Partial<SnapshotSegment>): SnapshotSegment {
-  return { segment: 's', n: 100, tested: true, conversion_rate: 0.1, conversion_rate_ci_low: 0.05, rank: null, ...partial } as SnapshotSegment;
+  return { segment: 's', n: 100, tested: true, rate_expected: 0.1, rate_expected_ci_low: 0.05, verdict: 'inconclusive', explained_by: null, rank: null, ...partial } as SnapshotSegment;
 }
 
 describe('ranking', () => {
-  test('tested segments by the lower bound, ties by size, a missing bound last, untested ones after without a rank', () => {
+  test('tested segments by the lower bound of the expected rate, ties by size, a missing bound last, untested ones after without a rank', () => {
     const ranked = rankSegments(
       [
-        segment({ segment: 'small-tie', n: 50, conversion_rate_ci_low: 0.2 }),
-        segment({ segment: 'untested-big', n: 29, tested: false, conversion_rate_ci_low: 0.9 }),
-        segment({ segment: 'top', n: 40, conversion_rate_ci_low: 0.3 }),
-        segment({ segment: 'no-bound', n: 500, conversion_rate_ci_low: null }),
-        segment({ segment: 'big-tie', n: 80, conversion_rate_ci_low: 0.2 }),
-        segment({ segment: 'untested-small', n: 3, tested: false, conversion_rate_ci_low: 0.95 }),
+        segment({ segment: 'small-tie', n: 50, rate_expected_ci_low: 0.2 }),
+        segment({ segment: 'untested-big', n: 29, tested: false, rate_expected_ci_low: 0.9 }),
+        segment({ segment: 'top', n: 40, rate_expected_ci_low: 0.3 }),
+        segment({ segment: 'no-bound', n: 500, rate_expected_ci_low: null }),
+        segment({ segment: 'big-tie', n: 80, rate_expected_ci_low: 0.2 }),
+        segment({ segment: 'untested-small', n: 3, tested: false, rate_expected_ci_low: 0.95 }),
       ],
       DEFINITION,
     );
@@ -68,12 +68,78 @@ describe('ranking', () => {
     ]);
   });
 
-  test('rank_order estimate ranks by the point estimate instead', () => {
+  test('rank_order estimate ranks by the expected rate instead', () => {
     const ranked = rankSegments(
-      [segment({ segment: 'wide', conversion_rate: 0.5, conversion_rate_ci_low: 0.1 }), segment({ segment: 'narrow', conversion_rate: 0.3, conversion_rate_ci_low: 0.25 })],
+      [segment({ segment: 'wide', rate_expected: 0.5, rate_expected_ci_low: 0.1 }), segment({ segment: 'narrow', rate_expected: 0.3, rate_expected_ci_low: 0.25 })],
       { ...DEFINITION, rank_order: 'estimate' },
     );
     expect(ranked.map((entry) => entry.segment)).toEqual(['wide', 'narrow']);
+  });
+
+  test('verdict tiers come first: better above every other tested segment, worse below them, whatever the bounds', () => {
+    const ranked = rankSegments(
+      [
+        segment({ segment: 'lucky-inconclusive', rate_expected_ci_low: 0.4 }),
+        segment({ segment: 'worse-high', verdict: 'worse', rate_expected_ci_low: 0.5 }),
+        segment({ segment: 'better-low', verdict: 'better', rate_expected_ci_low: 0.12 }),
+        segment({ segment: 'better-high', verdict: 'better', rate_expected_ci_low: 0.2 }),
+      ],
+      DEFINITION,
+    );
+    expect(ranked.map((entry) => entry.segment)).toEqual(['better-high', 'better-low', 'lucky-inconclusive', 'worse-high']);
+  });
+
+  test('a cross explained by its parent is placed right after that parent, not above it', () => {
+    const ranked = rankSegments(
+      [
+        segment({ segment: 'region=A & channel=web', verdict: 'better', explained_by: 'channel=web', rate_expected_ci_low: 0.3 }),
+        segment({ segment: 'region=B', verdict: 'better', rate_expected_ci_low: 0.25 }),
+        segment({ segment: 'channel=web', verdict: 'better', rate_expected_ci_low: 0.2 }),
+        segment({ segment: 'region=C & channel=web', verdict: 'better', explained_by: null, rate_expected_ci_low: 0.28 }),
+      ],
+      DEFINITION,
+    );
+    expect(ranked.map((entry) => [entry.segment, entry.rank])).toEqual([
+      ['region=C & channel=web', 1],
+      ['region=B', 2],
+      ['channel=web', 3],
+      ['region=A & channel=web', 4],
+    ]);
+  });
+});
+
+describe('crosses judged against their parents', () => {
+  // Invented counts: the web channel converts at 30 % in every region, the other channels at
+  // 10 %, except region D's stores, which convert at 40 % (a real interaction).
+  const rates: Record<string, number> = { web: 0.3, store: 0.1, phone: 0.1 };
+  const units = ['A', 'B', 'C', 'D'].flatMap((region) =>
+    ['web', 'store', 'phone'].flatMap((channel) => block([region, channel], 300, Math.round(300 * (region === 'D' && channel === 'store' ? 0.4 : (rates[channel] as number))))),
+  );
+  const snapshot = buildSnapshot(input(units, { definition: { ...DEFINITION, dimensions: ['region', 'channel'], crosses: [['region', 'channel']] } }));
+  const find = (label: string) => snapshot.segments.find((entry) => entry.segment === label) as SnapshotSegment;
+
+  test('a cross no different from the other members of its parent is explained by it and ranked after it', () => {
+    const cross = find('region=A & channel=web');
+    expect(cross.verdict).toBe('better');
+    expect(find('channel=web').verdict).toBe('better');
+    expect(cross.explained_by).toBe('channel=web');
+    expect(cross.rank as number).toBeGreaterThan(find('channel=web').rank as number);
+    expect(cross.summary).toMatch(/within channel web/i);
+  });
+
+  test('a cross that differs within both its parents is not explained', () => {
+    const cross = find('region=D & channel=store');
+    expect(cross.verdict).toBe('better');
+    expect(cross.explained_by).toBeNull();
+  });
+
+  test('expected rates lie between the raw rate and what the parents predict, with intervals around them', () => {
+    const cross = find('region=D & channel=store');
+    expect(cross.rate_expected as number).toBeLessThanOrEqual(cross.conversion_rate as number);
+    expect(cross.rate_expected as number).toBeGreaterThan(0.1);
+    expect(cross.rate_expected_ci_low as number).toBeLessThan(cross.rate_expected as number);
+    expect(cross.rate_expected_ci_high as number).toBeGreaterThan(cross.rate_expected as number);
+    for (const entry of snapshot.segments) expect(entry.value_expected).not.toBeNull();
   });
 });
 

@@ -37,9 +37,17 @@ function present<T>(value: T | null | undefined): value is T {
 function formattedFields(segment: PublishedSegment, snapshot: Snapshot): string[] {
   const definition = snapshot.definition;
   const texts: string[] = [formatConfidence(definition.confidence), formatCount(definition.min_n), formatCount(snapshot.row_counts.rate_tests), formatCount(snapshot.row_counts.value_tests)];
-  const percent = [segment.conversion_rate, segment.conversion_rate_ci_low, segment.conversion_rate_ci_high, segment.rest.conversion_rate];
+  const percent = [
+    segment.conversion_rate,
+    segment.conversion_rate_ci_low,
+    segment.conversion_rate_ci_high,
+    segment.rate_expected,
+    segment.rate_expected_ci_low,
+    segment.rate_expected_ci_high,
+    segment.rest.conversion_rate,
+  ];
   const points = [segment.rate_diff, segment.rate_diff_ci_low, segment.rate_diff_ci_high, segment.change?.rate_change, segment.change?.rate_change_ci_low, segment.change?.rate_change_ci_high];
-  const money = [segment.value_mean, segment.value_ci_low, segment.value_ci_high, segment.rest.value_mean];
+  const money = [segment.value_mean, segment.value_ci_low, segment.value_ci_high, segment.value_expected, segment.value_expected_ci_low, segment.value_expected_ci_high, segment.rest.value_mean];
   const signedMoney = [segment.value_diff, segment.value_diff_ci_low, segment.value_diff_ci_high, segment.change?.value_change, segment.change?.value_change_ci_low, segment.change?.value_change_ci_high];
   texts.push(...percent.filter(present).map(formatPercent));
   texts.push(...points.filter(present).map(formatPoints));

@@ -115,12 +115,13 @@ describe('the report page of a small known snapshot', () => {
       ['4', 'worse'],
       ['', 'too_small'],
     ]);
-    expect(table).toContain('<tr class="sentence"><td colspan="9"><details><summary>In words</summary><p>Sentence about channel kiosk.</p></details></td></tr></tbody>');
+    expect(table).toContain('<tr class="sentence"><td colspan="11"><details><summary>In words</summary><p>Sentence about channel kiosk.</p></details></td></tr></tbody>');
     // the readable name shows; the machine label (as in the CSV) is the tooltip and the sort key
     expect(table).toContain('<th scope="row" data-sort="channel=catalogue"><span title="channel=catalogue">catalogue</span></th>');
     expect(table).toContain('<th scope="row" data-sort="region=Northmoor"><span title="region=Northmoor">Northmoor</span></th>');
     expect(table).toContain('<th scope="col" data-type="number" aria-sort="ascending" class="num"><button type="button">Rank</button></th>');
     expect(table).toContain('<th scope="col" data-type="number" aria-sort="none" class="num"><button type="button">n</button></th>');
+    expect(table).toContain('<button type="button">Expected rate</button>');
   });
 
   test('the picker offers the snapshots and the CSV and JSON pulls are linked for the shown snapshot', async () => {

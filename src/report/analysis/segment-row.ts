@@ -17,7 +17,7 @@ export function segmentLabel(dimensions: readonly string[], values: readonly str
   return dimensions.map((dimension, index) => `${dimension}=${values[index] as string}`).join(' & ');
 }
 
-/** The segment's row before adjustment, verdict and ranking (their fields hold placeholders until then). */
+/** The segment's row before adjustment, expected figures, verdict and ranking (their fields hold placeholders until then). */
 export function segmentRow(group: Group, rest: GroupStats, statistics: SegmentStatistics, total: GroupStats, definition: ReportDefinition): PublishedSegment {
   const rate = valueOrNull(statistics.rate);
   const difference = valueOrNull(statistics.difference);
@@ -42,6 +42,9 @@ export function segmentRow(group: Group, rest: GroupStats, statistics: SegmentSt
     conversion_rate: rate?.estimate ?? null,
     conversion_rate_ci_low: rate?.interval.low ?? null,
     conversion_rate_ci_high: rate?.interval.high ?? null,
+    rate_expected: null,
+    rate_expected_ci_low: null,
+    rate_expected_ci_high: null,
     rate_diff: difference?.estimate ?? null,
     rate_diff_ci_low: difference?.interval.low ?? null,
     rate_diff_ci_high: difference?.interval.high ?? null,
@@ -54,6 +57,9 @@ export function segmentRow(group: Group, rest: GroupStats, statistics: SegmentSt
     value_mean: segmentValue.n > 0 ? segmentValue.mean : null,
     value_ci_low: valueMean?.interval.low ?? null,
     value_ci_high: valueMean?.interval.high ?? null,
+    value_expected: null,
+    value_expected_ci_low: null,
+    value_expected_ci_high: null,
     value_diff: comparison?.difference ?? null,
     value_diff_ci_low: comparison?.interval.low ?? null,
     value_diff_ci_high: comparison?.interval.high ?? null,
@@ -61,6 +67,7 @@ export function segmentRow(group: Group, rest: GroupStats, statistics: SegmentSt
     value_p_adjusted: null,
     min_detectable_diff: definition.rank_by === 'conversion_rate' ? rateMdd : valueOrNull(statistics.valueMdd),
     verdict: 'too_small',
+    explained_by: null,
     summary: '',
     withheld_below: null,
     values,
@@ -90,6 +97,7 @@ export function segmentRow(group: Group, rest: GroupStats, statistics: SegmentSt
     },
     value_n: segmentValue.n,
     rate_z: test?.z ?? null,
+    value_test: comparison?.method ?? null,
     value_t: comparison?.t ?? null,
     value_degrees_of_freedom: comparison?.degreesOfFreedom ?? null,
     effect_sizes: { cohens_h: statistics.cohensH, hedges_g: valueOrNull(statistics.hedgesG) },

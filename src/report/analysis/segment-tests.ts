@@ -17,7 +17,9 @@ import {
   notComputable,
   computed,
   standardNormalQuantile,
+  studentTTest,
   tInterval,
+  twoPartTest,
   twoProportionZTest,
   welchTTest,
   wilsonInterval,
@@ -26,8 +28,8 @@ import {
   type RateStratum,
   type MeanInterval,
   type Outcome,
+  type Interval,
   type Summary,
-  type TwoSampleTTestResult,
 } from '../../stats/index.js';
 import type { GroupStats } from '../../segments/index.js';
 import type { ValueBasis } from '../definition/index.js';
@@ -40,6 +42,45 @@ const PLANNING_POWER = 0.8;
  * below 5 (common practice: the rule of thumb for the normal approximation).
  */
 const MIN_EXPECTED_CELL_COUNT = 5;
+
+/**
+ * The value is compared only when the segment and the rest each have at least this many
+ * converted units: below it the segment's value is one or no purchase, which says nothing
+ * about its customers (with none, every unit is worth 0 and a test would only restate the
+ * conversion rate).
+ */
+const MIN_CONVERSIONS_FOR_VALUE_TEST = 2;
+
+/**
+ * The value comparison of a segment with the rest: the difference of means with Welch's
+ * interval (unequal variances; its coverage under skewed revenue is measured in
+ * bench/calibration/value-test.ts), and a test of no difference that keeps its size under
+ * skewed revenue. When the logarithms of the positive values are known for both sides (from
+ * the value counts), Lachenbruch's two-part test (`two_part`): share of positive values and
+ * mean log of the positive values. Otherwise (groups too large to be read value by value,
+ * where the sample mean is near normal) Student's pooled t (`pooled_t`), whose variance is the
+ * one the null hypothesis implies (segment and rest drawn from one distribution): the
+ * large-sample form of the Fisher–Pitman permutation test of the means. Welch's own test
+ * divides by the segment's variance, which under skewed revenue is small exactly when the
+ * segment's mean is small, so it called segments "worse" far too often.
+ */
+export interface ValueComparison {
+  method: 'two_part' | 'pooled_t';
+  difference: number;
+  interval: Interval;
+  /** Student's t (of the means for pooled_t, of the mean logs for two_part) */
+  t: number;
+  /** degrees of freedom of pooled_t; null for two_part (referred to chi-square with 2) */
+  degreesOfFreedom: number | null;
+  pValue: number;
+}
+
+/** One side of a value comparison: the metric's summary, the converted units, and the summary of the logs of its positive values when known. */
+export interface ValueSide {
+  summary: Summary;
+  conversions: number;
+  logPositive: Summary | null;
+}
 
 export interface RateTest {
   kind: 'z' | 'fisher' | 'cmh';
@@ -61,7 +102,7 @@ export interface SegmentStatistics {
   segmentValue: Summary;
   restValue: Summary;
   valueMean: Outcome<MeanInterval>;
-  valueComparison: Outcome<TwoSampleTTestResult>;
+  valueComparison: Outcome<ValueComparison>;
   hedgesG: Outcome<number>;
   /** minimum detectable rate difference upwards and downwards at 80 % power, at the per-test level */
   rateMdd: { increase: Outcome<number>; decrease: Outcome<number> };
@@ -118,6 +159,34 @@ export function rateTest(x1: number, n1: number, x2: number, n2: number): Outcom
 }
 
 /**
+ * The value comparison described at `ValueComparison`, or the reason it is not made: too few
+ * converted units in the segment or the rest, or values that do not vary.
+ * @throws StatsInputError for an invalid summary (from the statistics core)
+ */
+export function valueTest(segment: ValueSide, rest: ValueSide, confidence: number): Outcome<ValueComparison> {
+  const fewest = Math.min(segment.conversions, rest.conversions);
+  if (fewest < MIN_CONVERSIONS_FOR_VALUE_TEST) {
+    const who = segment.conversions < MIN_CONVERSIONS_FOR_VALUE_TEST ? 'the segment' : 'the rest';
+    const count = segment.conversions < MIN_CONVERSIONS_FOR_VALUE_TEST ? segment.conversions : rest.conversions;
+    return notComputable(
+      `The value comparison is not made: ${who} has ${count} converted ${count === 1 ? 'unit' : 'units'}, fewer than the ${MIN_CONVERSIONS_FOR_VALUE_TEST} it needs to say anything about value.`,
+    );
+  }
+  const interval = welchTTest(segment.summary, rest.summary, confidence);
+  if (!interval.ok) return interval;
+  const { difference } = interval.value;
+  if (segment.logPositive !== null && rest.logPositive !== null && segment.logPositive.n >= 2 && rest.logPositive.n >= 2) {
+    const twoPart = twoPartTest({ n: segment.summary.n, logPositive: segment.logPositive }, { n: rest.summary.n, logPositive: rest.logPositive });
+    if (twoPart.ok) {
+      return computed({ method: 'two_part', difference, interval: interval.value.interval, t: twoPart.value.t, degreesOfFreedom: null, pValue: twoPart.value.pValue });
+    }
+  }
+  const test = studentTTest(segment.summary, rest.summary, confidence);
+  if (!test.ok) return test;
+  return computed({ method: 'pooled_t', difference, interval: interval.value.interval, t: test.value.t, degreesOfFreedom: test.value.degreesOfFreedom, pValue: test.value.pValue });
+}
+
+/**
  * Minimum detectable difference of two means at the given power, by the normal
  * approximation d = (z(1 − α/2) + z(power))·√(s₁²/n₁ + s₂²/n₂) with the observed standard
  * deviations (unpooled, as Welch's test). Source: Cohen, J. (1988), Statistical Power
@@ -146,7 +215,13 @@ function minimumDetectableMeanDifference(a: Summary, b: Summary, alpha: number, 
  * @example
  * analyzeSegment(segmentStats, restStats, { confidence: 0.95, minN: 30, valueBasis: 'per_unit' });
  */
-export function analyzeSegment(segment: GroupStats, rest: GroupStats, settings: AnalysisSettings, campaignStrata: readonly RateStratum[] | null = null): SegmentStatistics {
+export function analyzeSegment(
+  segment: GroupStats,
+  rest: GroupStats,
+  settings: AnalysisSettings,
+  campaignStrata: readonly RateStratum[] | null = null,
+  logPositive: { segment: Summary | null; rest: Summary | null } = { segment: null, rest: null },
+): SegmentStatistics {
   const { confidence, minN, valueBasis, detectionAlpha: alpha } = settings;
   const untestedReason = segment.n < minN ? 'segment_too_small' : rest.n < minN ? 'rest_too_small' : null;
   const tested = untestedReason === null;
@@ -207,7 +282,11 @@ export function analyzeSegment(segment: GroupStats, rest: GroupStats, settings: 
     segmentValue,
     restValue,
     valueMean,
-    valueComparison: welchTTest(segmentValue, restValue, confidence),
+    valueComparison: valueTest(
+      { summary: segmentValue, conversions: segment.conversions, logPositive: logPositive.segment },
+      { summary: restValue, conversions: rest.conversions, logPositive: logPositive.rest },
+      confidence,
+    ),
     hedgesG: hedgesG(segmentValue, restValue),
     rateMdd,
     valueMdd,

@@ -27,6 +27,11 @@ export const SegmentRow = Type.Object({
   conversion_rate: NullableNumber(),
   conversion_rate_ci_low: NullableNumber(),
   conversion_rate_ci_high: NullableNumber(),
+  rate_expected: NullableNumber(
+    "the segment's conversion rate after allowing for chance: an empirical-Bayes estimate drawn toward what its parents predict (the population for a one-way segment); the ranking uses it",
+  ),
+  rate_expected_ci_low: NullableNumber('lower end of the interval of rate_expected, at the report confidence'),
+  rate_expected_ci_high: NullableNumber('upper end of the interval of rate_expected, at the report confidence'),
   rate_diff: NullableNumber('segment rate − rest rate (Newcombe hybrid score interval)'),
   rate_diff_ci_low: NullableNumber(),
   rate_diff_ci_high: NullableNumber(),
@@ -43,15 +48,24 @@ export const SegmentRow = Type.Object({
   value_mean: NullableNumber('major currency units, per the report value_basis'),
   value_ci_low: NullableNumber(),
   value_ci_high: NullableNumber(),
-  value_diff: NullableNumber('segment mean − rest mean (Welch)'),
+  value_expected: NullableNumber("the segment's value mean after allowing for chance (empirical Bayes, as rate_expected), major currency units"),
+  value_expected_ci_low: NullableNumber(),
+  value_expected_ci_high: NullableNumber(),
+  value_diff: NullableNumber('segment mean − rest mean; the interval is Welch\'s'),
   value_diff_ci_low: NullableNumber(),
   value_diff_ci_high: NullableNumber(),
-  value_p_value: NullableNumber(),
+  value_p_value: NullableNumber(
+    "Lachenbruch's two-part test (share of positive values and mean log of the positive values), or Student's pooled t when the values were not read one by one; null when the segment or the rest has fewer than 2 converted units",
+  ),
   value_p_adjusted: NullableNumber(),
   min_detectable_diff: NullableNumber(
     'at 80% power at the per-test level the adjustment implies (α/m for bh and holm, α for none), in the direction of the observed difference, in the unit of the ranking metric: a rate difference (fraction) or money (major units)',
   ),
   verdict: Verdict,
+  explained_by: nullable(Type.String(), {
+    description:
+      'two-way segments: the label of the parent (one-way) segment that explains its better or worse verdict, because within that parent the segment shows no difference; null otherwise',
+  }),
   summary: Type.String(),
   withheld_below: nullable(Type.Integer(), {
     description:
@@ -127,8 +141,13 @@ export const SnapshotSegment = Type.Object({
   rest: nullable(RestFigures, { description: 'null when the segment is withheld' }),
   value_n: nullable(Type.Integer(), { description: 'units behind value_mean: every unit (per_unit) or the converted ones (per_conversion); null when withheld' }),
   rate_z: NullableNumber(),
-  value_t: NullableNumber(),
-  value_degrees_of_freedom: NullableNumber(),
+  value_test: Type.Unsafe<'two_part' | 'pooled_t' | null>({
+    type: ['string', 'null'],
+    enum: ['two_part', 'pooled_t', null],
+    description: 'the test behind value_p_value: two_part (Lachenbruch) or pooled_t (Student); null when not compared',
+  }),
+  value_t: NullableNumber('t of the mean logs (two_part) or of the means (pooled_t)'),
+  value_degrees_of_freedom: NullableNumber('of pooled_t; null for two_part (chi-square with 2 degrees of freedom)'),
   effect_sizes: Type.Object({ cohens_h: NullableNumber(), hedges_g: NullableNumber() }),
   sufficient_statistics: nullable(
     Type.Object({

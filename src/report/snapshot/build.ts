@@ -9,7 +9,10 @@ import { cellStats, groupBy, rollUp, subtractGroup, type GroupStats } from '../.
 import {
   analyzeSegment,
   comparisonBasis,
+  expectedFigures,
+  explainingParent,
   findReversals,
+  positiveLogSummaries,
   rankSegments,
   recordChanges,
   campaignStrata,
@@ -58,9 +61,17 @@ export function buildSnapshot(input: SnapshotInput): Snapshot {
   };
   const strataOf = campaignStrata(input.strata ?? [], definition.dimensions);
 
+  const logs = positiveLogSummaries({
+    dimensions: definition.dimensions,
+    cells: cellGroups,
+    valueCounts: input.valueCounts,
+    populationValueCounts: input.populationValueCounts,
+    basis,
+  });
   const analysed = groups.map((group) => {
     const rest = subtractGroup(total, group.stats);
-    const statistics = analyzeSegment(group.stats, rest, settings, strataOf(group));
+    const segmentLogs = logs.of(group);
+    const statistics = analyzeSegment(group.stats, rest, settings, strataOf(group), { segment: logs.summary(segmentLogs), rest: logs.summary(logs.without(logs.total, segmentLogs)) });
     const segment = segmentRow(group, rest, statistics, total, definition);
     segment.mirror_of = mirrors.get(segment.segment) ?? null;
     return { group, statistics, segment };
@@ -93,6 +104,22 @@ export function buildSnapshot(input: SnapshotInput): Snapshot {
     if (segment.equivalence.value) segment.equivalence.value.p_adjusted = twin.equivalence.value?.p_adjusted ?? null;
   }
   for (const { segment } of analysed) segment.verdict = segmentVerdict(segment, definition);
+  const expected = expectedFigures(
+    analysed.map(({ group }) => group),
+    total,
+    { confidence: definition.confidence, valueBasis: basis },
+  );
+  analysed.forEach(({ segment }, index) => {
+    const { rate, value } = expected[index] ?? { rate: null, value: null };
+    segment.rate_expected = rate?.estimate ?? null;
+    segment.rate_expected_ci_low = rate?.low ?? null;
+    segment.rate_expected_ci_high = rate?.high ?? null;
+    segment.value_expected = value?.estimate ?? null;
+    segment.value_expected_ci_low = value?.low ?? null;
+    segment.value_expected_ci_high = value?.high ?? null;
+  });
+  const oneWayByLabel = new Map(analysed.filter(({ group }) => group.dimensions.length === 1).map((entry) => [entry.segment.segment, entry]));
+  for (const entry of analysed) entry.segment.explained_by = explainingParent(entry, oneWayByLabel, definition, logs);
   const rateTests = rateAdjusted.filter((value) => value !== null).length;
   const valueTests = valueAdjusted.filter((value) => value !== null).length;
 

@@ -9,6 +9,7 @@ import type { ReportDefinition } from '../definition/index.js';
 import { isPublished, type EquivalenceTest, type PublishedSegment, type SnapshotSegment, type Verdict } from '../shapes/index.js';
 import { metricView, type MetricView } from './metric-view.js';
 import { describeSegment, type Vocabulary } from './vocabulary.js';
+import { expectedSentence, explainedSentence } from './expected-sentences.js';
 
 function capitalize(text: string): string {
   return text.charAt(0).toUpperCase() + text.slice(1);
@@ -51,6 +52,12 @@ function missingReason(segment: PublishedSegment, metric: ReportDefinition['rank
   }
   if (segment.value_n < 2) return `The ${words.valueName} could not be compared: the segment has fewer than two ${words.units} with a value.`;
   if (segment.rest.value_n < 2) return `The ${words.valueName} could not be compared: the rest has fewer than two ${words.units} with a value.`;
+  if (segment.value_p_value === null && segment.conversions < 2) {
+    return `The ${words.valueName} was not compared: the segment has fewer than two converted ${words.units}, too few to say anything about value.`;
+  }
+  if (segment.value_p_value === null && segment.rest.conversions < 2) {
+    return `The ${words.valueName} was not compared: the rest has fewer than two converted ${words.units}, too few to say anything about value.`;
+  }
   if (segment.value_p_value === null) return `The ${words.valueName} could not be compared: the values do not vary within the segment and the rest.`;
   return '';
 }
@@ -222,5 +229,5 @@ function withheldSentence(segment: SnapshotSegment, context: SentenceContext): s
  */
 export function segmentSummary(segment: SnapshotSegment, context: SentenceContext): string {
   if (!isPublished(segment)) return withheldSentence(segment, context);
-  return `${mainSentence(segment, context)}${mirrorSentence(segment)}${secondarySentence(segment, context)}${changeSentence(segment, context)}${rankSentence(segment, context)}`;
+  return `${mainSentence(segment, context)}${mirrorSentence(segment)}${explainedSentence(segment, context)}${expectedSentence(segment, context)}${secondarySentence(segment, context)}${changeSentence(segment, context)}${rankSentence(segment, context)}`;
 }
