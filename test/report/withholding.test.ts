@@ -149,10 +149,11 @@ describe('withholding segments', () => {
   });
 
   test('a change against a previous count below the threshold is dropped', () => {
-    const before = buildSnapshot(input([...block(['Brackenmoor', 'web'], 100, 9), ...block(['Saltmere', 'web'], 25, 3), ...block(['Saltmere', 'mail'], 4, 1)], 1));
+    // Contacts are only added between the snapshots, so each change compares the new ones with the earlier ones.
+    const before = buildSnapshot(input([...block(['Brackenmoor', 'web'], 60, 9), ...block(['Saltmere', 'web'], 25, 3), ...block(['Saltmere', 'mail'], 4, 1)], 1));
     const after = buildSnapshot(input(UNITS, 10, { previousSnapshot: before }));
-    // Saltmere & mail had 4 units before and has 14 now; Brackenmoor & mail was absent (0) before.
-    expect(byName(after, 'region=Brackenmoor').change?.previous_n).toBe(100);
+    // Mail had 4 units before (Saltmere) and has 54 now; Brackenmoor had 60 and has 100.
+    expect(byName(after, 'region=Brackenmoor').change?.previous_n).toBe(60);
     const mail = after.segments.find((segment) => segment.segment === 'channel=mail');
     expect(mail?.change).toBeNull();
   });

@@ -200,14 +200,14 @@ describe('the top of the page: the decision', () => {
 
   test('it names the segment to target, the one to avoid and the uncertain one, each with its expected rate, interval and n', () => {
     const section = /<section aria-labelledby="decision-heading"[\s\S]*?<\/section>/.exec(page)?.[0] ?? '';
-    expect(section).toContain('Of 4 segments tested on conversion rate, 1 does better than the rest, 1 does worse, 1 is still too uncertain to call and 1 shows no detectable difference; 1 is too small to test.');
+    expect(section).toContain('Of 4 segments tested on conversion rate, 1 does better than the rest, 1 does worse, 1 is still too uncertain to call and 1 is equivalent to the rest within the margin; 1 is too small to test.');
     // catalogue: 60 of 250 = 24.0%; the fixture's interval is ±20% of the rate, the rest converts at 10%
     expect(section).toMatch(/id="decision-target"><h3>▲ Target \(1\)<\/h3>[\s\S]*<li><strong>catalogue<\/strong>: 24\.0% \(19\.2% to 28\.8%\) vs 10\.0% for the rest; n 250<\/li>/);
     // the markup-named region is escaped here too: 8 of 200 = 4.0%
     expect(section).toContain(`id="decision-avoid"><h3>▼ Avoid or rethink (1)</h3>`);
     expect(section).toContain(`<li><strong>${escapeHtml(HOSTILE_IMAGE)}</strong>: 4.0% (3.2% to 4.8%) vs 10.0% for the rest; n 200</li>`);
     expect(section).toContain(`<li><strong>${escapeHtml(HOSTILE_SCRIPT)}</strong>: 15.0% (12.0% to 18.0%) vs 10.0% for the rest; n 120</li>`);
-    expect(section).toContain('1 segment behaves like the rest as far as this data can tell: plan it like everyone else.');
+    expect(section).toContain('1 segment is equivalent to the rest within the equivalence margin: plan it like everyone else.');
     expect(section).not.toContain('Northmoor');
   });
 

@@ -128,6 +128,16 @@ const WITHHELD_FIGURES = [
   'value_diff',
   'value_diff_ci_low',
   'value_diff_ci_high',
+  // The expected figures are drawn from the segment's own counts: as telling as the raw ones.
+  'rate_expected',
+  'rate_expected_ci_low',
+  'rate_expected_ci_high',
+  'value_expected',
+  'value_expected_ci_low',
+  'value_expected_ci_high',
+  'explained_by',
+  'value_test',
+  'strata',
   'value_p_value',
   'value_p_adjusted',
   'min_detectable_diff',
@@ -143,7 +153,19 @@ const WITHHELD_FIGURES = [
 ] as const satisfies ReadonlyArray<keyof SnapshotSegment>;
 
 function withheldSegment(segment: SnapshotSegment, threshold: number): SnapshotSegment {
-  const copy: SnapshotSegment = { ...segment, rank: null, verdict: 'too_small', tested: false, withheld_below: threshold, effect_sizes: { cohens_h: null, hedges_g: null }, notes: [] };
+  const copy: SnapshotSegment = {
+    ...segment,
+    rank: null,
+    verdict: 'too_small',
+    tested: false,
+    withheld_below: threshold,
+    effect_sizes: { cohens_h: null, hedges_g: null },
+    // An equivalence p-value is computed from the segment's counts too; the mirror relation
+    // concerns tests the withheld segment does not show, and would name a label erasure removes.
+    equivalence: { conversion_rate: null, value: null },
+    mirror_of: null,
+    notes: [],
+  };
   for (const field of WITHHELD_FIGURES) (copy as Record<string, unknown>)[field] = null;
   return copy;
 }
