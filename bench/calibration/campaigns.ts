@@ -6,7 +6,7 @@
  * customers are contacted in both campaigns and carry their own propensity to buy, so the
  * two campaigns' contacts of one customer are correlated, as in real data.
  */
-import type { CampaignCellCount, CellAggregate } from '../../src/segments/index.js';
+import { emptyCell, type CampaignCellCount, type CellAggregate } from '../../src/segments/index.js';
 import { buildSnapshot } from '../../src/report/snapshot/index.js';
 import type { SnapshotSegment } from '../../src/report/shapes/index.js';
 import { seededRandom, type Random } from './random.js';
@@ -41,15 +41,7 @@ function draw(random: Random): Drawn {
       const converted = random.bernoulli(expit(logit(CAMPAIGN_RATES[campaign]) + propensity));
       const labels = [region];
       const key = JSON.stringify(labels);
-      const cell = cells.get(key) ?? {
-        labels,
-        n: 0,
-        conversions: 0,
-        unitValue: { n: 0, sum: 0n, squares: 0n },
-        convertedValue: { n: 0, sum: 0n, squares: 0n },
-        age: { n: 0, sumOfShifted: 0, sumOfSquaredShifted: 0 },
-        ageValue: { n: 0, ageSum: 0, ageSquaredSum: 0, valueSum: 0, valueSquaredSum: 0, crossSum: 0 },
-      };
+      const cell = cells.get(key) ?? emptyCell(labels);
       cell.n += 1;
       cell.unitValue.n += 1;
       if (converted) {

@@ -7,7 +7,7 @@
  * population truth (the expected shares of its cells), not the realized sample, so a segment
  * of a dimension without effect has a true difference of exactly zero.
  */
-import type { CellAggregate, ValueCount } from '../../src/segments/index.js';
+import { emptyCell, type CellAggregate, type ValueCount } from '../../src/segments/index.js';
 import type { ReportDefinition } from '../../src/report/definition/index.js';
 import type { Snapshot, SnapshotSegment } from '../../src/report/shapes/index.js';
 import { buildSnapshot, type SnapshotInput } from '../../src/report/snapshot/index.js';
@@ -91,19 +91,6 @@ function cellDesigns(scenario: Scenario): CellDesign[] {
     const meanLog = orderValue.meanLog(design.labels);
     return { ...design, rate: scenario.rateOf(design.labels), meanLog, meanOrderValue: Math.exp(meanLog + (orderValue.sigma * orderValue.sigma) / 2) };
   });
-}
-
-/** Cell sums in cents, exact, as the cell query returns them. */
-function emptyCell(labels: string[]): CellAggregate {
-  return {
-    labels,
-    n: 0,
-    conversions: 0,
-    unitValue: { n: 0, sum: 0n, squares: 0n },
-    convertedValue: { n: 0, sum: 0n, squares: 0n },
-    age: { n: 0, sumOfShifted: 0, sumOfSquaredShifted: 0 },
-    ageValue: { n: 0, ageSum: 0, ageSquaredSum: 0, valueSum: 0, valueSquaredSum: 0, crossSum: 0 },
-  };
 }
 
 export interface DrawnUnits {

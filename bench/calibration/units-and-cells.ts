@@ -9,6 +9,7 @@ import type { ReportDefinition } from '../../src/report/definition/index.js';
 import type { Snapshot } from '../../src/report/shapes/index.js';
 import { buildSnapshot } from '../../src/report/snapshot/index.js';
 import type { CellAggregate } from '../../src/segments/index.js';
+import { simulationDefinition } from './simulate.js';
 import { segmentLabel } from '../../src/report/analysis/segment-row.js';
 
 export interface CalibrationOptions {
@@ -91,23 +92,7 @@ function definitionFor(scenario: CampaignScenario, overrides: Partial<ReportDefi
   const names = scenario.dimensions.map((dimension) => dimension.name);
   const crosses: Array<[string, string]> = [];
   names.forEach((first, index) => names.slice(index + 1).forEach((second) => crosses.push([first, second])));
-  return {
-    name: scenario.name,
-    source: { campaign_ids: ['simulated'] },
-    dimensions: names,
-    crosses,
-    age_bands: [18, 25, 35, 45, 55, 65],
-    min_n: 30,
-    confidence: 0.95,
-    equivalence_margin: 0.02,
-    value_equivalence_margin: null,
-    adjustment: 'bh',
-    value_basis: 'per_unit',
-    rank_by: 'conversion_rate',
-    rank_order: 'lower_bound',
-    refresh: 'manual',
-    ...overrides,
-  };
+  return simulationDefinition(names, { name: scenario.name, crosses, ...overrides });
 }
 
 /** Uneven label shares, like real dimensions: one or two large labels and a tail. */

@@ -136,7 +136,8 @@ export interface AgeCount {
   count: number;
 }
 
-function emptyCell(values: string[]): CellAggregate {
+/** A cell with no units yet: the start of every fold and of simulated cells. */
+export function emptyCell(values: string[]): CellAggregate {
   return {
     labels: values,
     n: 0,

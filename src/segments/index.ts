@@ -14,7 +14,7 @@
 export { binIndex, gridCountsOf, valueCountsByAgeBin, valueCountsOf } from './age-value-grid.js';
 export type { AgeValueBinCount, AgeValueGridAxes, GridAxis, PopulationValueCount } from './age-value-grid.js';
 
-export { cellAggregates, shiftsAndCellAggregates } from './cells.js';
+export { cellAggregates, emptyCell, shiftsAndCellAggregates } from './cells.js';
 export type { AgeCount, CampaignCellCount, CellAggregate } from './cells.js';
 
 export { sourceQuality } from './data-quality.js';
