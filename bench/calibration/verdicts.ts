@@ -73,7 +73,7 @@ function nullFigures(options: CalibrationOptions): CalibrationFigure[] {
       const { snapshot } = simulateReport(seededRandom(options.seed + replicate), nullScenario(adjustment));
       if (snapshot.segments.some(isDiscovery)) reportsWithDiscovery += 1;
     }
-    const rule = `no effect anywhere, adjustment ${adjustment}: reports with any better/worse (= FDR and family-wise error under the null; nominal 5 %)`;
+    const rule = `no effect anywhere, adjustment ${adjustment}: reports with any better/worse (= FDR and family-wise error under the null${adjustment === 'none' ? '' : '; nominal 5 %'})`;
     if (adjustment === 'none') return information(rule, reportsWithDiscovery, options.replicates);
     // Under the complete null every discovery is false, so this share is the false-discovery
     // rate, whose target is 10 %. The adjustments aim at 5 %; the measured excess over 5 % is
