@@ -5,7 +5,7 @@
  * `buildSnapshot` the service uses.
  */
 import { seededRandom } from '../../seed/generate.js';
-import type { ReportDefinition } from '../../src/report/definition/index.js';
+import { DEFAULT_EQUIVALENCE_MARGIN, type ReportDefinition } from '../../src/report/definition/index.js';
 import type { Snapshot } from '../../src/report/shapes/index.js';
 import { buildSnapshot } from '../../src/report/snapshot/index.js';
 import type { CellAggregate } from '../../src/segments/index.js';
@@ -99,13 +99,15 @@ function definitionFor(scenario: CampaignScenario, overrides: Partial<ReportDefi
     age_bands: [18, 25, 35, 45, 55, 65],
     min_n: 30,
     confidence: 0.95,
+    equivalence_margin: DEFAULT_EQUIVALENCE_MARGIN,
+    value_equivalence_margin: null,
     adjustment: 'bh',
     value_basis: 'per_unit',
     rank_by: 'conversion_rate',
     rank_order: 'lower_bound',
     refresh: 'manual',
     ...overrides,
-  } as ReportDefinition;
+  };
 }
 
 /** Uneven label shares, like real dimensions: one or two large labels and a tail. */
