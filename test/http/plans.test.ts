@@ -1,5 +1,6 @@
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
 import type { Snapshot } from '../../src/report/shapes/index.js';
+import { createKey } from '../../src/auth/keys.js';
 import { planHoldoutCampaign } from '../../src/stats/index.js';
 import { TEST_DIALECTS } from '../support/database.js';
 import { createTestApp, type TestApp } from '../support/app.js';
@@ -118,5 +119,30 @@ describe.each(TEST_DIALECTS)('campaign plans (%s)', (dialect) => {
     expect((await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/plan` })).statusCode).toBe(400);
     expect((await context.app.inject({ method: 'GET', url: '/v1/reports/no-such-report/plan?min_uplift=0.01' })).statusCode).toBe(404);
     expect((await context.app.inject({ method: 'GET', url: `/v1/reports/${emptyReportId}/plan?min_uplift=0.01` })).statusCode).toBe(404);
+  });
+});
+
+describe.each(TEST_DIALECTS)('who may plan (%s)', (dialect) => {
+  let context: TestApp;
+  beforeAll(async () => {
+    context = await createTestApp(dialect, { authMode: 'keys' });
+  });
+  afterAll(async () => {
+    await context.close();
+  });
+
+  test('a read key may ask for a plan; an ingest key and no key may not', async () => {
+    const ask = (authorization?: string) =>
+      context.app.inject({
+        method: 'POST',
+        url: '/v1/plans',
+        payload: { baseline_rate: 0.1, min_uplift: 0.05 },
+        headers: authorization === undefined ? {} : { authorization },
+      });
+    const reader = await createKey(context.database.handle.db, 'read', 'planner');
+    const ingest = await createKey(context.database.handle.db, 'ingest', 'uploads');
+    expect((await ask(`Bearer ${reader.key}`)).statusCode).toBe(200);
+    expect((await ask(`Bearer ${ingest.key}`)).statusCode).toBe(403);
+    expect((await ask()).statusCode).toBe(401);
   });
 });
