@@ -22,7 +22,7 @@ function planSentence(request: Required<PlanRequest>, plan: HoldoutCampaignPlan)
       : `at ${percentOf(request.confidence)} confidence over ${formatCount(request.segments)} segments (two-sided α = ${Number(plan.alphaPerTest.toPrecision(4))} per segment)`;
   const total = request.segments === 1 ? '' : `; ${formatCount(plan.totalContacts)} customers over the ${formatCount(request.segments)} segments`;
   return (
-    `To detect a rise of ${formatPointsMagnitude(request.min_uplift)} points from ${formatPercent(request.baseline_rate)} to ${formatPercent(request.baseline_rate + request.min_uplift)} ` +
+    `To detect a rise of ${formatPointsMagnitude(request.min_uplift)} percentage points from ${formatPercent(request.baseline_rate)} to ${formatPercent(request.baseline_rate + request.min_uplift)} ` +
     `with ${percentOf(request.power)} power ${across}, each segment needs ${formatCount(plan.holdoutPerSegment)} customers held back and ` +
     `${formatCount(plan.treatedPerSegment)} contacted (${formatCount(plan.contactsPerSegment)} in all, ${percentOf(request.holdout_share)} held back)${total}.`
   );

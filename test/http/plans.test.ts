@@ -52,7 +52,7 @@ describe.each(TEST_DIALECTS)('campaign plans (%s)', (dialect) => {
     expect(body).toMatchObject({ holdout_share: 0.2, power: 0.8, holdout_per_segment: 5790, treated_per_segment: 23157, contacts_per_segment: 28947, total_contacts: 86841 });
     expect(body.alpha_per_test).toBeCloseTo(0.05 / 3, 14);
     expect(body.sentence).toBe(
-      'To detect a rise of 1.0 points from 4.0% to 5.0% with 80% power at 95% confidence over 3 segments (two-sided α = 0.01667 per segment), each segment needs 5,790 customers held back and 23,157 contacted (28,947 in all, 20% held back); 86,841 customers over the 3 segments.',
+      'To detect a rise of 1.0 percentage points from 4.0% to 5.0% with 80% power at 95% confidence over 3 segments (two-sided α = 0.01667 per segment), each segment needs 5,790 customers held back and 23,157 contacted (28,947 in all, 20% held back); 86,841 customers over the 3 segments.',
     );
   });
 
