@@ -15,6 +15,7 @@ import { healthRoutes } from './http/health-routes.js';
 import { ingestRoutes } from './http/ingest-routes.js';
 import { openapiRoutes } from './http/openapi-routes.js';
 import { pageRoutes } from './http/page-routes.js';
+import { planRoutes } from './http/plan-routes.js';
 import { reportRoutes } from './http/report-routes.js';
 import type { IngestDependencies } from './ingest/service.js';
 import type { Logger } from './logger.js';
@@ -105,6 +106,7 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
   await app.register(openapiRoutes);
   await app.register(ingestRoutes, ingest);
   await app.register(reportRoutes, { reports, tables });
+  await app.register(planRoutes, { reports });
   await app.register(pageRoutes, { reports, charts, openMode: deps.config.authMode === 'open' });
   if (deps.config.scheduleEnabled) {
     await app.register(refreshSchedulePlugin, { reports, cron: deps.config.refreshCron, timeZone: deps.config.refreshTimeZone });

@@ -1,5 +1,6 @@
 /**
- * The `segrank` command line: `segrank demo`, and the operator commands added beside it.
+ * The `segrank` command line: `segrank demo`, and the operator commands added beside it
+ * (`keys`, `refresh`, `plan`).
  * Each command reads the same configuration (DATABASE_URL …) as the service.
  */
 import fs from 'node:fs';
@@ -27,6 +28,10 @@ const commands: Record<string, { summary: string; run: Command }> = {
   demo: {
     summary: 'create the database, load the invented demo data, start the service and print URLs to try',
     run: async (args, config) => (await import('../seed/demo.js')).runDemo(args, config),
+  },
+  plan: {
+    summary: 'customers to hold back and contact per segment in the next campaign (--baseline-rate R --min-uplift D, or --report ID --min-uplift D)',
+    run: async (args, config) => (await import('./plan/command.js')).runPlanCommand(args, config),
   },
   refresh: {
     summary: 'refresh every weekly report now (for an external scheduler); --all for every report, or name report ids',

@@ -32,6 +32,8 @@ export const ROUTE_ACCESS: Record<string, Access> = {
   'GET /v1/reports/:report_id/snapshots': ['read'],
   'GET /v1/reports/:report_id/snapshots/:snapshot_id': ['read'],
   'GET /v1/reports/:report_id/segments': ['read'],
+  'GET /v1/reports/:report_id/plan': ['read'],
+  'POST /v1/plans': ['read'],
   'GET /reports/:report_id': ['read'],
 };
 

@@ -7,6 +7,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { isScalar, parseDocument, visit, type Node } from 'yaml';
+import { Plan, PlanRequest, ReportPlan, SegmentPlan } from '../plan/index.js';
 import { ReportDefinition, ReportDefinitionBody, ReportSource } from '../report/definition/index.js';
 import {
   Correlation,
@@ -55,6 +56,10 @@ const COMPONENTS: Record<string, object> = {
   DimensionProfile,
   DataQuality,
   Snapshot,
+  PlanRequest,
+  Plan,
+  SegmentPlan,
+  ReportPlan,
 };
 
 /** A plain copy of `schema` in which every nested component is replaced by a reference to it. */

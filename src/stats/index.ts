@@ -81,6 +81,8 @@ export {
   twoProportionSampleSize,
   twoSampleTPower,
   twoSampleTSampleSize,
+  unequalTwoProportionPower,
+  unequalTwoProportionSampleSize,
 } from './power.js';
 export type {
   MinimumDetectableRateDifferenceInput,
@@ -88,7 +90,11 @@ export type {
   TwoProportionSampleSizeInput,
   TwoSampleTPowerInput,
   TwoSampleTSampleSizeInput,
+  UnequalTwoProportionSampleSizeInput,
 } from './power.js';
+
+export { planHoldoutCampaign } from './campaign-plan.js';
+export type { HoldoutCampaignPlan, HoldoutCampaignPlanInput } from './campaign-plan.js';
 
 export { meanEquivalenceTest, rateEquivalenceTest } from './equivalence.js';
 export type { EquivalenceTestResult } from './equivalence.js';

@@ -306,3 +306,66 @@ export function minimumDetectableRateDifference(input: MinimumDetectableRateDiff
   }
   return computed(difference);
 }
+
+/** Inputs of `unequalTwoProportionSampleSize`. */
+export interface UnequalTwoProportionSampleSizeInput {
+  /** rate of group 1 (for a campaign: the holdout) */
+  readonly p1: number;
+  /** rate of group 2 (the contacted customers) */
+  readonly p2: number;
+  /** r = n₂ / n₁, the size of group 2 per unit of group 1 */
+  readonly ratio: number;
+  readonly power: number;
+  /** two-sided significance level, default 0.05 */
+  readonly alpha?: number;
+}
+
+/**
+ * Units in each of two groups of unequal size for the two-sided pooled two-proportion z-test
+ * to reach a given power, normal approximation without continuity correction, the opposite
+ * tail ignored (as R's strict = FALSE). With r = n₂/n₁, p̄ = (p₁ + r·p₂)/(1 + r), q = 1 − p:
+ * n₁ = (z(1 − α/2)·√((r + 1)·p̄q̄) + z(power)·√(r·p₁q₁ + p₂q₂))² / (r·(p₂ − p₁)²), n₂ = r·n₁.
+ * Source: Fleiss, Levin & Paik (2003), Statistical Methods for Rates and Proportions, 3rd
+ * ed., §4.4 "unequal sample sizes" (the formula before their continuity correction; section
+ * number from memory). With r = 1 it is R's `power.prop.test`; at the answer the power of the
+ * pooled test (`pooledTestPower`) is exactly the target. Not rounded: round each group up.
+ * Undefined (with a reason) when p₁ = p₂ or the target power is below what any size gives.
+ * @throws StatsInputError when a rate is outside [0, 1], `ratio` ≤ 0, or `alpha`/`power` outside (0, 1)
+ * @example
+ * unequalTwoProportionSampleSize({ p1: 0.1, p2: 0.15, ratio: 4, power: 0.8 }); // { ok: true, value: { n1: 444.50967…, n2: 1778.0387… } }
+ */
+export function unequalTwoProportionSampleSize(input: UnequalTwoProportionSampleSizeInput): Outcome<{ n1: number; n2: number }> {
+  const { p1, p2, ratio, power, alpha = 0.05 } = input;
+  requireClosedUnitInterval('p1', p1);
+  requireClosedUnitInterval('p2', p2);
+  requirePositiveSize('ratio', ratio, 0);
+  requireOpenUnitInterval('power', power);
+  requireOpenUnitInterval('alpha', alpha);
+  if (p1 === p2) return notComputable('The sample size is undefined: the two rates are equal, so there is no difference to detect.');
+  const pooled = (p1 + ratio * p2) / (1 + ratio);
+  const numerator =
+    standardNormalQuantile(1 - alpha / 2) * Math.sqrt((ratio + 1) * pooled * (1 - pooled)) +
+    standardNormalQuantile(power) * Math.sqrt(ratio * p1 * (1 - p1) + p2 * (1 - p2));
+  if (numerator <= 0) {
+    return notComputable('The sample size is undefined: the target power is lower than any sample size gives.');
+  }
+  const n1 = numerator ** 2 / (ratio * (p2 - p1) ** 2);
+  return computed({ n1, n2: ratio * n1 });
+}
+
+/**
+ * Power of the two-sided pooled two-proportion z-test for groups of n₁ and n₂ units with rates
+ * p₁ and p₂ (opposite tail ignored), the quantity `unequalTwoProportionSampleSize` solves for.
+ * Source: as `pooledTestPower` above (Fleiss, Levin & Paik 2003, §4.2; statsmodels'
+ * `power_proportions_2indep`).
+ * @throws StatsInputError when a rate is outside [0, 1], a size ≤ 0, or `alpha` outside (0, 1)
+ */
+export function unequalTwoProportionPower(input: { p1: number; p2: number; n1: number; n2: number; alpha?: number }): number {
+  const { p1, p2, n1, n2, alpha = 0.05 } = input;
+  requireClosedUnitInterval('p1', p1);
+  requireClosedUnitInterval('p2', p2);
+  requirePositiveSize('n1', n1, 0);
+  requirePositiveSize('n2', n2, 0);
+  requireOpenUnitInterval('alpha', alpha);
+  return pooledTestPower(p2, p1, n2, n1, standardNormalQuantile(1 - alpha / 2));
+}
