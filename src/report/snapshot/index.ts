@@ -3,6 +3,7 @@
  * population figures that go into them, and made, stored and read through the report service.
  */
 export { buildSnapshot } from './build.js';
+export { SpendBeyondLimitError } from '../../segments/index.js';
 export type { SnapshotInput } from './input.js';
 export { redactStoredSnapshots } from './redaction.js';
 export {

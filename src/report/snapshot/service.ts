@@ -8,6 +8,7 @@ import type { DatabaseHandle, Dialect } from '../../db/connect.js';
 import type { Database, ReportsTable, SnapshotTrigger } from '../../db/tables.js';
 import type { Logger } from '../../logger.js';
 import {
+  explainOverflow,
   gridCountsOf,
   labelCounts,
   shiftsAndCellAggregates,
@@ -262,7 +263,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
 
   let transaction = deps.readDb.transaction();
   if (deps.dialect === 'postgres') transaction = transaction.setIsolationLevel('repeatable read');
-  const data = await transaction.execute(async (trx) => {
+  const readAggregates = transaction.execute(async (trx) => {
     const { shifts, cells, ageCounts, unconvertedByAge, arithmetic, strata } = await shiftsAndCellAggregates(trx, request);
     // The data may have grown since the definition was saved: checked on the cells, before any
     // segment is built, so a dimension of thousands of labels costs one query, not a snapshot.
@@ -285,6 +286,11 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
       previousWindow = { ...window, cells: previous.cells, shifts: previous.shifts, current: { cells: current.cells, shifts: current.shifts } };
     }
     return { shifts, cells, arithmetic, ageCounts, valueCounts, populationValueCounts: wholeValueCounts, ageValueGrid, quality, previousWindow, strata };
+  });
+  // A customer's spend past 2^63 cents overflows the database's sum: refused by name, not a 500.
+  const windows = source.kind === 'sales' ? [source, precedingWindow(source.from, source.to)] : [];
+  const data = await readAggregates.catch(async (error: unknown) => {
+    throw await explainOverflow(deps.readDb, error, windows);
   });
   const queriesDone = performance.now();
 
