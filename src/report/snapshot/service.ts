@@ -228,10 +228,6 @@ function valueDistributionScope(cells: readonly CellAggregate[], definition: Rep
   return scope;
 }
 
-function distinctLabels(cells: readonly CellAggregate[], dimensionCount: number): number[] {
-  return Array.from({ length: dimensionCount }, (_unused, index) => new Set(cells.map((cell) => cell.labels[index])).size);
-}
-
 // One refresh at a time per report in this process, so each snapshot compares with the one before it.
 const refreshesInFlight = new Map<string, Promise<unknown>>();
 
@@ -264,11 +260,13 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   let transaction = deps.readDb.transaction();
   if (deps.dialect === 'postgres') transaction = transaction.setIsolationLevel('repeatable read');
   const readAggregates = transaction.execute(async (trx) => {
-    const { shifts, cells, ageCounts, unconvertedByAge, arithmetic, strata } = await shiftsAndCellAggregates(trx, request);
-    // The data may have grown since the definition was saved: checked on the cells, before any
-    // segment is built, so a dimension of thousands of labels costs one query, not a snapshot.
-    const over = dimensionsOverLimit(definition.dimensions, distinctLabels(cells, definition.dimensions.length), deps.maxLabelsPerDimension);
+    // The data may have grown since the definition was saved: checked first, by one count of
+    // distinct labels, so a dimension of thousands of labels is refused before the cell query
+    // and its thousands of groups (on SQLite the read connection, and /healthz, wait for this
+    // transaction).
+    const over = dimensionsOverLimit(definition.dimensions, await labelCounts(trx, request), deps.maxLabelsPerDimension);
     if (over.length > 0) throw new TooManyLabelsError(reportId, over, deps.maxLabelsPerDimension);
+    const { shifts, cells, ageCounts, unconvertedByAge, arithmetic, strata } = await shiftsAndCellAggregates(trx, request);
     const valueCounts = await valueDistribution(trx, request, valueDistributionScope(cells, definition), cells);
     const ageAxis = ageGridAxis(ageCounts);
     const valuesByAgeBin = await valueCountsByAgeBin(trx, request, ageAxis, unconvertedByAge);
