@@ -4,6 +4,7 @@
  */
 export { buildSnapshot } from './build.js';
 export { SpendBeyondLimitError } from '../../segments/index.js';
+export { TooManyLabelsError } from './label-limit.js';
 export type { SnapshotInput } from './input.js';
 export { redactStoredSnapshots } from './redaction.js';
 export {
@@ -18,7 +19,6 @@ export {
 export {
   ReportNotFoundError,
   SnapshotNotFoundError,
-  TooManyLabelsError,
   createReport,
   deleteReport,
   getReport,

@@ -23,6 +23,7 @@ import {
 } from '../../segments/index.js';
 import type { PreviousWindow } from '../analysis/index.js';
 import { buildSnapshot } from './build.js';
+import { dimensionsOverLimit, refuseCellLabelsPastLimit, refuseLabelsPastLimit } from './label-limit.js';
 import { InvalidDefinitionError, normalizeDefinition, withCurrentDefaults, type ReportDefinition } from '../definition/index.js';
 import { readStoredSnapshot } from './stored.js';
 import { ageGridAxis, ageValueGridAxes, isExpandable } from './profiles.js';
@@ -94,28 +95,6 @@ async function toResource(db: Kysely<Database>, row: ReportsTable): Promise<Repo
     created_at: row.created_at,
     latest_snapshot: latest ? { snapshot_id: latest.snapshot_id, sequence: latest.sequence, created_at: latest.created_at } : null,
   };
-}
-
-/**
- * A dimension of a report has more distinct labels than `MAX_LABELS_PER_DIMENSION`: its
- * segments would be many, tiny and mostly withheld, and the snapshot and page huge.
- */
-export class TooManyLabelsError extends Error {
-  override name = 'TooManyLabelsError';
-  constructor(
-    readonly reportId: string,
-    readonly dimensions: ReadonlyArray<{ dimension: string; labels: number }>,
-    readonly limit: number,
-  ) {
-    super(
-      `${dimensions.map(({ dimension, labels }) => `dimension ${dimension} has ${labels} distinct labels`).join('; ')} in the report's population, more than the ${limit} a dimension may have (MAX_LABELS_PER_DIMENSION); remove it from the report's dimensions or group its labels before uploading`,
-    );
-  }
-}
-
-/** The dimensions with more labels than the limit, from their counts in definition order. */
-function dimensionsOverLimit(dimensions: readonly string[], counts: readonly number[], limit: number): Array<{ dimension: string; labels: number }> {
-  return dimensions.flatMap((dimension, index) => ((counts[index] ?? 0) > limit ? [{ dimension, labels: counts[index] as number }] : []));
 }
 
 /**
@@ -260,13 +239,14 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   let transaction = deps.readDb.transaction();
   if (deps.dialect === 'postgres') transaction = transaction.setIsolationLevel('repeatable read');
   const readAggregates = transaction.execute(async (trx) => {
-    // The data may have grown since the definition was saved: checked first, by one count of
-    // distinct labels, so a dimension of thousands of labels is refused before the cell query
-    // and its thousands of groups (on SQLite the read connection, and /healthz, wait for this
-    // transaction).
-    const over = dimensionsOverLimit(definition.dimensions, await labelCounts(trx, request), deps.maxLabelsPerDimension);
-    if (over.length > 0) throw new TooManyLabelsError(reportId, over, deps.maxLabelsPerDimension);
+    // The data may have grown since the definition was saved. Checked first, so a dimension of
+    // thousands of labels is refused before the cell query and its thousands of groups (on
+    // SQLite the read connection, and /healthz, wait for this transaction): small bounded reads,
+    // and the population's exact count only when one of them is past the limit.
+    await refuseLabelsPastLimit(trx, reportId, request, deps.maxLabelsPerDimension);
     const { shifts, cells, ageCounts, unconvertedByAge, arithmetic, strata } = await shiftsAndCellAggregates(trx, request);
+    // The cells' own labels settle it whatever the bounds said.
+    refuseCellLabelsPastLimit(reportId, definition.dimensions, cells, deps.maxLabelsPerDimension);
     const valueCounts = await valueDistribution(trx, request, valueDistributionScope(cells, definition), cells);
     const ageAxis = ageGridAxis(ageCounts);
     const valuesByAgeBin = await valueCountsByAgeBin(trx, request, ageAxis, unconvertedByAge);
