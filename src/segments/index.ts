@@ -38,4 +38,4 @@ export { compareText, compareLabelLists } from './text-order.js';
 export { valueDistribution } from './value-counts.js';
 export type { ValueCount, ValueDistributionScope } from './value-counts.js';
 
-export { MAX_CUSTOMER_SPEND_CENTS, SpendBeyondLimitError, explainOverflow } from './spend-limit.js';
+export { SpendBeyondLimitError, explainOverflow } from './spend-limit.js';

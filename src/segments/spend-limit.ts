@@ -10,7 +10,7 @@ import type { Executor } from '../db/executor.js';
 import { toNumber } from './population.js';
 
 /** The largest spend of one customer within one sales window, in cents: 2^63 − 1. */
-export const MAX_CUSTOMER_SPEND_CENTS = 2n ** 63n - 1n;
+const MAX_CUSTOMER_SPEND_CENTS = 2n ** 63n - 1n;
 
 /** A customer's spend within a sales window is past `MAX_CUSTOMER_SPEND_CENTS`. */
 export class SpendBeyondLimitError extends Error {
@@ -38,7 +38,7 @@ function isOverflow(error: unknown): boolean {
  * ⌊Σa / 2^16⌋ = Σh + ⌊Σl / 2^16⌋ is exact, and Σa ≥ 2^63 exactly when it is ≥ 2^47.
  * Amounts are never negative (the upload refuses them), so integer division is floor.
  */
-export async function customersBeyondSpendLimit(db: Executor, window: { from: string; to: string }): Promise<number> {
+async function customersBeyondSpendLimit(db: Executor, window: { from: string; to: string }): Promise<number> {
   const { rows } = await sql<Record<string, unknown>>`
     select count(*) as customers from (
       select customer_id from sales
