@@ -18,7 +18,7 @@ import {
   UploadTooLargeError,
 } from '../ingest/service.js';
 import { InvalidDefinitionError } from '../report/definition/index.js';
-import { ReportNotFoundError, SnapshotNotFoundError, TooManyLabelsError } from '../report/snapshot/index.js';
+import { ReportNotFoundError, SnapshotNotFoundError, SpendBeyondLimitError, TooManyLabelsError } from '../report/snapshot/index.js';
 import { Problem } from './problems.js';
 
 /**
@@ -79,6 +79,9 @@ function domainProblem(error: unknown): Problem | null {
   if (error instanceof ReportNotFoundError) return new Problem('not-found', error.message);
   if (error instanceof TooManyLabelsError) {
     return new Problem('too-many-labels', error.message, { dimensions: error.dimensions.map(({ dimension, labels }) => ({ dimension, labels })), limit: error.limit });
+  }
+  if (error instanceof SpendBeyondLimitError) {
+    return new Problem('spend-too-large', error.message, { sales_from: error.window.from, sales_to: error.window.to, customers: error.customers });
   }
   if (error instanceof SnapshotNotFoundError) {
     const { reportId, snapshotId } = error;

@@ -6,6 +6,7 @@
 export const PROBLEM_TYPES = {
   'invalid-rows': { status: 422, title: 'The upload has invalid rows' },
   'too-many-labels': { status: 422, title: 'A dimension has too many labels' },
+  'spend-too-large': { status: 422, title: "A customer's spend is beyond what a report can sum" },
   'invalid-columns': { status: 422, title: 'The upload names columns that are not known' },
   'malformed-body': { status: 400, title: 'The request body cannot be read' },
   'invalid-request': { status: 400, title: 'The request is not valid' },

@@ -22,7 +22,7 @@ export type { SourceQuality } from './data-quality.js';
 
 export { BUILT_IN_DIMENSIONS, MAX_PLAUSIBLE_AGE, MIN_PLAUSIBLE_AGE, UNKNOWN, ageBandOf, isAttributeName } from './dimensions.js';
 
-export { labelCounts } from './label-counts.js';
+export { labelCountBounds, labelCounts } from './label-counts.js';
 
 export { populationTotals } from './population.js';
 export type { AggregationRequest, PopulationSource } from './population.js';
@@ -37,3 +37,5 @@ export { compareText, compareLabelLists } from './text-order.js';
 
 export { valueDistribution } from './value-counts.js';
 export type { ValueCount, ValueDistributionScope } from './value-counts.js';
+
+export { SpendBeyondLimitError, explainOverflow } from './spend-limit.js';

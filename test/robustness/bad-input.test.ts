@@ -11,14 +11,27 @@ import { sql } from 'kysely';
 import type { LightMyRequestResponse } from 'fastify';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { PROBLEM_TYPES, type ProblemSlug } from '../../src/http/problems.js';
-import { BAD_INPUT_CASES, bodyOf, type BadInputCase, type StoredCheck } from '../fixtures/bad/cases.js';
+import { Readable } from 'node:stream';
+import { BAD_INPUT_CASES, CORPUS_MAX_LABELS_PER_DIMENSION, CORPUS_UPLOAD_IDLE_TIMEOUT_MS, bodyOf, type BadInputCase, type StoredCheck } from '../fixtures/bad/cases.js';
 import { CSV, THREE_CUSTOMERS, upload, type ProblemResponseBody, type ReceiptBody } from '../support/upload-client.js';
 import { createTestApp, type TestApp } from '../support/app.js';
 import { TEST_DIALECTS } from '../support/database.js';
 import { countTableRows, listTables, readDatabaseState, rowDelta } from '../support/database-state.js';
 
+/** The body as a stream that sends every byte and then neither ends nor errs, as a stalled client. */
+function stalledStream(body: Buffer | string): Readable {
+  let sent = false;
+  return new Readable({
+    read() {
+      if (!sent) this.push(body);
+      sent = true;
+    },
+  });
+}
+
 function send(testApp: TestApp, badCase: BadInputCase): Promise<LightMyRequestResponse> {
-  const body = bodyOf(badCase);
+  const fileBody = bodyOf(badCase);
+  const body = badCase.stallAfterBody && fileBody !== undefined ? stalledStream(fileBody) : fileBody;
   return testApp.app.inject({
     method: badCase.method ?? 'POST',
     url: badCase.query === undefined ? badCase.path : `${badCase.path}?${badCase.query}`,
@@ -55,7 +68,7 @@ describe.each(TEST_DIALECTS)('bad input corpus on %s', (dialect) => {
     // inject hands each generated 10 MB body to the parser as one chunk, read in one go; on a busy
     // shared machine that can pass the event-loop delay limit and shed the next requests with 503.
     // Load shedding is not under test here (test/robustness/health-under-load.test.ts covers it).
-    testApp = await createTestApp(dialect, { maxEventLoopDelayMs: 0 });
+    testApp = await createTestApp(dialect, { maxEventLoopDelayMs: 0, uploadIdleTimeoutMs: CORPUS_UPLOAD_IDLE_TIMEOUT_MS, maxLabelsPerDimension: CORPUS_MAX_LABELS_PER_DIMENSION });
     const seeded = await upload(testApp.app, '/v1/customers', CSV, THREE_CUSTOMERS);
     expect(seeded.statusCode, seeded.body).toBe(201);
     tables = await listTables(testApp);

@@ -3,6 +3,8 @@
  * population figures that go into them, and made, stored and read through the report service.
  */
 export { buildSnapshot } from './build.js';
+export { SpendBeyondLimitError } from '../../segments/index.js';
+export { TooManyLabelsError } from './label-limit.js';
 export type { SnapshotInput } from './input.js';
 export { redactStoredSnapshots } from './redaction.js';
 export {
@@ -17,7 +19,6 @@ export {
 export {
   ReportNotFoundError,
   SnapshotNotFoundError,
-  TooManyLabelsError,
   createReport,
   deleteReport,
   getReport,

@@ -8,6 +8,7 @@ import type { DatabaseHandle, Dialect } from '../../db/connect.js';
 import type { Database, ReportsTable, SnapshotTrigger } from '../../db/tables.js';
 import type { Logger } from '../../logger.js';
 import {
+  explainOverflow,
   gridCountsOf,
   labelCounts,
   shiftsAndCellAggregates,
@@ -22,6 +23,7 @@ import {
 } from '../../segments/index.js';
 import type { PreviousWindow } from '../analysis/index.js';
 import { buildSnapshot } from './build.js';
+import { dimensionsOverLimit, refuseCellLabelsPastLimit, refuseLabelsPastLimit } from './label-limit.js';
 import { InvalidDefinitionError, normalizeDefinition, withCurrentDefaults, type ReportDefinition } from '../definition/index.js';
 import { readStoredSnapshot } from './stored.js';
 import { ageGridAxis, ageValueGridAxes, isExpandable } from './profiles.js';
@@ -93,28 +95,6 @@ async function toResource(db: Kysely<Database>, row: ReportsTable): Promise<Repo
     created_at: row.created_at,
     latest_snapshot: latest ? { snapshot_id: latest.snapshot_id, sequence: latest.sequence, created_at: latest.created_at } : null,
   };
-}
-
-/**
- * A dimension of a report has more distinct labels than `MAX_LABELS_PER_DIMENSION`: its
- * segments would be many, tiny and mostly withheld, and the snapshot and page huge.
- */
-export class TooManyLabelsError extends Error {
-  override name = 'TooManyLabelsError';
-  constructor(
-    readonly reportId: string,
-    readonly dimensions: ReadonlyArray<{ dimension: string; labels: number }>,
-    readonly limit: number,
-  ) {
-    super(
-      `${dimensions.map(({ dimension, labels }) => `dimension ${dimension} has ${labels} distinct labels`).join('; ')} in the report's population, more than the ${limit} a dimension may have (MAX_LABELS_PER_DIMENSION); remove it from the report's dimensions or group its labels before uploading`,
-    );
-  }
-}
-
-/** The dimensions with more labels than the limit, from their counts in definition order. */
-function dimensionsOverLimit(dimensions: readonly string[], counts: readonly number[], limit: number): Array<{ dimension: string; labels: number }> {
-  return dimensions.flatMap((dimension, index) => ((counts[index] ?? 0) > limit ? [{ dimension, labels: counts[index] as number }] : []));
 }
 
 /**
@@ -227,10 +207,6 @@ function valueDistributionScope(cells: readonly CellAggregate[], definition: Rep
   return scope;
 }
 
-function distinctLabels(cells: readonly CellAggregate[], dimensionCount: number): number[] {
-  return Array.from({ length: dimensionCount }, (_unused, index) => new Set(cells.map((cell) => cell.labels[index])).size);
-}
-
 // One refresh at a time per report in this process, so each snapshot compares with the one before it.
 const refreshesInFlight = new Map<string, Promise<unknown>>();
 
@@ -262,12 +238,15 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
 
   let transaction = deps.readDb.transaction();
   if (deps.dialect === 'postgres') transaction = transaction.setIsolationLevel('repeatable read');
-  const data = await transaction.execute(async (trx) => {
+  const readAggregates = transaction.execute(async (trx) => {
+    // The data may have grown since the definition was saved. Checked first, so a dimension of
+    // thousands of labels is refused before the cell query and its thousands of groups (on
+    // SQLite the read connection, and /healthz, wait for this transaction): small bounded reads,
+    // and the population's exact count only when one of them is past the limit.
+    await refuseLabelsPastLimit(trx, reportId, request, deps.maxLabelsPerDimension);
     const { shifts, cells, ageCounts, unconvertedByAge, arithmetic, strata } = await shiftsAndCellAggregates(trx, request);
-    // The data may have grown since the definition was saved: checked on the cells, before any
-    // segment is built, so a dimension of thousands of labels costs one query, not a snapshot.
-    const over = dimensionsOverLimit(definition.dimensions, distinctLabels(cells, definition.dimensions.length), deps.maxLabelsPerDimension);
-    if (over.length > 0) throw new TooManyLabelsError(reportId, over, deps.maxLabelsPerDimension);
+    // The cells' own labels settle it whatever the bounds said.
+    refuseCellLabelsPastLimit(reportId, definition.dimensions, cells, deps.maxLabelsPerDimension);
     const valueCounts = await valueDistribution(trx, request, valueDistributionScope(cells, definition), cells);
     const ageAxis = ageGridAxis(ageCounts);
     const valuesByAgeBin = await valueCountsByAgeBin(trx, request, ageAxis, unconvertedByAge);
@@ -285,6 +264,11 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
       previousWindow = { ...window, cells: previous.cells, shifts: previous.shifts, current: { cells: current.cells, shifts: current.shifts } };
     }
     return { shifts, cells, arithmetic, ageCounts, valueCounts, populationValueCounts: wholeValueCounts, ageValueGrid, quality, previousWindow, strata };
+  });
+  // A customer's spend past 2^63 cents overflows the database's sum: refused by name, not a 500.
+  const windows = source.kind === 'sales' ? [source, precedingWindow(source.from, source.to)] : [];
+  const data = await readAggregates.catch(async (error: unknown) => {
+    throw await explainOverflow(deps.readDb, error, windows);
   });
   const queriesDone = performance.now();
 
