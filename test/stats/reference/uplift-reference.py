@@ -1,0 +1,29 @@
+# Check values of test/stats/uplift.test.ts, computed once (never a runtime dependency):
+#   python3 test/stats/reference/uplift-reference.py   (scipy 1.17.1, statsmodels 0.15.0)
+import numpy as np
+from scipy import stats
+from statsmodels.stats.proportion import confint_proportions_2indep, proportions_ztest
+# Newcombe hybrid score (method 10): uplift = contacted - holdout
+for (x1,n1,x2,n2) in [(120,800,15,200),(300,3200,60,800),(9,40,1,12)]:
+    lo,hi = confint_proportions_2indep(x1,n1,x2,n2,method='newcomb',compare='diff',alpha=0.05)
+    print('newcombe',x1,n1,x2,n2,repr(x1/n1-x2/n2),repr(lo),repr(hi))
+    z,p = proportions_ztest([x1,x2],[n1,n2])
+    print('  pooled z',repr(z),repr(p))
+    print('  fisher',repr(stats.fisher_exact([[x1,n1-x1],[x2,n2-x2]]).pvalue))
+# Altman & Bland 2003: difference of two uplifts, unpooled Wald SE over four groups
+seg=(120,800,15,200); rest=(300,3200,60,800)
+def v(x,n): p=x/n; return p*(1-p)/n
+d=(seg[0]/seg[1]-seg[2]/seg[3])-(rest[0]/rest[1]-rest[2]/rest[3])
+se=np.sqrt(v(seg[0],seg[1])+v(seg[2],seg[3])+v(rest[0],rest[1])+v(rest[2],rest[3]))
+zc=stats.norm.ppf(0.975); z=d/se
+print('altman-bland',repr(d),repr(se),repr(z),repr(2*stats.norm.sf(abs(z))),repr(d-zc*se),repr(d+zc*se))
+# Welch on per-contact revenue (zeros included)
+rng=np.random.default_rng(20261203)
+contacted=np.where(rng.random(60)<0.3, np.round(rng.gamma(2.0,20.0,60),2), 0.0)
+holdout=np.where(rng.random(25)<0.15, np.round(rng.gamma(2.0,20.0,25),2), 0.0)
+print('contacted=',list(contacted)); print('holdout=',list(holdout))
+r=stats.ttest_ind(contacted,holdout,equal_var=False)
+ci=r.confidence_interval(0.95)
+print('welch',repr(contacted.mean()-holdout.mean()),repr(r.statistic),repr(r.df),repr(r.pvalue),repr(ci.low),repr(ci.high))
+m,c=0.35,1.25
+print('profit',repr(m*(contacted.mean()-holdout.mean())-c),repr(m*ci.low-c),repr(m*ci.high-c))
