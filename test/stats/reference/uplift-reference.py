@@ -27,3 +27,11 @@ ci=r.confidence_interval(0.95)
 print('welch',repr(contacted.mean()-holdout.mean()),repr(r.statistic),repr(r.df),repr(r.pvalue),repr(ci.low),repr(ci.high))
 m,c=0.35,1.25
 print('profit',repr(m*(contacted.mean()-holdout.mean())-c),repr(m*ci.low-c),repr(m*ci.high-c))
+# test/report/uplift-analysis.test.ts: revenue as its `block` helper makes it, in major units
+def block(n, conversions): return np.array([(1000 + (i % 5) * 10) / 100 if i < conversions else 0.0 for i in range(n)])
+contacted, holdout = block(800, 120), block(200, 15)
+r = stats.ttest_ind(contacted, holdout, equal_var=False); ci = r.confidence_interval(0.95)
+print('block welch', repr(contacted.mean() - holdout.mean()), repr(ci.low), repr(ci.high))
+print('block profit', repr(0.4 * (contacted.mean() - holdout.mean()) - 0.2), repr(0.4 * ci.low - 0.2), repr(0.4 * ci.high - 0.2))
+r = stats.ttest_ind(contacted, holdout, equal_var=False); ci = r.confidence_interval(1 - 0.05 / 3)
+print('block profit at 1 - 0.05/3', repr(0.4 * ci.low - 0.2), repr(0.4 * ci.high - 0.2))
