@@ -19,7 +19,13 @@ import type { PopulationTotals } from './shifted-sums.js';
  * with an earlier one is judged with the customers known at its start, so a customer who
  * arrived later is not counted as not buying back then.
  */
-export type PopulationSource = { kind: 'campaigns'; campaignIds: string[] } | { kind: 'sales'; from: string; to: string; knownAt?: string };
+/**
+ * A campaign population may be narrowed to one arm: the contacted customers or the holdout
+ * (kept out on purpose); absent, it holds both, as it did before holdouts existed.
+ */
+export type PopulationSource =
+  | { kind: 'campaigns'; campaignIds: string[]; arm?: 'contacted' | 'holdout' }
+  | { kind: 'sales'; from: string; to: string; knownAt?: string };
 
 export interface AggregationRequest {
   source: PopulationSource;
@@ -89,7 +95,8 @@ export function basePopulation(source: PopulationSource, dimensions: readonly st
     return sql`select ${sql.join(columns)}
       from campaign_contacts cc
       ${sql.join(attributeJoins, sql` `)}
-      where cc.campaign_id in (${sql.join(source.campaignIds)})`;
+      where cc.campaign_id in (${sql.join(source.campaignIds)})
+      ${source.arm === undefined ? sql`` : sql`and cc.holdout = ${source.arm === 'holdout' ? 1 : 0}`}`;
   }
 
   // A sales report's unit is a customer: bought in the window or not, spend in the window, age at its end.
@@ -177,3 +184,13 @@ export async function populationTotals(db: Executor, source: PopulationSource): 
   };
 }
 
+/**
+ * How many holdout contacts the campaigns hold: a campaign report splits its arms only when
+ * there are some.
+ */
+export async function holdoutContacts(db: Executor, campaignIds: readonly string[]): Promise<number> {
+  if (campaignIds.length === 0) return 0;
+  const { rows } = await sql<Record<string, unknown>>`
+    select count(*) as n from campaign_contacts where campaign_id in (${sql.join(campaignIds)}) and holdout = 1`.execute(db);
+  return toNumber(rows[0]?.['n']);
+}

@@ -7,6 +7,7 @@ import { DEFAULT_EQUIVALENCE_MARGIN, type ReportDefinition } from '../definition
 import type { PublishedSegment } from '../shapes/index.js';
 import { valueOrNull } from './outcome.js';
 import { statisticNotes, type SegmentStatistics } from './segment-tests.js';
+import { withoutHoldout } from './uplift.js';
 
 /**
  * The name of a segment: each dimension with its value.
@@ -70,6 +71,7 @@ export function segmentRow(group: Group, rest: GroupStats, statistics: SegmentSt
     explained_by: null,
     summary: '',
     withheld_below: null,
+    ...withoutHoldout(),
     values,
     tested: statistics.tested,
     mirror_of: null,

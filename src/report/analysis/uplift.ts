@@ -147,6 +147,31 @@ export function adviceOf(interval: Interval | null): Advice | null {
   return 'undecided';
 }
 
+/** The holdout fields of a report without holdout customers: every one null. */
+export function withoutHoldout(): { [Field in keyof HoldoutFigures]: null } {
+  return {
+    holdout_n: null,
+    holdout_conversions: null,
+    holdout_rate: null,
+    uplift: null,
+    uplift_ci_low: null,
+    uplift_ci_high: null,
+    uplift_p_value: null,
+    uplift_p_adjusted: null,
+    uplift_vs_rest: null,
+    uplift_vs_rest_ci_low: null,
+    uplift_vs_rest_ci_high: null,
+    uplift_vs_rest_p_value: null,
+    incremental_value_per_contact: null,
+    incremental_value_ci_low: null,
+    incremental_value_ci_high: null,
+    incremental_profit_per_contact: null,
+    incremental_profit_ci_low: null,
+    incremental_profit_ci_high: null,
+    advice: null,
+  };
+}
+
 function armCounts(contacted: GroupStats, holdout: GroupStats) {
   return { contactedConversions: contacted.conversions, contactedN: contacted.n, holdoutConversions: holdout.conversions, holdoutN: holdout.n };
 }
