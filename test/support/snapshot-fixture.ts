@@ -25,6 +25,7 @@ const definition: ReportDefinition = {
   rank_by: 'conversion_rate',
   rank_order: 'lower_bound',
   refresh: 'manual',
+  economics: null,
 };
 
 function descriptives(n: number, mean: number | null): Descriptives {

@@ -44,6 +44,16 @@ const VALUE_EQUIVALENCE_MARGIN = {
   exclusiveMinimum: 0,
   description: 'a difference of the value metric (major currency units) small enough to treat a segment like the rest; null (the default): no equivalence claims on value',
 } as const;
+const ECONOMICS_DESCRIPTION =
+  'campaign reports with holdout customers: turns the incremental value per contact into incremental profit per contact (margin × value − cost per contact); null (the default): no profit figures';
+const Economics = Type.Object(
+  {
+    margin: Type.Number({ minimum: 0, maximum: 1, description: 'fraction of revenue kept as profit' }),
+    cost_per_contact: Type.Number({ minimum: 0, description: 'money spent per contacted customer, major currency units' }),
+  },
+  { additionalProperties: false },
+);
+
 const CHOICES = {
   adjustment: { enum: ['bh', 'holm', 'none'], default: 'bh', description: 'multiplicity adjustment of the p-values' },
   value_basis: { enum: ['per_unit', 'per_conversion'], default: 'per_unit' },
@@ -95,6 +105,7 @@ export const ReportDefinitionBody = Type.Object(
     rank_by: Type.Optional(choice(CHOICES.rank_by)),
     rank_order: Type.Optional(choice(CHOICES.rank_order)),
     refresh: Type.Optional(choice(CHOICES.refresh)),
+    economics: Type.Optional(Type.Union([Economics, Type.Null()], { description: ECONOMICS_DESCRIPTION })),
   },
   { additionalProperties: false },
 );
@@ -302,6 +313,7 @@ export async function normalizeDefinition(body: unknown, lookup: DefinitionLooku
     rank_by: (body['rank_by'] as RankBy | undefined) ?? CHOICES.rank_by.default,
     rank_order: (body['rank_order'] as RankOrder | undefined) ?? CHOICES.rank_order.default,
     refresh: (body['refresh'] as RefreshMode | undefined) ?? CHOICES.refresh.default,
+    economics: (body['economics'] as ReportDefinition['economics'] | undefined) ?? null,
   };
 }
 
@@ -312,8 +324,13 @@ export const DEFAULT_EQUIVALENCE_MARGIN = EQUIVALENCE_MARGIN.default;
  * A definition as stored, with the defaults of fields added since it was stored (the
  * equivalence margins), so every reader sees the current shape.
  */
-export function withCurrentDefaults(stored: Omit<ReportDefinition, 'equivalence_margin' | 'value_equivalence_margin'> & Partial<ReportDefinition>): ReportDefinition {
-  return { ...stored, equivalence_margin: stored.equivalence_margin ?? EQUIVALENCE_MARGIN.default, value_equivalence_margin: stored.value_equivalence_margin ?? null };
+export function withCurrentDefaults(stored: Omit<ReportDefinition, 'equivalence_margin' | 'value_equivalence_margin' | 'economics'> & Partial<ReportDefinition>): ReportDefinition {
+  return {
+    ...stored,
+    equivalence_margin: stored.equivalence_margin ?? EQUIVALENCE_MARGIN.default,
+    value_equivalence_margin: stored.value_equivalence_margin ?? null,
+    economics: stored.economics ?? null,
+  };
 }
 
 type Report = (path: string, reason: string) => void;
