@@ -24,7 +24,8 @@ export type Advice = 'contact' | 'hold_back' | 'undecided';
 /** The holdout fields appended to a segment's row, in the row's order. */
 export interface HoldoutFigures {
   holdout_n: number;
-  holdout_conversions: number;
+  /** null when the arm is too small to publish */
+  holdout_conversions: number | null;
   holdout_rate: number | null;
   uplift: number | null;
   uplift_ci_low: number | null;

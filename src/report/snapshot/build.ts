@@ -25,6 +25,7 @@ import {
 import { VERDICTS, type Comparison, type Reversal, type Snapshot, type SnapshotSegment, type Verdict } from '../shapes/index.js';
 import { comparisonNote, reportSummary, reversalSentence, segmentSummary, snapshotCautions, vocabulary, type SentenceContext } from '../wording/index.js';
 import { fingerprintOf } from './fingerprint.js';
+import { addHoldoutFigures } from './holdout.js';
 import type { SnapshotInput } from './input.js';
 import { dataQualityOf, populationFigures } from './population.js';
 import { dimensionProfiles } from './profiles.js';
@@ -103,6 +104,7 @@ export function buildSnapshot(input: SnapshotInput): Snapshot {
     if (segment.equivalence.conversion_rate) segment.equivalence.conversion_rate.p_adjusted = twin.equivalence.conversion_rate?.p_adjusted ?? null;
     if (segment.equivalence.value) segment.equivalence.value.p_adjusted = twin.equivalence.value?.p_adjusted ?? null;
   }
+  if (input.holdout) addHoldoutFigures(analysed.map(({ group, segment }) => ({ stats: group.stats, segment })), total, input.holdout, definition, minN);
   for (const { segment } of analysed) segment.verdict = segmentVerdict(segment, definition);
   const expected = expectedFigures(
     analysed.map(({ group }) => group),

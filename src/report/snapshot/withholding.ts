@@ -23,6 +23,7 @@
 import type { Disclosure, DimensionProfile, HistogramFigure, PopulationFigures, Reversal, Snapshot, SnapshotSegment, Verdict } from '../shapes/index.js';
 import { VERDICTS } from '../shapes/index.js';
 import { reportSummary, segmentSummary, vocabulary, type SentenceContext } from '../wording/index.js';
+import { withoutHoldout } from '../analysis/index.js';
 
 /** A stored snapshot needs no further withholding when it was withheld at this threshold or a higher one. */
 function isWithheldAt(snapshot: Pick<Snapshot, 'disclosure'>, threshold: number): boolean {
@@ -145,6 +146,7 @@ const WITHHELD_FIGURES = [
 function withheldSegment(segment: SnapshotSegment, threshold: number): SnapshotSegment {
   const copy: SnapshotSegment = { ...segment, rank: null, verdict: 'too_small', tested: false, withheld_below: threshold, effect_sizes: { cohens_h: null, hedges_g: null }, notes: [] };
   for (const field of WITHHELD_FIGURES) (copy as Record<string, unknown>)[field] = null;
+  Object.assign(copy, withoutHoldout());
   return copy;
 }
 
