@@ -35,3 +35,11 @@ print('block welch', repr(contacted.mean() - holdout.mean()), repr(ci.low), repr
 print('block profit', repr(0.4 * (contacted.mean() - holdout.mean()) - 0.2), repr(0.4 * ci.low - 0.2), repr(0.4 * ci.high - 0.2))
 r = stats.ttest_ind(contacted, holdout, equal_var=False); ci = r.confidence_interval(1 - 0.05 / 3)
 print('block profit at 1 - 0.05/3', repr(0.4 * ci.low - 0.2), repr(0.4 * ci.high - 0.2))
+# test/http/holdout-report.test.ts: Saltmere 45/150 contacted, 5/50 held out; Fennwick 30/150 and 10/50; revenue 20.00 per conversion
+lo, hi = confint_proportions_2indep(45, 150, 5, 50, method='newcomb', compare='diff', alpha=0.05)
+print('saltmere newcombe', repr(lo), repr(hi), 'z test', repr(proportions_ztest([45, 5], [150, 50])[1]))
+d = (45/150 - 5/50) - (30/150 - 10/50); se = np.sqrt(v(45, 150) + v(5, 50) + v(30, 150) + v(10, 50))
+print('saltmere vs rest', repr(d), repr(d - zc*se), repr(d + zc*se), repr(2*stats.norm.sf(abs(d/se))))
+c = np.array([20.0]*45 + [0.0]*105); h = np.array([20.0]*5 + [0.0]*45)
+ci = stats.ttest_ind(c, h, equal_var=False).confidence_interval(0.95)
+print('saltmere value', repr(c.mean() - h.mean()), repr(ci.low), repr(ci.high), 'profit', repr(0.5*ci.low - 1), repr(0.5*ci.high - 1))
