@@ -73,6 +73,9 @@ describe.each(TEST_DIALECTS)('a campaign report with holdout customers on %s', (
     expect(saltmere?.uplift_p_adjusted).toBeGreaterThanOrEqual(saltmere?.uplift_p_value ?? 1);
     // The profit interval already reaches below zero at 95 %, so also at the family's 97.5 %.
     expect(saltmere?.advice).toBe('undecided');
+    expect(saltmere?.summary).toContain(
+      'Against 50 held-out customers (10.0% converted), contacting changed the conversion rate by +20.0 points (95% CI +6.8 to +29.6). Advice on incremental profit per contact +1.00 (95% CI -0.13 to +2.13), its interval widened for the number of uplift tests: undecided: the interval reaches both sides of zero.',
+    );
   });
 
   it('advises on the uplift without economics, and leaves the profit null', async () => {

@@ -10,6 +10,7 @@ import { isPublished, type EquivalenceTest, type PublishedSegment, type Snapshot
 import { metricView, type MetricView } from './metric-view.js';
 import { describeSegment, type Vocabulary } from './vocabulary.js';
 import { expectedSentence, explainedSentence } from './expected-sentences.js';
+import { holdoutSentence } from './holdout-sentences.js';
 
 function capitalize(text: string): string {
   return text.charAt(0).toUpperCase() + text.slice(1);
@@ -229,5 +230,5 @@ function withheldSentence(segment: SnapshotSegment, context: SentenceContext): s
  */
 export function segmentSummary(segment: SnapshotSegment, context: SentenceContext): string {
   if (!isPublished(segment)) return withheldSentence(segment, context);
-  return `${mainSentence(segment, context)}${mirrorSentence(segment)}${explainedSentence(segment, context)}${expectedSentence(segment, context)}${secondarySentence(segment, context)}${changeSentence(segment, context)}${rankSentence(segment, context)}`;
+  return `${mainSentence(segment, context)}${mirrorSentence(segment)}${explainedSentence(segment, context)}${expectedSentence(segment, context)}${secondarySentence(segment, context)}${changeSentence(segment, context)}${rankSentence(segment, context)}${holdoutSentence(segment, context.definition.confidence)}`;
 }
