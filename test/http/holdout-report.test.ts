@@ -89,4 +89,25 @@ describe.each(TEST_DIALECTS)('a campaign report with holdout customers on %s', (
     expect(fennwick?.uplift).toBeCloseTo(0, 12);
     expect(fennwick?.advice).toBe('undecided');
   });
+
+  it('ranks by uplift: advice to contact first, then by the lower bound of the uplift', async () => {
+    const { app } = await setUp();
+    const report = await createReport(app, { name: 'Harbour mailer by uplift', source: { campaign_ids: ['harbour-mailer'] }, dimensions: ['region'], min_n: 20, rank_by: 'uplift' });
+    const snapshot = await refresh(app, report.report_id);
+    expect(snapshot.segments.map((segment) => [segment.segment, segment.rank, segment.advice])).toEqual([
+      ['region=Saltmere', 1, 'contact'],
+      ['region=Fennwick', 2, 'undecided'],
+    ]);
+  });
+
+  it('refuses a ranking by incremental profit without economics, naming the field', async () => {
+    const { app } = await setUp();
+    const response = await app.inject({
+      method: 'POST',
+      url: '/v1/reports',
+      payload: { name: 'No economics', source: { campaign_ids: ['harbour-mailer'] }, dimensions: ['region'], rank_by: 'incremental_profit' },
+    });
+    expect(response.statusCode).toBe(400);
+    expect(response.json()).toMatchObject({ errors: [{ field: 'body/rank_by', reason: expect.stringContaining('incremental_profit needs economics') }] });
+  });
 });

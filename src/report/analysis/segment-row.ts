@@ -3,7 +3,7 @@
  * p-values are adjusted, the verdict decided and the rank given later, over all segments.
  */
 import type { Group, GroupStats } from '../../segments/index.js';
-import { DEFAULT_EQUIVALENCE_MARGIN, type ReportDefinition } from '../definition/index.js';
+import { DEFAULT_EQUIVALENCE_MARGIN, type ReportDefinition, verdictMetric } from '../definition/index.js';
 import type { PublishedSegment } from '../shapes/index.js';
 import { valueOrNull } from './outcome.js';
 import { statisticNotes, type SegmentStatistics } from './segment-tests.js';
@@ -66,7 +66,7 @@ export function segmentRow(group: Group, rest: GroupStats, statistics: SegmentSt
     value_diff_ci_high: comparison?.interval.high ?? null,
     value_p_value: comparison?.pValue ?? null,
     value_p_adjusted: null,
-    min_detectable_diff: definition.rank_by === 'conversion_rate' ? rateMdd : valueOrNull(statistics.valueMdd),
+    min_detectable_diff: verdictMetric(definition) === 'conversion_rate' ? rateMdd : valueOrNull(statistics.valueMdd),
     verdict: 'too_small',
     explained_by: null,
     summary: '',

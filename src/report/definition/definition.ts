@@ -57,7 +57,12 @@ const Economics = Type.Object(
 const CHOICES = {
   adjustment: { enum: ['bh', 'holm', 'none'], default: 'bh', description: 'multiplicity adjustment of the p-values' },
   value_basis: { enum: ['per_unit', 'per_conversion'], default: 'per_unit' },
-  rank_by: { enum: ['conversion_rate', 'value'], default: 'conversion_rate' },
+  rank_by: {
+    enum: ['conversion_rate', 'value', 'uplift', 'incremental_profit'],
+    default: 'conversion_rate',
+    description:
+      'the ranking metric; uplift and incremental_profit (campaign reports with holdout customers, the latter with economics) rank by what contacting added, and their verdicts compare the conversion rate and the value with the rest',
+  },
   rank_order: { enum: ['lower_bound', 'estimate'], default: 'lower_bound' },
   refresh: { enum: ['weekly', 'manual'], default: 'manual' },
 } as const;
@@ -117,6 +122,16 @@ export type ReportDefinition = Static<typeof ReportDefinition>;
 export type Adjustment = ReportDefinition['adjustment'];
 export type ValueBasis = ReportDefinition['value_basis'];
 export type RankBy = ReportDefinition['rank_by'];
+/** The metric the verdicts and the sentences compare with the rest. */
+export type VerdictMetric = 'conversion_rate' | 'value';
+
+/**
+ * The metric the verdicts compare: the ranking metric itself, or for a ranking by what
+ * contacting added, the conversion rate (uplift) or the value (incremental profit).
+ */
+export function verdictMetric(definition: Pick<ReportDefinition, 'rank_by'>): VerdictMetric {
+  return definition.rank_by === 'conversion_rate' || definition.rank_by === 'uplift' ? 'conversion_rate' : 'value';
+}
 export type RankOrder = ReportDefinition['rank_order'];
 export type RefreshMode = ReportDefinition['refresh'];
 
@@ -297,6 +312,13 @@ export async function normalizeDefinition(body: unknown, lookup: DefinitionLooku
     }
   }
 
+  const rankBy = body['rank_by'];
+  if ((rankBy === 'uplift' || rankBy === 'incremental_profit') && source !== null && !('campaign_ids' in source)) {
+    report('/rank_by', `${rankBy} needs a campaign report (a holdout is kept in campaigns); a sales report ranks by conversion_rate or value`);
+  }
+  if (rankBy === 'incremental_profit' && (body['economics'] === undefined || body['economics'] === null)) {
+    report('/rank_by', 'incremental_profit needs economics: {"margin": …, "cost_per_contact": …}');
+  }
   if (issues.length > 0 || name === null || source === null || dimensions === null || crosses === null || ageBands === null) throw new InvalidDefinitionError(issues);
   return {
     name,

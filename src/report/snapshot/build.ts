@@ -31,6 +31,7 @@ import { dataQualityOf, populationFigures } from './population.js';
 import { dimensionProfiles } from './profiles.js';
 import { withholdSnapshot } from './withholding.js';
 import { DEFAULT_PUBLICATION_THRESHOLD } from '../../config.js';
+import { verdictMetric } from '../definition/index.js';
 
 /**
  * Computes a whole snapshot (all but `duration_ms`, which the caller measures).
@@ -147,13 +148,13 @@ export function buildSnapshot(input: SnapshotInput): Snapshot {
   for (const segment of segments) segment.summary = segmentSummary(segment, context);
 
   const metric = (stats: GroupStats): number | null => {
-    if (definition.rank_by === 'conversion_rate') return stats.n > 0 ? stats.conversions / stats.n : null;
+    if (verdictMetric(definition) === 'conversion_rate') return stats.n > 0 ? stats.conversions / stats.n : null;
     const summary = valueSummary(stats, basis);
     return summary.n > 0 ? summary.mean : null;
   };
   const reversals: Reversal[] = findReversals({ dimensions: definition.dimensions, cells: cellGroups, minN: definition.min_n, metric }).map((reversal) => ({
     ...reversal,
-    sentence: reversalSentence(reversal, words, definition.rank_by, definition.min_n),
+    sentence: reversalSentence(reversal, words, verdictMetric(definition), definition.min_n),
   }));
 
   const oneWay = definition.dimensions.flatMap((_dimension, index) => groupBy(cellGroups, definition.dimensions, [index]));
@@ -195,7 +196,7 @@ export function buildSnapshot(input: SnapshotInput): Snapshot {
       vocabulary: words,
       population,
       counts,
-      familySize: definition.rank_by === 'conversion_rate' ? rateTests : valueTests,
+      familySize: verdictMetric(definition) === 'conversion_rate' ? rateTests : valueTests,
       top: segments[0] ?? null,
       reversals: reversals.length,
     }),

@@ -5,7 +5,7 @@
  * always find the figure a sentence quotes.
  */
 import { formatConfidence, formatCount, formatPoints, formatPValue, formatRank, formatRatio, formatSignedMoney } from './format.js';
-import type { ReportDefinition } from '../definition/index.js';
+import { type ReportDefinition, verdictMetric, type VerdictMetric } from '../definition/index.js';
 import { isPublished, type EquivalenceTest, type PublishedSegment, type SnapshotSegment, type Verdict } from '../shapes/index.js';
 import { metricView, type MetricView } from './metric-view.js';
 import { describeSegment, type Vocabulary } from './vocabulary.js';
@@ -20,7 +20,7 @@ export interface SentenceContext {
   definition: ReportDefinition;
   vocabulary: Vocabulary;
   /** size of each metric's multiplicity family: the tested segments whose test could be computed */
-  familySizes: Record<ReportDefinition['rank_by'], number>;
+  familySizes: Record<VerdictMetric, number>;
   /** whether a previous snapshot exists (for rank movement) */
   hasPreviousSnapshot: boolean;
   /** what the change of each segment is measured against */
@@ -46,7 +46,7 @@ function against(view: MetricView): string {
 }
 
 /** Why a figure is missing, in words without numbers of their own. */
-function missingReason(segment: PublishedSegment, metric: ReportDefinition['rank_by'], words: Vocabulary): string {
+function missingReason(segment: PublishedSegment, metric: VerdictMetric, words: Vocabulary): string {
   if (metric === 'conversion_rate') {
     if (segment.rate_p_value === null) return 'The rates could not be compared.';
     return '';
@@ -63,7 +63,7 @@ function missingReason(segment: PublishedSegment, metric: ReportDefinition['rank
   return '';
 }
 
-function liftClause(segment: PublishedSegment, metric: ReportDefinition['rank_by']): string {
+function liftClause(segment: PublishedSegment, metric: VerdictMetric): string {
   if (metric !== 'conversion_rate') return '';
   if (segment.lift !== null) return ` That is ${formatRatio(segment.lift)} times the rest's rate.`;
   if (segment.rest.conversions === 0) return " The lift cannot be computed: the rest has no conversions to divide by.";
@@ -77,14 +77,14 @@ function adjustedPhrase(view: MetricView, context: SentenceContext): string {
   return `${adjustment} ${formatPValue(view.adjustedP)}`;
 }
 
-function familyPhrase(context: SentenceContext, metric: ReportDefinition['rank_by']): string {
+function familyPhrase(context: SentenceContext, metric: VerdictMetric): string {
   return context.definition.adjustment === 'none'
     ? 'with no allowance for the number of segments tested'
     : `after allowing for the ${formatCount(context.familySizes[metric])} segments tested`;
 }
 
 function mainSentence(segment: PublishedSegment, context: SentenceContext): string {
-  const metric = context.definition.rank_by;
+  const metric = verdictMetric(context.definition);
   const words = context.vocabulary;
   const view = metricView(segment, metric, words);
   const confidence = formatConfidence(context.definition.confidence);
@@ -147,7 +147,7 @@ function mirrorSentence(segment: SnapshotSegment): string {
 function secondarySentence(segment: PublishedSegment, context: SentenceContext): string {
   if (!segment.tested) return '';
   const alpha = 1 - context.definition.confidence;
-  const other = context.definition.rank_by === 'conversion_rate' ? 'value' : 'conversion_rate';
+  const other = verdictMetric(context.definition) === 'conversion_rate' ? 'value' : 'conversion_rate';
   const view = metricView(segment, other, context.vocabulary);
   if (view.adjustedP === null || view.adjustedP >= alpha || view.difference === null || view.estimate === null || view.rest === null) return '';
   const direction = view.difference > 0 ? 'higher' : 'lower';
@@ -167,7 +167,7 @@ function changeSentence(segment: PublishedSegment, context: SentenceContext): st
       : `the ${formatCount(change.new_n)} ${words.units} added since the previous snapshot against the ${formatCount(change.previous_n)} before them`;
   const adjustment = context.definition.adjustment === 'none' ? 'p' : 'adjusted p';
   const confidence = formatConfidence(context.definition.confidence);
-  if (context.definition.rank_by === 'conversion_rate') {
+  if (verdictMetric(context.definition) === 'conversion_rate') {
     if (change.rate_change === null) return '';
     const interval =
       change.rate_change_ci_low !== null && change.rate_change_ci_high !== null
