@@ -10,6 +10,7 @@ import * as contactDimensions from './0004_contact_dimensions.js';
 import * as receiptNotes from './0005_receipt_notes.js';
 import * as idempotencyPerKey from './0006_idempotency_per_key.js';
 import * as snapshotRedaction from './0007_snapshot_redaction.js';
+import * as contactHoldout from './0008_contact_holdout.js';
 
 export const migrations: Record<string, Migration> = {
   '0001_records': records,
@@ -19,4 +20,5 @@ export const migrations: Record<string, Migration> = {
   '0005_receipt_notes': receiptNotes,
   '0006_idempotency_per_key': idempotencyPerKey,
   '0007_snapshot_redaction': snapshotRedaction,
+  '0008_contact_holdout': contactHoldout,
 };

@@ -42,7 +42,7 @@ export function simulatePlanPower(plan: HoldoutCampaignPlanInput, replicates: nu
 }
 
 /** The plans the bench script reads: common campaign rates, shares and family sizes. */
-export const PLAN_SCENARIOS: readonly HoldoutCampaignPlanInput[] = [
+const PLAN_SCENARIOS: readonly HoldoutCampaignPlanInput[] = [
   { baselineRate: 0.1, minUplift: 0.05 },
   { baselineRate: 0.04, minUplift: 0.01, segments: 3 },
   { baselineRate: 0.02, minUplift: 0.01, holdoutShare: 0.1, segments: 6, power: 0.9 },

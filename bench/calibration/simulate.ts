@@ -49,6 +49,7 @@ export function simulationDefinition(dimensions: string[], overrides: Partial<Re
     rank_by: 'conversion_rate',
     rank_order: 'lower_bound',
     refresh: 'manual',
+    economics: null,
     ...overrides,
   };
 }

@@ -47,6 +47,8 @@ export interface CampaignContactsTable {
   contacted_at: string;
   converted: number;
   revenue_cents: number;
+  /** 1: kept out of the campaign on purpose (the holdout arm); 0: contacted. */
+  holdout: number;
   /** Whole years from birth date to contact date, derived at ingest and kept current when the birth date changes. */
   age_at_contact: number | null;
   /** The customer's region, channel and type, copied at ingest and kept current, so campaign reports need no join. */
@@ -70,6 +72,8 @@ export interface IngestsTable {
   updated: number;
   unchanged: number;
   rejected: number;
+  /** Rows of a contacts upload stored (inserted, updated or unchanged) as holdout; 0 for other uploads. */
+  holdout_rows: number;
   sha256: string;
   idempotency_key: string | null;
   /** Who may replay the key: the id of the API key that sent it ("open" without keys); null without a key. */

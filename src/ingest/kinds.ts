@@ -17,6 +17,8 @@ export interface BatchOutcome {
   inserted: number;
   updated: number;
   unchanged: number;
+  /** Stored rows (inserted, updated or unchanged) that are holdout contacts. */
+  holdout: number;
   /** Rows refused by a check against stored data, with the customer each was about (kept for erasure). */
   rejected: Array<{ line: number; rowNumber: number; customerId: string; error: RowError }>;
 }
@@ -51,7 +53,7 @@ export interface UploadKind<Row> {
 }
 
 function emptyOutcome(): BatchOutcome {
-  return { inserted: 0, updated: 0, unchanged: 0, rejected: [] };
+  return { inserted: 0, updated: 0, unchanged: 0, holdout: 0, rejected: [] };
 }
 
 export const customersKind: UploadKind<CustomerRow> = {
@@ -185,13 +187,15 @@ export const contactsKind: UploadKind<ContactRow> = {
         last_ingest_id: ingestId,
       };
       const existing = stored.get(row.customer_id);
+      outcome.holdout += row.holdout;
       if (!existing) {
         outcome.inserted += 1;
         inserts.push(record);
       } else if (
         existing.contacted_at === row.contacted_at &&
         Number(existing.converted) === row.converted &&
-        Number(existing.revenue_cents) === row.revenue_cents
+        Number(existing.revenue_cents) === row.revenue_cents &&
+        Number(existing.holdout) === row.holdout
       ) {
         outcome.unchanged += 1;
       } else {

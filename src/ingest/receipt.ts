@@ -19,6 +19,7 @@ export const Receipt = Type.Object(
     updated: count(),
     unchanged: count('Rows whose key was already stored with the same values.'),
     rejected: count(),
+    holdout_rows: count('Rows of a contacts upload stored as holdout (kept out of the campaign on purpose); 0 for other uploads.'),
     sha256: Type.String({ pattern: '^[0-9a-f]{64}$', description: 'SHA-256 of the request body as received.' }),
     idempotency_key: Type.Union([Type.String(), Type.Null()]),
     received_at: Type.String({ format: 'date-time' }),

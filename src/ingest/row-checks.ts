@@ -44,13 +44,15 @@ export interface ContactRow {
   contacted_at: string;
   converted: 0 | 1;
   revenue_cents: number;
+  /** 1: kept out of the campaign on purpose; `contacted_at` is then the date it would have been contacted. */
+  holdout: 0 | 1;
 }
 
 export type RowCheck<Row> = { ok: true; row: Row } | { ok: false; errors: RowError[] };
 
 export const CUSTOMER_COLUMNS = ['customer_id', 'birth_date', 'region', 'channel', 'customer_type'] as const;
 export const SALE_COLUMNS = ['sale_id', 'customer_id', 'sold_at', 'amount'] as const;
-export const CONTACT_COLUMNS = ['customer_id', 'contacted_at', 'converted', 'revenue'] as const;
+export const CONTACT_COLUMNS = ['customer_id', 'contacted_at', 'converted', 'revenue', 'holdout'] as const;
 const CUSTOMER_TYPES = ['individual', 'company'] as const;
 
 /** Oldest plausible age; an older birth date is far likelier a typing error than a customer. */
@@ -175,6 +177,8 @@ export function checkContactFields(fields: Map<string, unknown>, today: string):
   const converted = collect.take('converted', readFlag);
   // A contact that did not convert brought no revenue, so an empty cell means 0.
   const revenue = collect.takeOptional('revenue', readMoneyCents) ?? 0;
+  // Most contacts are contacted: an empty or missing holdout cell means 0.
+  const holdout = collect.takeOptional('holdout', readFlag) ?? 0;
   if (contactedAt && contactedAt > today) {
     collect.errors.push({ column: 'contacted_at', value: contactedAt, reason: `contacted_at ${contactedAt} is in the future` });
   }
@@ -185,7 +189,13 @@ export function checkContactFields(fields: Map<string, unknown>, today: string):
   if (collect.errors.length > 0) return { ok: false, errors: collect.errors };
   return {
     ok: true,
-    row: { customer_id: customerId as string, contacted_at: contactedAt as string, converted: converted as 0 | 1, revenue_cents: revenue as number },
+    row: {
+      customer_id: customerId as string,
+      contacted_at: contactedAt as string,
+      converted: converted as 0 | 1,
+      revenue_cents: revenue as number,
+      holdout: holdout as 0 | 1,
+    },
   };
 }
 

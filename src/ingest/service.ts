@@ -163,7 +163,7 @@ async function storeUpload(deps: IngestDependencies, request: UploadRequest, spo
     const seenKeys = await repository.openUploadKeys(store);
     const problems: RowProblem[] = [];
     const rejectedRows: RejectedRowsTable[] = [];
-    const totals = { rows: 0, inserted: 0, updated: 0, unchanged: 0, rejected: 0 };
+    const totals = { rows: 0, inserted: 0, updated: 0, unchanged: 0, rejected: 0, holdout: 0 };
     const notes = new LabelNotes();
     let write = true;
     let nextProgress = deps.limits.progressEveryRows;
@@ -197,6 +197,7 @@ async function storeUpload(deps: IngestDependencies, request: UploadRequest, spo
       totals.inserted += outcome.inserted;
       totals.updated += outcome.updated;
       totals.unchanged += outcome.unchanged;
+      totals.holdout += outcome.holdout;
       for (const { rowNumber, line, customerId, error } of outcome.rejected) reject(rowNumber, line, [error], customerOf({ customer_id: customerId }));
       batch = [];
     };
@@ -262,6 +263,7 @@ async function storeUpload(deps: IngestDependencies, request: UploadRequest, spo
       updated: totals.updated,
       unchanged: totals.unchanged,
       rejected: totals.rejected,
+      holdout_rows: totals.holdout,
       sha256: spooled.sha256,
       idempotency_key: request.idempotencyKey,
       idempotency_scope: request.idempotencyKey === null ? null : request.idempotencyScope,
@@ -319,6 +321,7 @@ export function toReceipt(row: IngestsTable): Receipt {
     updated: Number(row.updated),
     unchanged: Number(row.unchanged),
     rejected: Number(row.rejected),
+    holdout_rows: Number(row.holdout_rows),
     sha256: row.sha256,
     idempotency_key: row.idempotency_key,
     received_at: row.received_at,

@@ -10,6 +10,7 @@ import { createHash } from 'node:crypto';
 import { LRUCache } from 'lru-cache';
 import { tableCsv } from './csv.js';
 import { SEGMENT_ROW_FIELDS, type Snapshot } from '../report/shapes/index.js';
+import { withoutHoldout } from '../report/analysis/index.js';
 import { snapshotVersionKey, publishedSnapshotText, type ReportDependencies } from '../report/snapshot/index.js';
 
 export type TableFormat = 'json' | 'csv';
@@ -30,6 +31,9 @@ export interface RenderedTable {
 const UTF8_BOM = '\uFEFF';
 const LEADING_COLUMNS = ['snapshot_id', 'as_of', 'rank'] as const;
 const SEGMENT_COLUMNS = SEGMENT_ROW_FIELDS.filter((field) => field !== 'rank');
+const HOLDOUT_COLUMNS: readonly string[] = Object.keys(withoutHoldout());
+/** The table of a report without holdout customers keeps the columns it had before holdouts existed. */
+const COLUMNS_WITHOUT_HOLDOUT = SEGMENT_COLUMNS.filter((field) => !HOLDOUT_COLUMNS.includes(field));
 
 export function entityTag(body: string | Buffer): string {
   return `"${createHash('sha256').update(body).digest('base64url').slice(0, 32)}"`;
@@ -47,24 +51,29 @@ function dimensionColumn(dimension: string): string {
   return taken.includes(dimension) ? `dimension_${dimension}` : dimension;
 }
 
-/** The table's columns in order, for a report over these dimensions. */
-export function segmentTableColumns(dimensions: readonly string[]): string[] {
-  return [...LEADING_COLUMNS, ...dimensions.map(dimensionColumn), ...SEGMENT_COLUMNS];
+/** The table's columns in order, for a report over these dimensions (with the holdout figures when its population has holdout customers). */
+export function segmentTableColumns(dimensions: readonly string[], withHoldout = false): string[] {
+  return [...LEADING_COLUMNS, ...dimensions.map(dimensionColumn), ...(withHoldout ? SEGMENT_COLUMNS : COLUMNS_WITHOUT_HOLDOUT)];
+}
+
+function hasHoldout(snapshot: Snapshot): boolean {
+  return snapshot.segments.some((segment) => segment.holdout_n !== null);
 }
 
 /** The table's rows, each keyed by the columns in their order. */
 function segmentTableRows(snapshot: Snapshot): Array<Record<string, unknown>> {
   const dimensions = snapshot.definition.dimensions;
+  const fields = hasHoldout(snapshot) ? SEGMENT_COLUMNS : COLUMNS_WITHOUT_HOLDOUT;
   return snapshot.segments.map((segment) => {
     const row: Record<string, unknown> = { snapshot_id: snapshot.snapshot_id, as_of: snapshot.created_at, rank: segment.rank };
     for (const dimension of dimensions) row[dimensionColumn(dimension)] = segment.values[dimension] ?? null;
-    for (const field of SEGMENT_COLUMNS) row[field] = segment[field];
+    for (const field of fields) row[field] = segment[field as keyof typeof segment];
     return row;
   });
 }
 
 function renderSegmentTable(snapshot: Snapshot, format: TableFormat, options: TableOptions = { bom: false }): RenderedTable {
-  const columns = segmentTableColumns(snapshot.definition.dimensions);
+  const columns = segmentTableColumns(snapshot.definition.dimensions, hasHoldout(snapshot));
   const rows = segmentTableRows(snapshot);
   const body =
     format === 'csv'

@@ -19,7 +19,13 @@ import type { PopulationTotals } from './shifted-sums.js';
  * with an earlier one is judged with the customers known at its start, so a customer who
  * arrived later is not counted as not buying back then.
  */
-export type PopulationSource = { kind: 'campaigns'; campaignIds: string[] } | { kind: 'sales'; from: string; to: string; knownAt?: string };
+/**
+ * A campaign population may be narrowed to one arm: the contacted customers or the holdout
+ * (kept out on purpose); absent, it holds both, as it did before holdouts existed.
+ */
+export type PopulationSource =
+  | { kind: 'campaigns'; campaignIds: string[]; arm?: 'contacted' | 'holdout' }
+  | { kind: 'sales'; from: string; to: string; knownAt?: string };
 
 export interface AggregationRequest {
   source: PopulationSource;
@@ -57,8 +63,8 @@ function plausibleAge(age: RawBuilder<unknown>): RawBuilder<number | null> {
 export const CONTACT_CELL_COLUMNS = ['region', 'channel', 'customer_type'] as const;
 
 /**
- * The units of the population with the columns the reports need: converted (0/1),
- * value_cents, age (plausible or null), raw_age (as stored or computed, for grouping) and the
+ * The units of the population with the columns the reports need: converted (0/1), holdout
+ * (0/1: kept out of the campaign on purpose; always 0 in a sales report), value_cents, age (plausible or null), raw_age (as stored or computed, for grouping) and the
  * dimension columns. A campaign population reads the customer's values copied onto each
  * contact, so it never joins customers; it also offers campaign_key, and always all three
  * customer columns, so that its cells can be grouped in the order of its covering index.
@@ -81,6 +87,7 @@ export function basePopulation(source: PopulationSource, dimensions: readonly st
     columns.push(
       sql`cc.campaign_id as campaign_key`,
       sql`cc.converted as converted`,
+      sql`cc.holdout as holdout`,
       sql`cc.revenue_cents as value_cents`,
       sql`cc.age_at_contact as raw_age`,
       sql`${plausibleAge(sql.ref('cc.age_at_contact'))} as age`,
@@ -88,7 +95,8 @@ export function basePopulation(source: PopulationSource, dimensions: readonly st
     return sql`select ${sql.join(columns)}
       from campaign_contacts cc
       ${sql.join(attributeJoins, sql` `)}
-      where cc.campaign_id in (${sql.join(source.campaignIds)})`;
+      where cc.campaign_id in (${sql.join(source.campaignIds)})
+      ${source.arm === undefined ? sql`` : sql`and cc.holdout = ${source.arm === 'holdout' ? 1 : 0}`}`;
   }
 
   // A sales report's unit is a customer: bought in the window or not, spend in the window, age at its end.
@@ -96,6 +104,8 @@ export function basePopulation(source: PopulationSource, dimensions: readonly st
   const ageAtEnd = ageAtDateSql(sql.ref('cu.birth_date'), source.to);
   columns.push(
     sql`case when s.spend is null then 0 else 1 end as converted`,
+    // A sales report has no campaign, so no one was held out of it.
+    sql`0 as holdout`,
     sql`coalesce(s.spend, 0) as value_cents`,
     sql`${ageAtEnd} as raw_age`,
     sql`${plausibleAge(ageAtEnd)} as age`,
@@ -128,7 +138,7 @@ function ageBandSql(age: RawBuilder<unknown>, edges: readonly number[]): RawBuil
 
 /**
  * The population as a derived table `population` with columns d0…dk (one per dimension, the
- * age band computed in SQL), converted, value_cents, age and raw_age.
+ * age band computed in SQL), converted, holdout, value_cents, age and raw_age.
  */
 export function population(request: Pick<AggregationRequest, 'source' | 'dimensions' | 'ageEdges'>): RawBuilder<unknown> {
   let attributeIndex = 0;
@@ -139,7 +149,7 @@ export function population(request: Pick<AggregationRequest, 'source' | 'dimensi
     else expression = sql.ref(`base.${attributeColumn(attributeIndex++)}`);
     return sql`${expression} as ${sql.ref(dimensionColumn(index))}`;
   });
-  return sql`(select ${sql.join([...dimensionColumns, sql`base.converted as converted`, sql`base.value_cents as value_cents`, sql`base.age as age`, sql`base.raw_age as raw_age`])}
+  return sql`(select ${sql.join([...dimensionColumns, sql`base.converted as converted`, sql`base.holdout as holdout`, sql`base.value_cents as value_cents`, sql`base.age as age`, sql`base.raw_age as raw_age`])}
     from (${basePopulation(request.source, request.dimensions)}) base) population`;
 }
 
@@ -174,3 +184,13 @@ export async function populationTotals(db: Executor, source: PopulationSource): 
   };
 }
 
+/**
+ * How many holdout contacts the campaigns hold: a campaign report splits its arms only when
+ * there are some.
+ */
+export async function holdoutContacts(db: Executor, campaignIds: readonly string[]): Promise<number> {
+  if (campaignIds.length === 0) return 0;
+  const { rows } = await sql<Record<string, unknown>>`
+    select count(*) as n from campaign_contacts where campaign_id in (${sql.join(campaignIds)}) and holdout = 1`.execute(db);
+  return toNumber(rows[0]?.['n']);
+}

@@ -43,6 +43,9 @@ export {
 } from './proportions.js';
 export type { FisherExactTestResult, TwoProportionZTestResult } from './proportions.js';
 
+export { incrementalProfit, upliftDifference } from './uplift.js';
+export type { ArmCounts, UpliftDifferenceResult } from './uplift.js';
+
 export { hedgesG, studentTTest, tInterval, welchTTest } from './means.js';
 export type { MeanInterval, TwoSampleTTestResult } from './means.js';
 

@@ -9,6 +9,7 @@ import { isPublished, type PublishedSegment, type Snapshot, type SnapshotSegment
 import { html, type SafeHtml } from './html.js';
 import { rankingMetric } from './metric.js';
 import { VERDICT_STYLES } from './verdicts.js';
+import { verdictMetric } from '../report/definition/index.js';
 
 /** How many segments each list names before pointing to the table. */
 const LISTED_PER_VERDICT = 5;
@@ -17,7 +18,7 @@ const LISTED_PER_VERDICT = 5;
 function expectation(snapshot: Snapshot, segment: PublishedSegment): string {
   const metric = rankingMetric(snapshot.definition);
   const level = metric.levelOf(segment);
-  const rest = snapshot.definition.rank_by === 'conversion_rate' ? segment.rest.conversion_rate : segment.rest.value_mean;
+  const rest = verdictMetric(snapshot.definition) === 'conversion_rate' ? segment.rest.conversion_rate : segment.rest.value_mean;
   if (level.estimate === null) return `${metric.name} not computed`;
   const interval = level.low !== null && level.high !== null ? ` (${metric.level(level.low)} to ${metric.level(level.high)})` : '';
   return `${metric.level(level.estimate)}${interval}${rest === null ? '' : ` vs ${metric.level(rest)} for the rest`}`;

@@ -3,7 +3,7 @@
  * how a difference is written. Rates are drawn in percentage points, money in major units;
  * the words use the same formatters as the report's sentences.
  */
-import type { ReportDefinition } from '../report/definition/index.js';
+import { type ReportDefinition, verdictMetric } from '../report/definition/index.js';
 import { formatConfidence, formatMoney, formatPercent, formatPoints, formatSignedMoney, vocabulary } from '../report/wording/index.js';
 import type { SnapshotSegment } from '../report/shapes/index.js';
 
@@ -33,7 +33,7 @@ export interface MetricDisplay {
  */
 export function rankingMetric(definition: ReportDefinition): MetricDisplay {
   const words = vocabulary(definition);
-  if (definition.rank_by === 'conversion_rate') {
+  if (verdictMetric(definition) === 'conversion_rate') {
     return {
       name: words.rateName,
       drawnScale: 100,

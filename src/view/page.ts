@@ -18,6 +18,7 @@ import { PAGE_SCRIPT } from './page-script.js';
 import { PAGE_STYLE } from './page-style.js';
 import { decisionSection } from './decision.js';
 import { rankedTable } from './table.js';
+import { verdictMetric } from '../report/definition/index.js';
 
 /** One entry of the snapshot picker. */
 export interface SnapshotChoice {
@@ -77,7 +78,7 @@ function facts(snapshot: Snapshot): SafeHtml {
   const metric = rankingMetric(definition);
   const words = vocabulary(definition);
   const confidence = formatConfidence(definition.confidence);
-  const family = definition.rank_by === 'conversion_rate' ? counts.rate_tests : counts.value_tests;
+  const family = verdictMetric(definition) === 'conversion_rate' ? counts.rate_tests : counts.value_tests;
   const rate =
     population.conversion_rate === null
       ? 'not computed'

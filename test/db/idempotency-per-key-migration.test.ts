@@ -45,7 +45,7 @@ describe.each(TEST_DIALECTS)('migration 0006 on stored uploads (%s)', (dialect) 
     // The same value under two scopes is two uploads; twice under one scope is refused.
     const row = (id: string, scope: string) => ({
       ingest_id: id, kind: 'customers' as const, campaign_id: null, on_error: 'reject' as const, content_type: 'text/csv', rows_received: 1, inserted: 1, updated: 0,
-      unchanged: 0, rejected: 0, sha256: 'cd'.repeat(32), idempotency_key: 'weekly-1', idempotency_scope: scope, received_at: NOW, duration_ms: 1,
+      unchanged: 0, rejected: 0, holdout_rows: 0, sha256: 'cd'.repeat(32), idempotency_key: 'weekly-1', idempotency_scope: scope, received_at: NOW, duration_ms: 1,
       extra_attributes: '[]', warnings: '[]',
     });
     await handle.db.insertInto('ingests').values(row('00000000-0000-4000-8000-000000000003', '0123456789abcdef')).execute();

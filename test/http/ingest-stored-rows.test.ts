@@ -152,4 +152,22 @@ describe.each(TEST_DIALECTS)('stored rows on %s', (dialect) => {
     const next = receiptOf(await upload(testApp.app, '/v1/customers', CSV, csvText(CUSTOMER_HEADER, 'C1,1985-04-12,Northvale,web,individual', 'C2,1972-11-30,Eastmoor,store,company')));
     expect(next).toMatchObject({ rows: 2, inserted: 1, unchanged: 1, rejected: 0 });
   });
+
+  it('stores the holdout flag in any of its spellings, counts holdout rows in the receipt and updates the flag on re-upload', async () => {
+    const testApp = await startApp(dialect);
+    await seedCustomers(testApp.app);
+    const header = `${CONTACT_HEADER},holdout`;
+    const first = receiptOf(await upload(testApp.app, '/v1/campaigns/kept-out/contacts', CSV, csvText(header, 'C1,2026-03-02,1,40.00,yes', 'C2,2026-03-02,0,,', 'C3,2026-03-02,0,,TRUE')));
+    expect(first).toMatchObject({ rows: 3, inserted: 3, holdout_rows: 2 });
+    const flags = async () =>
+      (await testApp.database.handle.db.selectFrom('campaign_contacts').select(['customer_id', 'holdout']).where('campaign_id', '=', 'kept-out').orderBy('customer_id').execute()).map(
+        (row) => [row.customer_id, Number(row.holdout)],
+      );
+    expect(await flags()).toEqual([['C1', 1], ['C2', 0], ['C3', 1]]);
+    // Only the flag changes for C1; a file without the column means every row was contacted.
+    const second = receiptOf(await upload(testApp.app, '/v1/campaigns/kept-out/contacts', CSV, csvText(CONTACT_HEADER, 'C1,2026-03-02,1,40.00', 'C2,2026-03-02,0,')));
+    expect(second).toMatchObject({ rows: 2, inserted: 0, updated: 1, unchanged: 1, holdout_rows: 0 });
+    expect(await flags()).toEqual([['C1', 0], ['C2', 0], ['C3', 1]]);
+    expect(onlyRowError(await upload(testApp.app, '/v1/campaigns/kept-out/contacts', CSV, csvText(header, 'C2,2026-03-02,0,,maybe')))).toMatchObject({ row: 1, column: 'holdout', value: 'maybe' });
+  });
 });

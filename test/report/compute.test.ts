@@ -24,6 +24,7 @@ const DEFINITION: ReportDefinition = {
   rank_by: 'conversion_rate',
   rank_order: 'lower_bound',
   refresh: 'manual',
+  economics: null,
 };
 
 function input(units: TestUnit[], overrides: Partial<SnapshotInput> = {}): SnapshotInput {

@@ -38,6 +38,7 @@ describe('report definitions', () => {
       rank_by: 'conversion_rate',
       rank_order: 'lower_bound',
       refresh: 'manual',
+      economics: null,
     });
   });
 

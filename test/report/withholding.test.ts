@@ -26,6 +26,7 @@ const DEFINITION: ReportDefinition = {
   equivalence_margin: 0.02,
   value_equivalence_margin: null,
   refresh: 'manual',
+  economics: null,
 };
 
 function input(units: TestUnit[], threshold: number, overrides: Partial<SnapshotInput> = {}): SnapshotInput {

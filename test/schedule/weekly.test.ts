@@ -64,7 +64,7 @@ describe.each(TEST_DIALECTS)('the weekly refresh (%s)', (dialect) => {
     await db.insertInto('campaigns').values({ campaign_id: 'weekly', created_at: now }).execute();
     await db
       .insertInto('campaign_contacts')
-      .values(Array.from({ length: 40 }, (_unused, index) => ({ campaign_id: 'weekly', customer_id: `w${index}`, contacted_at: '2026-05-01', converted: index % 3 === 0 ? 1 : 0, revenue_cents: index % 3 === 0 ? 1500 : 0, age_at_contact: 46, region: index % 2 ? 'North' : 'South', channel: 'web', customer_type: 'individual' as const, last_ingest_id: null })))
+      .values(Array.from({ length: 40 }, (_unused, index) => ({ campaign_id: 'weekly', customer_id: `w${index}`, contacted_at: '2026-05-01', converted: index % 3 === 0 ? 1 : 0, revenue_cents: index % 3 === 0 ? 1500 : 0, age_at_contact: 46, region: index % 2 ? 'North' : 'South', channel: 'web', customer_type: 'individual' as const, holdout: 0, last_ingest_id: null })))
       .execute();
     weeklyReportId = (await saveReport(deps, { name: 'Weekly', source: { campaign_ids: ['weekly'] }, dimensions: ['region'], refresh: 'weekly', min_n: 5 })).report_id;
     await saveReport(deps, { name: 'Manual', source: { campaign_ids: ['weekly'] }, dimensions: ['region'], refresh: 'manual', min_n: 5 });

@@ -63,7 +63,7 @@ async function seedCampaign(database: TestDatabase, units: Unit[], campaignId = 
   await db.insertInto('campaigns').values({ campaign_id: campaignId, created_at: NOW }).execute();
   await db
     .insertInto('campaign_contacts')
-    .values(units.map((unit) => ({ campaign_id: campaignId, customer_id: unit.customer_id, contacted_at: '2026-03-01', converted: unit.converted, revenue_cents: unit.revenue_cents, age_at_contact: unit.age_at_contact, region: unit.region, channel: unit.channel, customer_type: 'individual' as const, last_ingest_id: null })))
+    .values(units.map((unit) => ({ campaign_id: campaignId, customer_id: unit.customer_id, contacted_at: '2026-03-01', converted: unit.converted, revenue_cents: unit.revenue_cents, age_at_contact: unit.age_at_contact, region: unit.region, channel: unit.channel, customer_type: 'individual' as const, holdout: 0, last_ingest_id: null })))
     .execute();
 }
 

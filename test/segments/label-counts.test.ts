@@ -26,7 +26,7 @@ describe.each(TEST_DIALECTS)('label count bounds (%s)', (dialect) => {
     await db.insertInto('campaigns').values({ campaign_id: 'spring', created_at: NOW }).execute();
     await db
       .insertInto('campaign_contacts')
-      .values(ids.slice(0, 6).map((id, index) => ({ campaign_id: 'spring', customer_id: id, contacted_at: '2026-03-01', converted: 0, revenue_cents: 0, age_at_contact: 46, region: ['Fennwick', 'Saltmere', 'Brackby'][index % 3] as string, channel: index % 2 === 0 ? 'web shop' : 'catalogue mail', customer_type: 'individual' as const, last_ingest_id: null })))
+      .values(ids.slice(0, 6).map((id, index) => ({ campaign_id: 'spring', customer_id: id, contacted_at: '2026-03-01', converted: 0, holdout: 0, revenue_cents: 0, age_at_contact: 46, region: ['Fennwick', 'Saltmere', 'Brackby'][index % 3] as string, channel: index % 2 === 0 ? 'web shop' : 'catalogue mail', customer_type: 'individual' as const, last_ingest_id: null })))
       .execute();
   });
   afterAll(async () => {

@@ -3,6 +3,7 @@
  * tested segments (one of each tested verdict), one segment too small to test, and segment
  * names that try to break out of HTML. Its figures are made up; the view only draws them.
  */
+import { withoutHoldout } from '../../src/report/analysis/index.js';
 import type { ReportDefinition } from '../../src/report/definition/index.js';
 import type { Descriptives, Snapshot, SnapshotSegment, Verdict } from '../../src/report/shapes/index.js';
 
@@ -24,6 +25,7 @@ const definition: ReportDefinition = {
   rank_by: 'conversion_rate',
   rank_order: 'lower_bound',
   refresh: 'manual',
+  economics: null,
 };
 
 function descriptives(n: number, mean: number | null): Descriptives {
@@ -83,6 +85,7 @@ function segment(figures: SegmentFigures): SnapshotSegment {
     explained_by: null,
     summary: `Sentence about ${figures.dimension} ${figures.value}.`,
     withheld_below: null,
+    ...withoutHoldout(),
     values: { [figures.dimension]: figures.value },
     tested,
     mirror_of: null,

@@ -10,6 +10,7 @@ export { rankSegments } from './ranking.js';
 export { findReversals } from './reversals.js';
 export { campaignStrata, mirroredSegments } from './families.js';
 export { segmentLabel, segmentRow } from './segment-row.js';
+export { adviceInterval, adviceOf, analyzeHoldout, withoutHoldout, type Advice, type Economics, type HoldoutArms, type HoldoutFigures } from './uplift.js';
 export { positiveLogSummaries, type PositiveLogs } from './value-logs.js';
 export { analyzeSegment, valueSummary } from './segment-tests.js';
 export { decideVerdict, segmentVerdict, type VerdictInput } from './verdict.js';

@@ -5,7 +5,7 @@
  * within the parent is the easier finding) while the parent itself has the cross's verdict.
  */
 import { subtractGroup, type Group } from '../../segments/index.js';
-import type { ReportDefinition } from '../definition/index.js';
+import { type ReportDefinition, verdictMetric } from '../definition/index.js';
 import type { SnapshotSegment } from '../shapes/index.js';
 import { segmentLabel } from './segment-row.js';
 import { rateTest, valueTest, valueSummary } from './segment-tests.js';
@@ -21,7 +21,7 @@ export function parentLabels(group: Pick<Group, 'dimensions' | 'labels'>): strin
 function withinParentPValue(cross: Group, parent: Group, definition: ReportDefinition, logs: PositiveLogs): number | null {
   const others = subtractGroup(parent.stats, cross.stats);
   if (others.n < definition.min_n) return null;
-  if (definition.rank_by === 'conversion_rate') {
+  if (verdictMetric(definition) === 'conversion_rate') {
     const test = rateTest(cross.stats.conversions, cross.stats.n, others.conversions, others.n);
     return test.ok ? test.value.pValue : null;
   }

@@ -6,19 +6,29 @@
  * parent when it would otherwise outrank it.
  */
 import { compareText } from '../../segments/index.js';
-import type { ReportDefinition } from '../definition/index.js';
+import { type ReportDefinition, verdictMetric } from '../definition/index.js';
 import type { SnapshotSegment } from '../shapes/index.js';
 
 /** The ranking key of a tested segment: the lower bound of the expected figure, or the figure itself. */
 function rankingKey(segment: SnapshotSegment, definition: ReportDefinition): number | null {
-  if (definition.rank_by === 'conversion_rate') {
+  const byLowerBound = definition.rank_order === 'lower_bound';
+  if (definition.rank_by === 'uplift') return byLowerBound ? segment.uplift_ci_low : segment.uplift;
+  if (definition.rank_by === 'incremental_profit') return byLowerBound ? segment.incremental_profit_ci_low : segment.incremental_profit_per_contact;
+  if (verdictMetric(definition) === 'conversion_rate') {
     return definition.rank_order === 'lower_bound' ? segment.rate_expected_ci_low : segment.rate_expected;
   }
   return definition.rank_order === 'lower_bound' ? segment.value_expected_ci_low : segment.value_expected;
 }
 
-/** 0 for better, 2 for worse, 1 for every other verdict of a tested segment. */
-function tier(segment: SnapshotSegment): number {
+/**
+ * 0 for better, 2 for worse, 1 for every other verdict of a tested segment; ranked by what
+ * contacting added, 0 for advice to contact, 2 to hold back, 1 otherwise.
+ */
+function tier(segment: SnapshotSegment, definition: ReportDefinition): number {
+  if (definition.rank_by === 'uplift' || definition.rank_by === 'incremental_profit') {
+    if (segment.advice === 'contact') return 0;
+    return segment.advice === 'hold_back' ? 2 : 1;
+  }
   if (segment.verdict === 'better') return 0;
   if (segment.verdict === 'worse') return 2;
   return 1;
@@ -56,7 +66,7 @@ export function rankSegments(segments: SnapshotSegment[], definition: ReportDefi
   const tested = segments
     .filter((segment) => segment.tested)
     .sort((left, right) => {
-      const byTier = tier(left) - tier(right);
+      const byTier = tier(left, definition) - tier(right, definition);
       if (byTier !== 0) return byTier;
       const leftKey = rankingKey(left, definition);
       const rightKey = rankingKey(right, definition);

@@ -3,10 +3,11 @@
  * p-values are adjusted, the verdict decided and the rank given later, over all segments.
  */
 import type { Group, GroupStats } from '../../segments/index.js';
-import { DEFAULT_EQUIVALENCE_MARGIN, type ReportDefinition } from '../definition/index.js';
+import { DEFAULT_EQUIVALENCE_MARGIN, type ReportDefinition, verdictMetric } from '../definition/index.js';
 import type { PublishedSegment } from '../shapes/index.js';
 import { valueOrNull } from './outcome.js';
 import { statisticNotes, type SegmentStatistics } from './segment-tests.js';
+import { withoutHoldout } from './uplift.js';
 
 /**
  * The name of a segment: each dimension with its value.
@@ -65,11 +66,12 @@ export function segmentRow(group: Group, rest: GroupStats, statistics: SegmentSt
     value_diff_ci_high: comparison?.interval.high ?? null,
     value_p_value: comparison?.pValue ?? null,
     value_p_adjusted: null,
-    min_detectable_diff: definition.rank_by === 'conversion_rate' ? rateMdd : valueOrNull(statistics.valueMdd),
+    min_detectable_diff: verdictMetric(definition) === 'conversion_rate' ? rateMdd : valueOrNull(statistics.valueMdd),
     verdict: 'too_small',
     explained_by: null,
     summary: '',
     withheld_below: null,
+    ...withoutHoldout(),
     values,
     tested: statistics.tested,
     mirror_of: null,

@@ -16,7 +16,7 @@
  * Absence of evidence is never reported as evidence of absence (Altman & Bland 1995, BMJ 311,
  * 485 — from memory): only a test against a stated margin earns "treat it like the rest".
  */
-import type { ReportDefinition } from '../definition/index.js';
+import { type ReportDefinition, verdictMetric } from '../definition/index.js';
 import type { SnapshotSegment, Verdict } from '../shapes/index.js';
 
 export interface VerdictInput {
@@ -48,7 +48,7 @@ export function decideVerdict(input: VerdictInput): Verdict {
 /** The verdict of one segment on the report's ranking metric, from its adjusted p-values. */
 export function segmentVerdict(segment: SnapshotSegment, definition: ReportDefinition): Verdict {
   const alpha = 1 - definition.confidence;
-  const byRate = definition.rank_by === 'conversion_rate';
+  const byRate = verdictMetric(definition) === 'conversion_rate';
   return decideVerdict({
     tested: segment.tested,
     difference: byRate ? segment.rate_diff : segment.value_diff,

@@ -44,10 +44,25 @@ const VALUE_EQUIVALENCE_MARGIN = {
   exclusiveMinimum: 0,
   description: 'a difference of the value metric (major currency units) small enough to treat a segment like the rest; null (the default): no equivalence claims on value',
 } as const;
+const ECONOMICS_DESCRIPTION =
+  'campaign reports with holdout customers: turns the incremental value per contact into incremental profit per contact (margin × value − cost per contact); null (the default): no profit figures';
+const Economics = Type.Object(
+  {
+    margin: Type.Number({ minimum: 0, maximum: 1, description: 'fraction of revenue kept as profit' }),
+    cost_per_contact: Type.Number({ minimum: 0, description: 'money spent per contacted customer, major currency units' }),
+  },
+  { additionalProperties: false },
+);
+
 const CHOICES = {
   adjustment: { enum: ['bh', 'holm', 'none'], default: 'bh', description: 'multiplicity adjustment of the p-values' },
   value_basis: { enum: ['per_unit', 'per_conversion'], default: 'per_unit' },
-  rank_by: { enum: ['conversion_rate', 'value'], default: 'conversion_rate' },
+  rank_by: {
+    enum: ['conversion_rate', 'value', 'uplift', 'incremental_profit'],
+    default: 'conversion_rate',
+    description:
+      'the ranking metric; uplift and incremental_profit (campaign reports with holdout customers, the latter with economics) rank by what contacting added, and their verdicts compare the conversion rate and the value with the rest',
+  },
   rank_order: { enum: ['lower_bound', 'estimate'], default: 'lower_bound' },
   refresh: { enum: ['weekly', 'manual'], default: 'manual' },
 } as const;
@@ -95,6 +110,7 @@ export const ReportDefinitionBody = Type.Object(
     rank_by: Type.Optional(choice(CHOICES.rank_by)),
     rank_order: Type.Optional(choice(CHOICES.rank_order)),
     refresh: Type.Optional(choice(CHOICES.refresh)),
+    economics: Type.Optional(Type.Union([Economics, Type.Null()], { description: ECONOMICS_DESCRIPTION })),
   },
   { additionalProperties: false },
 );
@@ -106,6 +122,16 @@ export type ReportDefinition = Static<typeof ReportDefinition>;
 export type Adjustment = ReportDefinition['adjustment'];
 export type ValueBasis = ReportDefinition['value_basis'];
 export type RankBy = ReportDefinition['rank_by'];
+/** The metric the verdicts and the sentences compare with the rest. */
+export type VerdictMetric = 'conversion_rate' | 'value';
+
+/**
+ * The metric the verdicts compare: the ranking metric itself, or for a ranking by what
+ * contacting added, the conversion rate (uplift) or the value (incremental profit).
+ */
+export function verdictMetric(definition: Pick<ReportDefinition, 'rank_by'>): VerdictMetric {
+  return definition.rank_by === 'conversion_rate' || definition.rank_by === 'uplift' ? 'conversion_rate' : 'value';
+}
 export type RankOrder = ReportDefinition['rank_order'];
 export type RefreshMode = ReportDefinition['refresh'];
 
@@ -286,6 +312,13 @@ export async function normalizeDefinition(body: unknown, lookup: DefinitionLooku
     }
   }
 
+  const rankBy = body['rank_by'];
+  if ((rankBy === 'uplift' || rankBy === 'incremental_profit') && source !== null && !('campaign_ids' in source)) {
+    report('/rank_by', `${rankBy} needs a campaign report (a holdout is kept in campaigns); a sales report ranks by conversion_rate or value`);
+  }
+  if (rankBy === 'incremental_profit' && (body['economics'] === undefined || body['economics'] === null)) {
+    report('/rank_by', 'incremental_profit needs economics: {"margin": …, "cost_per_contact": …}');
+  }
   if (issues.length > 0 || name === null || source === null || dimensions === null || crosses === null || ageBands === null) throw new InvalidDefinitionError(issues);
   return {
     name,
@@ -302,6 +335,7 @@ export async function normalizeDefinition(body: unknown, lookup: DefinitionLooku
     rank_by: (body['rank_by'] as RankBy | undefined) ?? CHOICES.rank_by.default,
     rank_order: (body['rank_order'] as RankOrder | undefined) ?? CHOICES.rank_order.default,
     refresh: (body['refresh'] as RefreshMode | undefined) ?? CHOICES.refresh.default,
+    economics: (body['economics'] as ReportDefinition['economics'] | undefined) ?? null,
   };
 }
 
@@ -312,8 +346,13 @@ export const DEFAULT_EQUIVALENCE_MARGIN = EQUIVALENCE_MARGIN.default;
  * A definition as stored, with the defaults of fields added since it was stored (the
  * equivalence margins), so every reader sees the current shape.
  */
-export function withCurrentDefaults(stored: Omit<ReportDefinition, 'equivalence_margin' | 'value_equivalence_margin'> & Partial<ReportDefinition>): ReportDefinition {
-  return { ...stored, equivalence_margin: stored.equivalence_margin ?? EQUIVALENCE_MARGIN.default, value_equivalence_margin: stored.value_equivalence_margin ?? null };
+export function withCurrentDefaults(stored: Omit<ReportDefinition, 'equivalence_margin' | 'value_equivalence_margin' | 'economics'> & Partial<ReportDefinition>): ReportDefinition {
+  return {
+    ...stored,
+    equivalence_margin: stored.equivalence_margin ?? EQUIVALENCE_MARGIN.default,
+    value_equivalence_margin: stored.value_equivalence_margin ?? null,
+    economics: stored.economics ?? null,
+  };
 }
 
 type Report = (path: string, reason: string) => void;

@@ -6,6 +6,7 @@ export {
   ReportSource,
   normalizeDefinition,
   withCurrentDefaults,
+  verdictMetric,
   DEFAULT_EQUIVALENCE_MARGIN,
   type Adjustment,
   type DefinitionIssue,
@@ -14,4 +15,5 @@ export {
   type RankOrder,
   type RefreshMode,
   type ValueBasis,
+  type VerdictMetric,
 } from './definition.js';

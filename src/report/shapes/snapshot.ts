@@ -17,6 +17,38 @@ export const Verdict = Type.Unsafe<(typeof VERDICTS)[number]>({ type: 'string', 
 export type Verdict = Static<typeof Verdict>;
 
 /** One flat row of the ranked table; the order of its fields is the order of the BI columns. */
+/**
+ * A campaign report whose population has holdout customers (kept out on purpose) appends these
+ * to each segment; n, conversions and the vs-the-rest figures then describe the contacted
+ * customers. Null in every other report, and absent from its CSV.
+ */
+const HOLDOUT_FIELDS = {
+  holdout_n: nullable(Type.Integer(), { description: "the segment's holdout customers" }),
+  holdout_conversions: nullable(Type.Integer()),
+  holdout_rate: NullableNumber(),
+  uplift: NullableNumber('conversion rate of the contacted − rate of the holdout within the segment (Newcombe hybrid score interval)'),
+  uplift_ci_low: NullableNumber(),
+  uplift_ci_high: NullableNumber(),
+  uplift_p_value: NullableNumber('pooled two-proportion z-test, or Fisher exact test when an expected count is below 5'),
+  uplift_p_adjusted: NullableNumber('adjusted over the uplift tests of the report, a family of their own'),
+  uplift_vs_rest: NullableNumber("the segment's uplift − the rest's uplift, as the difference of two independent estimates (Altman & Bland 2003)"),
+  uplift_vs_rest_ci_low: NullableNumber(),
+  uplift_vs_rest_ci_high: NullableNumber(),
+  uplift_vs_rest_p_value: NullableNumber(),
+  incremental_value_per_contact: NullableNumber('mean revenue per contacted customer − per holdout customer, zeros included (Welch interval), major currency units'),
+  incremental_value_ci_low: NullableNumber(),
+  incremental_value_ci_high: NullableNumber(),
+  incremental_profit_per_contact: NullableNumber('margin × incremental value − cost per contact (definition economics); null without economics'),
+  incremental_profit_ci_low: NullableNumber(),
+  incremental_profit_ci_high: NullableNumber(),
+  advice: Type.Unsafe<'contact' | 'hold_back' | 'undecided' | null>({
+    type: ['string', 'null'],
+    enum: ['contact', 'hold_back', 'undecided', null],
+    description:
+      'contact: the lower end of incremental profit (or of uplift, without economics), at the confidence the adjustment of the uplift family implies, is above 0; hold_back: the upper end is below 0; undecided otherwise; null when not measured',
+  }),
+};
+
 export const SegmentRow = Type.Object({
   rank: nullable(Type.Integer(), { description: '1 = first; null for segments that were not tested (they are listed after the tested ones)' }),
   segment: Type.String({ description: 'dimension=value, joined by " & " for a two-way segment, e.g. age_band=25-34 & region=North' }),
@@ -71,6 +103,7 @@ export const SegmentRow = Type.Object({
     description:
       'null for a published segment; otherwise the publication threshold: the segment (or its rest) has fewer units than this, or its figures would let a smaller one be recovered by subtraction, so every figure is null and it is not tested',
   }),
+  ...HOLDOUT_FIELDS,
 });
 export type SegmentRow = Static<typeof SegmentRow>;
 

@@ -25,11 +25,13 @@ import {
 import { VERDICTS, type Comparison, type Reversal, type Snapshot, type SnapshotSegment, type Verdict } from '../shapes/index.js';
 import { comparisonNote, reportSummary, reversalSentence, segmentSummary, snapshotCautions, vocabulary, type SentenceContext } from '../wording/index.js';
 import { fingerprintOf } from './fingerprint.js';
+import { addHoldoutFigures } from './holdout.js';
 import type { SnapshotInput } from './input.js';
 import { dataQualityOf, populationFigures } from './population.js';
 import { dimensionProfiles } from './profiles.js';
 import { withholdSnapshot } from './withholding.js';
 import { DEFAULT_PUBLICATION_THRESHOLD } from '../../config.js';
+import { verdictMetric } from '../definition/index.js';
 
 /**
  * Computes a whole snapshot (all but `duration_ms`, which the caller measures).
@@ -103,6 +105,7 @@ export function buildSnapshot(input: SnapshotInput): Snapshot {
     if (segment.equivalence.conversion_rate) segment.equivalence.conversion_rate.p_adjusted = twin.equivalence.conversion_rate?.p_adjusted ?? null;
     if (segment.equivalence.value) segment.equivalence.value.p_adjusted = twin.equivalence.value?.p_adjusted ?? null;
   }
+  if (input.holdout) addHoldoutFigures(analysed.map(({ group, segment }) => ({ stats: group.stats, segment })), total, input.holdout, definition, minN);
   for (const { segment } of analysed) segment.verdict = segmentVerdict(segment, definition);
   const expected = expectedFigures(
     analysed.map(({ group }) => group),
@@ -145,13 +148,13 @@ export function buildSnapshot(input: SnapshotInput): Snapshot {
   for (const segment of segments) segment.summary = segmentSummary(segment, context);
 
   const metric = (stats: GroupStats): number | null => {
-    if (definition.rank_by === 'conversion_rate') return stats.n > 0 ? stats.conversions / stats.n : null;
+    if (verdictMetric(definition) === 'conversion_rate') return stats.n > 0 ? stats.conversions / stats.n : null;
     const summary = valueSummary(stats, basis);
     return summary.n > 0 ? summary.mean : null;
   };
   const reversals: Reversal[] = findReversals({ dimensions: definition.dimensions, cells: cellGroups, minN: definition.min_n, metric }).map((reversal) => ({
     ...reversal,
-    sentence: reversalSentence(reversal, words, definition.rank_by, definition.min_n),
+    sentence: reversalSentence(reversal, words, verdictMetric(definition), definition.min_n),
   }));
 
   const oneWay = definition.dimensions.flatMap((_dimension, index) => groupBy(cellGroups, definition.dimensions, [index]));
@@ -193,7 +196,7 @@ export function buildSnapshot(input: SnapshotInput): Snapshot {
       vocabulary: words,
       population,
       counts,
-      familySize: definition.rank_by === 'conversion_rate' ? rateTests : valueTests,
+      familySize: verdictMetric(definition) === 'conversion_rate' ? rateTests : valueTests,
       top: segments[0] ?? null,
       reversals: reversals.length,
     }),

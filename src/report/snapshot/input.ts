@@ -13,6 +13,7 @@ import type {
 import type { PreviousWindow } from '../analysis/index.js';
 import type { ReportDefinition } from '../definition/index.js';
 import type { Snapshot } from '../shapes/index.js';
+import type { HoldoutCells } from './holdout.js';
 
 interface SnapshotIdentity {
   snapshotId: string;
@@ -44,6 +45,11 @@ export interface SnapshotInput {
   /** sales reports: the window of the same length just before this one */
   previousWindow: PreviousWindow | null;
   previousSnapshot: Snapshot | null;
+  /**
+   * Campaign reports whose population has holdout customers: the holdout arm's cells; the other
+   * aggregates then describe the contacted customers only. Null or absent: no holdout.
+   */
+  holdout?: HoldoutCells | null;
   /** No published figure describes fewer units than this (withholding.ts); the service's setting, 10 when absent. */
   publicationThreshold?: number;
 }

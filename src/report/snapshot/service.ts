@@ -10,6 +10,7 @@ import type { Logger } from '../../logger.js';
 import {
   explainOverflow,
   gridCountsOf,
+  holdoutContacts,
   labelCounts,
   shiftsAndCellAggregates,
   sourceQuality,
@@ -24,6 +25,7 @@ import {
 import type { PreviousWindow } from '../analysis/index.js';
 import { buildSnapshot } from './build.js';
 import { dimensionsOverLimit, refuseCellLabelsPastLimit, refuseLabelsPastLimit } from './label-limit.js';
+import type { HoldoutCells } from './holdout.js';
 import { InvalidDefinitionError, normalizeDefinition, withCurrentDefaults, type ReportDefinition } from '../definition/index.js';
 import { readStoredSnapshot } from './stored.js';
 import { ageGridAxis, ageValueGridAxes, isExpandable } from './profiles.js';
@@ -233,7 +235,10 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   if (!row) throw new ReportNotFoundError(reportId);
   const definition = parseDefinition(row);
   deps.logger.info({ reportId, trigger }, 'refresh started');
-  const source = populationSource(definition);
+  let source = populationSource(definition);
+  // With holdout customers, every figure but the holdout's describes the contacted ones.
+  const withHoldout = source.kind === 'campaigns' && (await holdoutContacts(deps.readDb, source.campaignIds)) > 0;
+  if (withHoldout && source.kind === 'campaigns') source = { ...source, arm: 'contacted' };
   const request: AggregationRequest = { source, dimensions: definition.dimensions, ageEdges: definition.age_bands, valueBasis: definition.value_basis };
 
   let transaction = deps.readDb.transaction();
@@ -263,7 +268,12 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
       const current = await shiftsAndCellAggregates(trx, { ...request, source: { ...source, knownAt: source.from } });
       previousWindow = { ...window, cells: previous.cells, shifts: previous.shifts, current: { cells: current.cells, shifts: current.shifts } };
     }
-    return { shifts, cells, arithmetic, ageCounts, valueCounts, populationValueCounts: wholeValueCounts, ageValueGrid, quality, previousWindow, strata };
+    let holdout: HoldoutCells | null = null;
+    if (withHoldout && source.kind === 'campaigns') {
+      const arm = await shiftsAndCellAggregates(trx, { ...request, source: { ...source, arm: 'holdout' } });
+      holdout = { cells: arm.cells, shifts: arm.shifts };
+    }
+    return { shifts, cells, arithmetic, ageCounts, valueCounts, populationValueCounts: wholeValueCounts, ageValueGrid, quality, previousWindow, strata, holdout };
   });
   // A customer's spend past 2^63 cents overflows the database's sum: refused by name, not a 500.
   const windows = source.kind === 'sales' ? [source, precedingWindow(source.from, source.to)] : [];

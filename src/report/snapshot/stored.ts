@@ -5,13 +5,15 @@
  * note saying so, and its sentence is left as it was written.
  */
 import type { Snapshot, SnapshotSegment } from '../shapes/index.js';
+import { withoutHoldout } from '../analysis/uplift.js';
 
 const FORMER_NO_DIFFERENCE = 'no_detectable_difference';
 
 type StoredSegment = Omit<SnapshotSegment, 'mirror_of' | 'equivalence' | 'strata' | 'change'> & Partial<Pick<SnapshotSegment, 'mirror_of' | 'equivalence' | 'strata'>> & { change: unknown };
 
 function currentSegment(stored: StoredSegment): SnapshotSegment {
-  const segment = { ...stored } as unknown as SnapshotSegment;
+  // Snapshots stored before holdouts existed had none: their holdout fields are all null.
+  const segment = { ...withoutHoldout(), ...stored } as unknown as SnapshotSegment;
   if ((stored.verdict as string) === FORMER_NO_DIFFERENCE) {
     segment.verdict = 'inconclusive';
     segment.notes = [...stored.notes, 'Stored under a former rule as "no detectable difference", which tested no equivalence margin; read as inconclusive.'];

@@ -23,6 +23,8 @@
 import type { Disclosure, DimensionProfile, HistogramFigure, PopulationFigures, Reversal, Snapshot, SnapshotSegment, Verdict } from '../shapes/index.js';
 import { VERDICTS } from '../shapes/index.js';
 import { reportSummary, segmentSummary, vocabulary, type SentenceContext } from '../wording/index.js';
+import { withoutHoldout } from '../analysis/index.js';
+import { verdictMetric } from '../definition/index.js';
 
 /** A stored snapshot needs no further withholding when it was withheld at this threshold or a higher one. */
 function isWithheldAt(snapshot: Pick<Snapshot, 'disclosure'>, threshold: number): boolean {
@@ -167,6 +169,7 @@ function withheldSegment(segment: SnapshotSegment, threshold: number): SnapshotS
     notes: [],
   };
   for (const field of WITHHELD_FIGURES) (copy as Record<string, unknown>)[field] = null;
+  Object.assign(copy, withoutHoldout());
   return copy;
 }
 
@@ -304,7 +307,7 @@ export function withholdSnapshot(snapshot: Snapshot, threshold: number): Snapsho
       vocabulary: words,
       population,
       counts,
-      familySize: definition.rank_by === 'conversion_rate' ? snapshot.row_counts.rate_tests : snapshot.row_counts.value_tests,
+      familySize: verdictMetric(definition) === 'conversion_rate' ? snapshot.row_counts.rate_tests : snapshot.row_counts.value_tests,
       top: segments[0] ?? null,
       reversals: reversals.length,
       withheld: { segments: withheldSegments, threshold },

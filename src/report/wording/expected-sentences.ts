@@ -6,6 +6,7 @@ import type { SnapshotSegment } from '../shapes/index.js';
 import { formatConfidence, formatMoney, formatPercent } from './format.js';
 import type { SentenceContext } from './segment-sentences.js';
 import { describeSegment } from './vocabulary.js';
+import { verdictMetric } from '../definition/index.js';
 
 /** 'channel=web' → 'channel web': a segment label in the words of `describeSegment`. */
 function describeLabel(label: string): string {
@@ -20,7 +21,7 @@ function describeLabel(label: string): string {
 /** The expected figure of the ranking metric, its interval and what it was drawn toward. */
 export function expectedSentence(segment: SnapshotSegment, context: SentenceContext): string {
   if (!segment.tested) return '';
-  const byRate = context.definition.rank_by === 'conversion_rate';
+  const byRate = verdictMetric(context.definition) === 'conversion_rate';
   const [estimate, low, high] = byRate
     ? [segment.rate_expected, segment.rate_expected_ci_low, segment.rate_expected_ci_high]
     : [segment.value_expected, segment.value_expected_ci_low, segment.value_expected_ci_high];

@@ -1,5 +1,5 @@
 /** The ranking metric of a segment, seen through one interface whichever metric it is. */
-import type { ReportDefinition } from '../definition/index.js';
+import type { VerdictMetric } from '../definition/index.js';
 import type { SnapshotSegment } from '../shapes/index.js';
 import { formatMoney, formatPercent, formatPoints, formatPointsMagnitude, formatSignedMoney } from './format.js';
 import type { Vocabulary } from './vocabulary.js';
@@ -21,7 +21,7 @@ export interface MetricView {
   unit: string;
 }
 
-export function metricView(segment: SnapshotSegment, metric: ReportDefinition['rank_by'], words: Vocabulary): MetricView {
+export function metricView(segment: SnapshotSegment, metric: VerdictMetric, words: Vocabulary): MetricView {
   if (metric === 'conversion_rate') {
     return {
       name: words.rateName,

@@ -3,7 +3,7 @@
  * it is compared with, and its reversals. Numbers go through `format.ts`, as in every sentence.
  */
 import { formatConfidence, formatCount, formatMoney, formatPercent } from './format.js';
-import type { ReportDefinition } from '../definition/index.js';
+import { type ReportDefinition, verdictMetric, type VerdictMetric } from '../definition/index.js';
 import type { Comparison, Reversal, SnapshotSegment, Verdict } from '../shapes/index.js';
 import { metricView } from './metric-view.js';
 import { describeSegment, type Vocabulary } from './vocabulary.js';
@@ -45,9 +45,9 @@ export function reportSummary(input: ReportSummaryInput): string {
     return `The population is empty: no ${words.units} match this report's source, so there is nothing to compare yet.`;
   }
   const confidence = formatConfidence(definition.confidence);
-  const metric = definition.rank_by === 'conversion_rate' ? words.rateName : words.valueName;
+  const metric = verdictMetric(definition) === 'conversion_rate' ? words.rateName : words.valueName;
   const overall =
-    definition.rank_by === 'conversion_rate'
+    verdictMetric(definition) === 'conversion_rate'
       ? input.population.conversion_rate === null
         ? ''
         : ` with a ${words.rateName} of ${formatPercent(input.population.conversion_rate)}`
@@ -68,7 +68,7 @@ export function reportSummary(input: ReportSummaryInput): string {
     );
   }
   if (input.top !== null && input.top.rank === 1) {
-    const view = metricView(input.top, definition.rank_by, words);
+    const view = metricView(input.top, verdictMetric(definition), words);
     if (view.estimate !== null) {
       parts.push(` First in the ranking is ${describeSegment(input.top.values)} with ${view.level(view.estimate)}${input.top.verdict === 'better' ? ', reliably above the rest' : ', though not reliably different from the rest'}.`);
     }
@@ -86,7 +86,7 @@ export function reportSummary(input: ReportSummaryInput): string {
 export function reversalSentence(
   reversal: Omit<Reversal, 'sentence'>,
   words: Vocabulary,
-  metric: ReportDefinition['rank_by'],
+  metric: VerdictMetric,
   minN: number,
 ): string {
   const level = metric === 'conversion_rate' ? formatPercent : formatMoney;

@@ -5,11 +5,12 @@
  * always find the figure a sentence quotes.
  */
 import { formatConfidence, formatCount, formatPoints, formatPValue, formatRank, formatRatio, formatSignedMoney } from './format.js';
-import type { ReportDefinition } from '../definition/index.js';
+import { type ReportDefinition, verdictMetric, type VerdictMetric } from '../definition/index.js';
 import { isPublished, type EquivalenceTest, type PublishedSegment, type SnapshotSegment, type Verdict } from '../shapes/index.js';
 import { metricView, type MetricView } from './metric-view.js';
 import { describeSegment, type Vocabulary } from './vocabulary.js';
 import { expectedSentence, explainedSentence } from './expected-sentences.js';
+import { holdoutSentence } from './holdout-sentences.js';
 
 function capitalize(text: string): string {
   return text.charAt(0).toUpperCase() + text.slice(1);
@@ -19,7 +20,7 @@ export interface SentenceContext {
   definition: ReportDefinition;
   vocabulary: Vocabulary;
   /** size of each metric's multiplicity family: the tested segments whose test could be computed */
-  familySizes: Record<ReportDefinition['rank_by'], number>;
+  familySizes: Record<VerdictMetric, number>;
   /** whether a previous snapshot exists (for rank movement) */
   hasPreviousSnapshot: boolean;
   /** what the change of each segment is measured against */
@@ -45,7 +46,7 @@ function against(view: MetricView): string {
 }
 
 /** Why a figure is missing, in words without numbers of their own. */
-function missingReason(segment: PublishedSegment, metric: ReportDefinition['rank_by'], words: Vocabulary): string {
+function missingReason(segment: PublishedSegment, metric: VerdictMetric, words: Vocabulary): string {
   if (metric === 'conversion_rate') {
     if (segment.rate_p_value === null) return 'The rates could not be compared.';
     return '';
@@ -62,7 +63,7 @@ function missingReason(segment: PublishedSegment, metric: ReportDefinition['rank
   return '';
 }
 
-function liftClause(segment: PublishedSegment, metric: ReportDefinition['rank_by']): string {
+function liftClause(segment: PublishedSegment, metric: VerdictMetric): string {
   if (metric !== 'conversion_rate') return '';
   if (segment.lift !== null) return ` That is ${formatRatio(segment.lift)} times the rest's rate.`;
   if (segment.rest.conversions === 0) return " The lift cannot be computed: the rest has no conversions to divide by.";
@@ -76,14 +77,14 @@ function adjustedPhrase(view: MetricView, context: SentenceContext): string {
   return `${adjustment} ${formatPValue(view.adjustedP)}`;
 }
 
-function familyPhrase(context: SentenceContext, metric: ReportDefinition['rank_by']): string {
+function familyPhrase(context: SentenceContext, metric: VerdictMetric): string {
   return context.definition.adjustment === 'none'
     ? 'with no allowance for the number of segments tested'
     : `after allowing for the ${formatCount(context.familySizes[metric])} segments tested`;
 }
 
 function mainSentence(segment: PublishedSegment, context: SentenceContext): string {
-  const metric = context.definition.rank_by;
+  const metric = verdictMetric(context.definition);
   const words = context.vocabulary;
   const view = metricView(segment, metric, words);
   const confidence = formatConfidence(context.definition.confidence);
@@ -146,7 +147,7 @@ function mirrorSentence(segment: SnapshotSegment): string {
 function secondarySentence(segment: PublishedSegment, context: SentenceContext): string {
   if (!segment.tested) return '';
   const alpha = 1 - context.definition.confidence;
-  const other = context.definition.rank_by === 'conversion_rate' ? 'value' : 'conversion_rate';
+  const other = verdictMetric(context.definition) === 'conversion_rate' ? 'value' : 'conversion_rate';
   const view = metricView(segment, other, context.vocabulary);
   if (view.adjustedP === null || view.adjustedP >= alpha || view.difference === null || view.estimate === null || view.rest === null) return '';
   const direction = view.difference > 0 ? 'higher' : 'lower';
@@ -166,7 +167,7 @@ function changeSentence(segment: PublishedSegment, context: SentenceContext): st
       : `the ${formatCount(change.new_n)} ${words.units} added since the previous snapshot against the ${formatCount(change.previous_n)} before them`;
   const adjustment = context.definition.adjustment === 'none' ? 'p' : 'adjusted p';
   const confidence = formatConfidence(context.definition.confidence);
-  if (context.definition.rank_by === 'conversion_rate') {
+  if (verdictMetric(context.definition) === 'conversion_rate') {
     if (change.rate_change === null) return '';
     const interval =
       change.rate_change_ci_low !== null && change.rate_change_ci_high !== null
@@ -229,5 +230,5 @@ function withheldSentence(segment: SnapshotSegment, context: SentenceContext): s
  */
 export function segmentSummary(segment: SnapshotSegment, context: SentenceContext): string {
   if (!isPublished(segment)) return withheldSentence(segment, context);
-  return `${mainSentence(segment, context)}${mirrorSentence(segment)}${explainedSentence(segment, context)}${expectedSentence(segment, context)}${secondarySentence(segment, context)}${changeSentence(segment, context)}${rankSentence(segment, context)}`;
+  return `${mainSentence(segment, context)}${mirrorSentence(segment)}${explainedSentence(segment, context)}${expectedSentence(segment, context)}${secondarySentence(segment, context)}${changeSentence(segment, context)}${rankSentence(segment, context)}${holdoutSentence(segment, context.definition.confidence)}`;
 }

@@ -12,6 +12,7 @@ import { confidenceLabel, rankingMetric } from '../metric.js';
 import { renderChart } from '../render-chart.js';
 import { TESTED_VERDICTS, VERDICT_STYLES } from '../verdicts.js';
 import { niceScale, type NiceScale } from './scale.js';
+import { verdictMetric } from '../../report/definition/index.js';
 
 /** Width of the plotting area in pixels; the labels and the n and verdict columns come on top. */
 const INTERVAL_PLOT_WIDTH = 420;
@@ -211,7 +212,7 @@ export async function intervalChart(snapshot: Snapshot): Promise<ChartFigure> {
           : ` First in rank: ${readableSegmentName(first.values)}, ${metric.difference(difference.estimate)}${difference.low !== null && difference.high !== null ? ` (${confidence} ${metric.difference(difference.low)} to ${metric.difference(difference.high)})` : ''}.`;
       })()
     : '';
-  const adjusted = definition.adjustment === 'none' ? 'raw p-values (no adjustment for the number of tests)' : `p-values adjusted for the ${formatCount(definition.rank_by === 'conversion_rate' ? snapshot.row_counts.rate_tests : snapshot.row_counts.value_tests)} tests`;
+  const adjusted = definition.adjustment === 'none' ? 'raw p-values (no adjustment for the number of tests)' : `p-values adjusted for the ${formatCount(verdictMetric(definition) === 'conversion_rate' ? snapshot.row_counts.rate_tests : snapshot.row_counts.value_tests)} tests`;
   return {
     id: 'interval-chart',
     heading: `Difference from the rest, ${metric.name}`,
@@ -230,7 +231,7 @@ export async function intervalChart(snapshot: Snapshot): Promise<ChartFigure> {
       rows: rows.map((row) => {
         const segment = bySegment.get(row.segment);
         const difference = segment ? metric.differenceOf(segment) : { estimate: null, low: null, high: null };
-        const adjustedP = segment ? (definition.rank_by === 'conversion_rate' ? segment.rate_p_adjusted : segment.value_p_adjusted) : null;
+        const adjustedP = segment ? (verdictMetric(definition) === 'conversion_rate' ? segment.rate_p_adjusted : segment.value_p_adjusted) : null;
         const text = (value: number | null) => (value === null ? 'not computed' : metric.difference(value));
         return [
           formatRank(row.rank),
