@@ -13,7 +13,8 @@ export const Campaign = Type.Object(
   {
     campaign_id: Type.String(),
     created_at: Type.String({ format: 'date-time', description: 'When the first upload of its contacts created the campaign.' }),
-    contacts: Type.Integer({ minimum: 0, description: 'Contacts stored (one per contacted customer).' }),
+    contacts: Type.Integer({ minimum: 0, description: 'Contacts stored (one per listed customer, holdout included).' }),
+    holdout_contacts: Type.Integer({ minimum: 0, description: 'Of the contacts, those kept out of the campaign on purpose (holdout = 1).' }),
     conversions: Type.Integer({ minimum: 0, description: 'Contacts with converted = 1.' }),
     first_contacted_at: date('The earliest contact date; null when no contact is stored.'),
     last_contacted_at: date('The latest contact date; null when no contact is stored.'),

@@ -6,13 +6,14 @@ export interface CampaignCounts {
   campaign_id: string;
   created_at: string;
   contacts: number;
+  holdout_contacts: number;
   conversions: number;
   first_contacted_at: string | null;
   last_contacted_at: string | null;
   last_upload_at: string | null;
 }
 
-/** Every campaign with its contact and conversion counts and its latest upload, in no particular order. */
+/** Every campaign with its contact, holdout and conversion counts and its latest upload, in no particular order. */
 export async function listCampaignCounts(db: Executor): Promise<CampaignCounts[]> {
   const [campaigns, uploads] = await Promise.all([
     db
@@ -22,6 +23,7 @@ export async function listCampaignCounts(db: Executor): Promise<CampaignCounts[]
         'c.campaign_id',
         'c.created_at',
         eb.fn.count<number | string | bigint>('cc.customer_id').as('contacts'),
+        eb.fn.sum<number | string | bigint | null>('cc.holdout').as('holdout_contacts'),
         eb.fn.sum<number | string | bigint | null>('cc.converted').as('conversions'),
         eb.fn.min<string | null>('cc.contacted_at').as('first_contacted_at'),
         eb.fn.max<string | null>('cc.contacted_at').as('last_contacted_at'),
@@ -40,6 +42,7 @@ export async function listCampaignCounts(db: Executor): Promise<CampaignCounts[]
     campaign_id: row.campaign_id,
     created_at: row.created_at,
     contacts: Number(row.contacts),
+    holdout_contacts: Number(row.holdout_contacts ?? 0),
     conversions: Number(row.conversions ?? 0),
     first_contacted_at: row.first_contacted_at,
     last_contacted_at: row.last_contacted_at,

@@ -20,7 +20,9 @@ describe.each(TEST_DIALECTS)('records over HTTP (%s)', (dialect) => {
       .selectFrom('campaign_contacts')
       .select((eb) => [eb.fn.countAll<number>().as('n'), eb.fn.sum<number>('converted').as('conversions'), eb.fn.min<string>('contacted_at').as('first'), eb.fn.max<string>('contacted_at').as('last')])
       .executeTakeFirstOrThrow();
-    receiptOf(await upload(context.app, '/v1/campaigns/sprnig/contacts', CSV, csvText('customer_id,contacted_at,converted,revenue', 'c000001,2026-04-02,1,12.50')));
+    receiptOf(
+      await upload(context.app, '/v1/campaigns/sprnig/contacts', CSV, csvText('customer_id,contacted_at,converted,revenue,holdout', 'c000001,2026-04-02,1,12.50,0', 'c000002,2026-04-03,0,0,1')),
+    );
     const response = await context.app.inject({ method: 'GET', url: '/v1/campaigns' });
     expect(response.statusCode).toBe(200);
     const { campaigns } = response.json<{ campaigns: Array<Record<string, unknown>> }>();
@@ -31,7 +33,8 @@ describe.each(TEST_DIALECTS)('records over HTTP (%s)', (dialect) => {
       first_contacted_at: contacts.first,
       last_upload_at: '2026-06-15T12:00:00.000Z',
     });
-    expect(campaigns[1]).toMatchObject({ contacts: 1, conversions: 1, first_contacted_at: '2026-04-02', last_contacted_at: '2026-04-02' });
+    expect(campaigns[0]).toMatchObject({ holdout_contacts: 0 });
+    expect(campaigns[1]).toMatchObject({ contacts: 2, holdout_contacts: 1, conversions: 1, first_contacted_at: '2026-04-02', last_contacted_at: '2026-04-03' });
   });
 
   test('GET /v1/ingests pages through the receipts, newest first, and filters by kind and campaign', async () => {
