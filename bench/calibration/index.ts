@@ -7,8 +7,9 @@ import type { CalibrationSection } from './section.js';
 import { campaignSection } from './campaigns.js';
 import { changeSection } from './changes.js';
 import { expectedRateSection, valueTestSection } from './expected-sections.js';
+import { holdoutAdviceSection } from './holdout-advice.js';
 import { verdictSection } from './verdicts.js';
 
 export type { CalibrationFigure, CalibrationOptions, CalibrationSection, SectionResult } from './section.js';
 
-export const SECTIONS: CalibrationSection[] = [verdictSection, changeSection, campaignSection, expectedRateSection, valueTestSection];
+export const SECTIONS: CalibrationSection[] = [verdictSection, changeSection, campaignSection, expectedRateSection, valueTestSection, holdoutAdviceSection];
