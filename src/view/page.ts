@@ -11,6 +11,7 @@ import { distributionCharts, distributionFallback } from './distributions.js';
 import { intervalChart, intervalRows } from './charts/interval.js';
 import { paretoChart } from './charts/pareto.js';
 import { trendChart } from './charts/trend.js';
+import { upliftCharts } from './charts/uplift.js';
 import { figureHtml, type ChartFigure } from './figure.js';
 import { html, trusted, type SafeHtml } from './html.js';
 import { rankingMetric } from './metric.js';
@@ -140,6 +141,7 @@ export async function reportCharts(snapshot: Snapshot, history: readonly Snapsho
   const figures: ChartFigure[] = [];
   // An empty chart says nothing: a snapshot without tested segments (or a dimension without values) gets none.
   if (intervalRows(snapshot).length > 0) figures.push(await intervalChart(snapshot));
+  figures.push(...(await upliftCharts(snapshot)));
   for (const [index, profile] of snapshot.dimensions.entries()) if (profile.values.length > 0) figures.push(await paretoChart(profile, index, unitsWord));
   figures.push(...(await distributionCharts(snapshot)));
   const trend = await trendChart(snapshot, history);
