@@ -1,5 +1,5 @@
 import { beforeAll, describe, expect, test } from 'vitest';
-import { hasHoldout, upliftCharts, upliftRows } from '../../src/view/charts/uplift.js';
+import { MAX_UPLIFT_ROWS, chartedUpliftRows, hasHoldout, upliftCharts, upliftRows, type UpliftRow } from '../../src/view/charts/uplift.js';
 import type { ChartFigure } from '../../src/view/figure.js';
 import type { Snapshot, SnapshotSegment } from '../../src/report/shapes/index.js';
 import { reportCharts } from '../../src/view/page.js';
@@ -81,5 +81,23 @@ describe('the holdout charts', () => {
   test('segment names stay data: hostile labels are escaped text, never markup', () => {
     expect(upliftRows(holdoutSnapshot(true), 'uplift').map((row) => row.name)).toContain(HOSTILE_SCRIPT);
     for (const figure of figures) expect(figure.svg).not.toContain(HOSTILE_SCRIPT);
+  });
+});
+
+describe('a holdout chart with many segments', () => {
+  test('draws at most MAX_UPLIFT_ROWS rows, keeping every firmly advised segment, in rank order', () => {
+    const rows: UpliftRow[] = Array.from({ length: 40 }, (_, index) => ({
+      segment: `region=R${index}`,
+      name: `R${index}`,
+      advice: index % 10 === 9 ? ('hold_back' as const) : index % 7 === 0 ? ('contact' as const) : ('undecided' as const),
+      estimate: 0,
+      low: -1,
+      high: 1,
+    }));
+    const drawn = chartedUpliftRows(rows);
+    expect(drawn).toHaveLength(MAX_UPLIFT_ROWS);
+    const firm = rows.filter((row) => row.advice !== 'undecided');
+    for (const row of firm) expect(drawn).toContain(row);
+    expect(drawn.map((row) => rows.indexOf(row))).toEqual([...drawn.map((row) => rows.indexOf(row))].sort((left, right) => left - right));
   });
 });

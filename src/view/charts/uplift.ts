@@ -29,6 +29,13 @@ const ADVICE_STYLES: Record<Advice, { label: string; colour: string; shape: stri
 };
 const ADVICE_ORDER: Advice[] = ['contact', 'undecided', 'hold_back', 'none'];
 
+/**
+ * Most rows a holdout chart draws, as the interval chart: with more segments it keeps those
+ * with a firm advice (contact or hold back) first, then the others, in the snapshot's rank
+ * order; the table and the JSON hold every segment.
+ */
+export const MAX_UPLIFT_ROWS = 24;
+
 export interface UpliftRow {
   segment: string;
   name: string;
@@ -47,7 +54,7 @@ export function hasHoldout(snapshot: Snapshot): boolean {
 }
 
 /**
- * The rows of one holdout chart, in the snapshot's order: segments whose measure was computed.
+ * The rows of one holdout chart in rank order (unranked last): segments whose measure was computed.
  * @example
  * upliftRows(snapshot, 'uplift')[0]; // { segment: 'region=Ashgrove', name: 'Ashgrove', advice: 'contact', estimate: 4.2, low: 1.1, high: 7.3 }
  */
@@ -56,12 +63,21 @@ export function upliftRows(snapshot: Snapshot, measure: UpliftMeasure): UpliftRo
     measure === 'uplift'
       ? { estimate: segment.uplift, low: segment.uplift_ci_low, high: segment.uplift_ci_high, scale: 100 }
       : { estimate: segment.incremental_profit_per_contact, low: segment.incremental_profit_ci_low, high: segment.incremental_profit_ci_high, scale: 1 };
-  return snapshot.segments.flatMap((segment) => {
+  const byRank = [...snapshot.segments].sort((left, right) => (left.rank ?? Number.POSITIVE_INFINITY) - (right.rank ?? Number.POSITIVE_INFINITY));
+  return byRank.flatMap((segment) => {
     const { estimate, low, high, scale } = pick(segment);
     if (estimate === null || low === null || high === null || estimate === undefined || low === undefined || high === undefined) return [];
     const name = readableSegmentName(segment.values);
     return [{ segment: segment.segment, name: name === '' ? segment.segment : name, advice: segment.advice ?? 'none', estimate: estimate * scale, low: low * scale, high: high * scale }];
   });
+}
+
+/** The rows drawn: all when they fit, else the firmly advised ones first, each group in rank order. */
+export function chartedUpliftRows(rows: readonly UpliftRow[]): UpliftRow[] {
+  if (rows.length <= MAX_UPLIFT_ROWS) return [...rows];
+  const firm = (row: UpliftRow) => row.advice === 'contact' || row.advice === 'hold_back';
+  const chosen = new Set([...rows.filter(firm), ...rows.filter((row) => !firm(row))].slice(0, MAX_UPLIFT_ROWS));
+  return rows.filter((row) => chosen.has(row));
 }
 
 /** The Vega-Lite spec: intervals, estimates by advice, a dashed reference line at 0 and the advice word beside each row. */
@@ -122,8 +138,10 @@ export async function upliftCharts(snapshot: Snapshot): Promise<ChartFigure[]> {
   const figures: ChartFigure[] = [];
   const measures: UpliftMeasure[] = economics ? ['uplift', 'incremental_profit'] : ['uplift'];
   for (const measure of measures) {
-    const rows = upliftRows(snapshot, measure);
-    if (rows.length === 0) continue;
+    const allRows = upliftRows(snapshot, measure);
+    if (allRows.length === 0) continue;
+    const rows = chartedUpliftRows(allRows);
+    const omitted = allRows.length > rows.length ? ` It shows ${formatCount(rows.length)} of ${formatCount(allRows.length)} segments, those advised contact or hold back first; the others are in the table below.` : '';
     const isUplift = measure === 'uplift';
     const axisTitle = isUplift ? `Uplift: contacted rate − holdout rate, percentage points (${confidence})` : `Incremental profit per contact, money (${confidence})`;
     const lineName = isUplift ? 'no uplift' : 'break-even';
@@ -136,10 +154,10 @@ export async function upliftCharts(snapshot: Snapshot): Promise<ChartFigure[]> {
       heading: isUplift ? 'What contacting added: uplift against the holdout' : 'What contacting earned: incremental profit per contact',
       svg,
       wide: true,
-      label: `Interval chart of ${isUplift ? 'the uplift' : 'the incremental profit per contact'} of ${formatCount(rows.length)} segments against the ${lineName} line; advice: ${tally}.`,
+      label: `Interval chart of ${isUplift ? 'the uplift' : 'the incremental profit per contact'} of ${formatCount(rows.length)} segments against the ${lineName} line; advice: ${tally}.${omitted}`,
       caption: isUplift
-        ? html`Each row is a segment: the mark is its conversion rate among contacted customers minus that among its holdout, the line its ${confidence} (Newcombe's hybrid score). The dashed line is no uplift: an interval wholly right of it means the campaign moved that segment. Colour, shape and word give the advice (${economics ? 'read on the profit' : 'read on the uplift'}, with intervals widened for the number of segments): ▲ contact, ● undecided, ▼ hold back.`
-        : html`Each row is a segment: the mark is margin × (revenue per contacted customer − revenue per held-out customer) − cost per contact (margin ${economics?.margin ?? ''}, cost ${formatMoney(economics?.cost_per_contact ?? 0)}), the line its ${confidence} (Welch). The dashed line is break-even: contact a segment when its interval lies wholly right of it (▲ contact), hold it back when wholly left (▼ hold back); otherwise ● undecided.`,
+        ? html`Each row is a segment: the mark is its conversion rate among contacted customers minus that among its holdout, the line its ${confidence} (Newcombe's hybrid score). The dashed line is no uplift: an interval wholly right of it means the campaign moved that segment. Colour, shape and word give the advice (${economics ? 'read on the profit' : 'read on the uplift'}, with intervals widened for the number of segments): ▲ contact, ● undecided, ▼ hold back.${omitted}`
+        : html`Each row is a segment: the mark is margin × (revenue per contacted customer − revenue per held-out customer) − cost per contact (margin ${economics?.margin ?? ''}, cost ${formatMoney(economics?.cost_per_contact ?? 0)}), the line its ${confidence} (Welch). The dashed line is break-even: contact a segment when its interval lies wholly right of it (▲ contact), hold it back when wholly left (▼ hold back); otherwise ● undecided.${omitted}`,
       data: {
         columns: ['segment', isUplift ? 'uplift' : 'incremental profit per contact', `${confidence} low`, `${confidence} high`, 'advice'],
         rows: rows.map((row) => [row.name, text(row.estimate), text(row.low), text(row.high), ADVICE_STYLES[row.advice].label]),
