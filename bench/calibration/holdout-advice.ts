@@ -75,6 +75,10 @@ export const holdoutAdviceSection: CalibrationSection = {
     let gainingHeldBack = 0;
     let withoutAdvice = 0;
     let profitCovered = 0;
+    // The losing region nearest break-even is where a wrong `contact` is likeliest.
+    const nearest = REGIONS.filter(({ uplift }) => trueProfitPerContact(uplift) < 0).reduce((best, region) => (region.uplift > best.uplift ? region : best));
+    let nearestCases = 0;
+    let nearestContacted = 0;
     for (let replicate = 0; replicate < options.replicates; replicate += 1) {
       const drawn = draw(seededRandom(options.seed + 70_000 + replicate));
       const valueCounts = drawn.contacted.flatMap((cell) => [
@@ -94,6 +98,10 @@ export const holdoutAdviceSection: CalibrationSection = {
         if (truth < 0) {
           losing += 1;
           if (segment.advice === 'contact') losingContacted += 1;
+          if (region === nearest.region) {
+            nearestCases += 1;
+            if (segment.advice === 'contact') nearestContacted += 1;
+          }
           if (segment.advice === 'hold_back') losingHeldBack += 1;
         } else {
           gaining += 1;
@@ -108,6 +116,7 @@ export const holdoutAdviceSection: CalibrationSection = {
     return {
       figures: [
         atMost('true incremental profit < 0: advice contact', losingContacted, losing, CONTACT_ERROR_LIMIT),
+        atMost(`${nearest.region} (true profit ${trueProfitPerContact(nearest.uplift).toFixed(2)}, nearest break-even): advice contact`, nearestContacted, nearestCases, CONTACT_ERROR_LIMIT),
         atMost('true incremental profit > 0: advice hold_back', gainingHeldBack, gaining, CONTACT_ERROR_LIMIT),
         information('true incremental profit < 0: advice hold_back', losingHeldBack, losing),
         information('true incremental profit > 0: advice contact (power)', gainingContacted, gaining),
