@@ -81,7 +81,7 @@ export function chartedUpliftRows(rows: readonly UpliftRow[]): UpliftRow[] {
 }
 
 /** The Vega-Lite spec: intervals, estimates by advice, a dashed reference line at 0 and the advice word beside each row. */
-export function upliftChartSpec(rows: readonly UpliftRow[], axisTitle: string, lineName: string): TopLevelSpec {
+function upliftChartSpec(rows: readonly UpliftRow[], axisTitle: string, lineName: string): TopLevelSpec {
   const scale = niceScale(rows.flatMap((row) => [row.estimate, row.low, row.high]), 0);
   const x = { type: 'quantitative', scale: { domain: scale.domain, nice: false, zero: false } } as const;
   const y = { field: 'name', type: 'nominal', sort: null, axis: { title: null, labelLimit: 320, labelFontSize: 11, ticks: false, domain: false } } as const;
