@@ -108,16 +108,19 @@ export function generateDemoData(options: DemoOptions = DEFAULT_DEMO_OPTIONS): D
     DEMO_CAMPAIGNS.forEach((campaign, campaignIndex) => {
       if (random() >= options.contactShare) return;
       if (birthDate !== '' && birthDate > campaign.contactedAt) return;
-      const holdout = campaignIndex === 1 && holdoutRandom() < DEMO_HOLDOUT_SHARE;
       let rate = 0.1;
       if (campaignIndex === 0 && channel === 'catalogue mail') rate *= 2.1;
-      // Kept out of the mailing: only the organic purchases in the campaign's window remain.
-      if (holdout) rate *= channel === 'friend referral' ? 0.9 : 0.5;
       if (region === 'Saltmere') rate *= 0.6;
-      const converted = random() < rate;
       const age = birthDate === '' ? null : ageOn(birthDate, campaign.contactedAt);
       const meanValue = age !== null && age >= 55 && age <= 64 ? 62 : 44;
-      const revenue = converted ? orderValue(random, meanValue) : '0';
+      // The mailed outcome is always drawn, so the main generator's sequence does not depend on the holdout.
+      const mailedConverted = random() < rate;
+      const mailedRevenue = mailedConverted ? orderValue(random, meanValue) : '0';
+      const holdout = campaignIndex === 1 && holdoutRandom() < DEMO_HOLDOUT_SHARE;
+      // Kept out of the mailing: only the organic purchases in the campaign's window remain.
+      const organicRate = rate * (channel === 'friend referral' ? 0.9 : 0.5);
+      const converted = holdout ? holdoutRandom() < organicRate : mailedConverted;
+      const revenue = holdout ? (converted ? orderValue(holdoutRandom, meanValue) : '0') : mailedRevenue;
       (contactLines[campaignIndex] as string[]).push([customerId, campaign.contactedAt, converted ? 1 : 0, revenue, holdout ? 1 : 0].join(','));
     });
 
