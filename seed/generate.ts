@@ -21,7 +21,7 @@ export const DEMO_CAMPAIGNS = [
 ] as const;
 
 /** Share of the autumn campaign's customers kept out of it on purpose (its holdout). */
-export const DEMO_HOLDOUT_SHARE = 0.15;
+const DEMO_HOLDOUT_SHARE = 0.15;
 /** Invented economics of the autumn mailing: a printed card and postage, and the margin on bulbs. */
 export const DEMO_ECONOMICS = { margin: 0.45, cost_per_contact: 0.6 } as const;
 
