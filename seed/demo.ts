@@ -1,6 +1,7 @@
 /**
  * `npm run demo`: a fresh embedded database with the invented demo data, loaded through the
- * ingest routes, one report defined and refreshed through the report routes, then the service
+ * ingest routes, two reports defined and refreshed through the report routes (who responded to
+ * the spring campaign; what the autumn mailing added, measured against its holdout), then the service
  * listening. Its log is quiet (warnings only, unless LOG_LEVEL says otherwise), so the keys,
  * URLs and the `export` lines for the `segrank` commands are the last thing on the screen.
  */
@@ -12,7 +13,7 @@ import { DEMO_SQLITE_FILE, type Config } from '../src/config.js';
 import { openDatabase } from '../src/db/connect.js';
 import { migrateToLatest } from '../src/db/migrate.js';
 import { startService } from '../src/server.js';
-import { DEMO_CAMPAIGNS, DEFAULT_DEMO_OPTIONS, generateDemoData } from './generate.js';
+import { DEMO_CAMPAIGNS, DEMO_ECONOMICS, DEFAULT_DEMO_OPTIONS, generateDemoData } from './generate.js';
 import { loadDemoData } from './load.js';
 
 
@@ -23,6 +24,28 @@ export const DEMO_REPORT = {
   dimensions: ['age_band', 'region', 'channel', 'newsletter'],
   refresh: 'weekly',
 };
+
+/** The holdout report: what the autumn mailing added per segment, in profit after its invented costs. */
+export const DEMO_HOLDOUT_REPORT = {
+  name: 'Autumn bulb offer 2026: what the mailing added',
+  source: { campaign_ids: [DEMO_CAMPAIGNS[1].campaignId] },
+  dimensions: ['age_band', 'region', 'channel'],
+  rank_by: 'incremental_profit',
+  economics: DEMO_ECONOMICS,
+  refresh: 'weekly',
+};
+
+interface RefreshedReport {
+  reportId: string;
+  tested: number;
+  verdicts: Record<string, number>;
+  advice: Record<string, number>;
+}
+
+/** "a 3, b 1" from counts, in the order first met. */
+function counted(counts: Record<string, number>): string {
+  return Object.entries(counts).map(([name, count]) => `${name} ${count}`).join(', ');
+}
 
 interface DemoKeys {
   admin: string;
@@ -45,16 +68,20 @@ async function createDemoKeys(config: Config): Promise<DemoKeys> {
   }
 }
 
-async function defineAndRefreshReport(app: FastifyInstance, headers: Record<string, string>): Promise<{ reportId: string; tested: number; verdicts: Record<string, number> }> {
-  const created = await app.inject({ method: 'POST', url: '/v1/reports', headers, payload: DEMO_REPORT });
+async function defineAndRefreshReport(app: FastifyInstance, headers: Record<string, string>, definition: object): Promise<RefreshedReport> {
+  const created = await app.inject({ method: 'POST', url: '/v1/reports', headers, payload: definition });
   if (created.statusCode !== 201) throw new Error(`defining the demo report failed with ${created.statusCode}: ${created.body}`);
   const reportId = created.json<{ report_id: string }>().report_id;
   const refreshed = await app.inject({ method: 'POST', url: `/v1/reports/${reportId}/refresh`, headers });
   if (refreshed.statusCode !== 201) throw new Error(`refreshing the demo report failed with ${refreshed.statusCode}: ${refreshed.body}`);
-  const snapshot = refreshed.json<{ segments: Array<{ verdict: string }> }>();
+  const snapshot = refreshed.json<{ segments: Array<{ verdict: string; advice?: string | null }> }>();
   const verdicts: Record<string, number> = {};
-  for (const segment of snapshot.segments) verdicts[segment.verdict] = (verdicts[segment.verdict] ?? 0) + 1;
-  return { reportId, tested: snapshot.segments.filter((segment) => segment.verdict !== 'too_small').length, verdicts };
+  const advice: Record<string, number> = {};
+  for (const segment of snapshot.segments) {
+    verdicts[segment.verdict] = (verdicts[segment.verdict] ?? 0) + 1;
+    if (segment.advice) advice[segment.advice] = (advice[segment.advice] ?? 0) + 1;
+  }
+  return { reportId, tested: snapshot.segments.filter((segment) => segment.verdict !== 'too_small').length, verdicts, advice };
 }
 
 /** Whether the configured database is the demo's own file (then the demo may start it afresh). */
@@ -63,13 +90,13 @@ function isDemoFile(database: Config['database']): boolean {
 }
 
 /** `export …` lines that point the `segrank` commands and the README's examples at this demo. */
-function exportLines(config: Config, reportId: string, keys: DemoKeys | null): string[] {
+function exportLines(config: Config, reportId: string, holdoutReportId: string, keys: DemoKeys | null): string[] {
   const database = config.database;
   const url = database.dialect === 'sqlite' ? path.resolve(database.file) : database.connectionString;
   return [
     `export DATABASE_URL='${url}'`,
     ...(database.dialect === 'postgres' && database.schema !== 'public' ? [`export DATABASE_SCHEMA=${database.schema}`] : []),
-    `export REPORT_ID=${reportId}`,
+    `export REPORT_ID=${reportId} HOLDOUT_REPORT_ID=${holdoutReportId}`,
     ...(keys ? [`export ADMIN_KEY=${keys.admin} INGEST_KEY=${keys.ingest} READ_KEY=${keys.read}`] : []),
   ];
 }
@@ -92,12 +119,13 @@ export async function runDemo(_args: string[], config: Config): Promise<number> 
   } else {
     console.log(`segrank demo: loading the demo data into the database DATABASE_URL names (nothing is removed; rows with the demo's ids are updated)`);
   }
-  console.log('loading the invented demo data and computing the report …');
+  console.log('loading the invented demo data and computing the reports …');
   const keys = demoConfig.authMode === 'keys' ? await createDemoKeys(demoConfig) : null;
   const bearer = (key: string | undefined): Record<string, string> => (key ? { authorization: `Bearer ${key}` } : {});
   const { app } = await startService(demoConfig);
   const receipts = await loadDemoData(app, generateDemoData(DEFAULT_DEMO_OPTIONS), bearer(keys?.ingest));
-  const report = await defineAndRefreshReport(app, bearer(keys?.admin));
+  const report = await defineAndRefreshReport(app, bearer(keys?.admin), DEMO_REPORT);
+  const holdoutReport = await defineAndRefreshReport(app, bearer(keys?.admin), DEMO_HOLDOUT_REPORT);
 
   const address = app.server.address();
   const base = typeof address === 'object' && address !== null ? `http://${demoConfig.host}:${address.port}` : `http://${demoConfig.host}:${demoConfig.port}`;
@@ -107,12 +135,15 @@ export async function runDemo(_args: string[], config: Config): Promise<number> 
     'segrank demo: Quillfeather Garden Supply (an invented business; all data is made up)',
     `database: ${demoConfig.database.dialect === 'sqlite' ? demoConfig.database.file : 'PostgreSQL (DATABASE_URL)'}`,
     ...receipts.map((receipt) => `loaded ${receipt.what}: ${receipt.rows} rows (${receipt.inserted} new, ${receipt.updated} updated, ${receipt.unchanged} unchanged, ${receipt.rejected} rejected)`),
-    `report "${DEMO_REPORT.name}": ${report.tested} segments tested; verdicts ${Object.entries(report.verdicts).map(([verdict, count]) => `${verdict} ${count}`).join(', ')}`,
+    `report "${DEMO_REPORT.name}": ${report.tested} segments tested; verdicts ${counted(report.verdicts)}`,
+    `report "${DEMO_HOLDOUT_REPORT.name}" (with a holdout; margin ${DEMO_ECONOMICS.margin}, ${DEMO_ECONOMICS.cost_per_contact} per contact): ${holdoutReport.tested} segments tested; advice ${counted(holdoutReport.advice)}`,
     '',
     'try (after the export lines below):',
     `  ${base}/reports/${report.reportId}     the report page${keys ? ' (any user name, the read key as the password)' : ''}`,
     `  curl${readHeader} '${base}/v1/reports/${report.reportId}/segments?format=csv'`,
     `  curl${readHeader} ${base}/v1/reports/${report.reportId}/snapshots/latest`,
+    `  ${base}/reports/${holdoutReport.reportId}     the holdout report's page: uplift and incremental profit per segment`,
+    `  curl${readHeader} '${base}/v1/reports/${holdoutReport.reportId}/segments?format=csv'`,
     `  curl ${base}/openapi.yaml`,
     '  npx segrank keys list',
     '  npx segrank refresh --all',
@@ -123,7 +154,7 @@ export async function runDemo(_args: string[], config: Config): Promise<number> 
     '',
     'The service runs until Ctrl+C. In another terminal, paste these lines first:',
     '',
-    ...exportLines(demoConfig, report.reportId, keys),
+    ...exportLines(demoConfig, report.reportId, holdoutReport.reportId, keys),
     '',
   ];
   console.log(lines.join('\n'));

@@ -7,7 +7,10 @@
  * - customers who came through "catalogue mail" convert about twice as often in the spring campaign;
  * - customers aged 55–64 spend more when they do convert;
  * - the Saltmere region converts less than the others;
- * - the "newsletter" attribute has no effect at all (a report should find nothing there).
+ * - the "newsletter" attribute has no effect at all (a report should find nothing there);
+ * - the autumn campaign keeps about 15 % of its customers out on purpose (holdout = 1): they are
+ *   not mailed, so they convert at the organic rate, about half the mailed rate; customers who
+ *   came by friend referral buy nearly as often without the mailing (it adds little for them).
  */
 
 export const DEMO_REGIONS = ['Brackenmoor', 'Saltmere', 'Highcombe', 'Fennwick', 'Orrin Coast'] as const;
@@ -16,6 +19,11 @@ export const DEMO_CAMPAIGNS = [
   { campaignId: 'spring-seed-sale-2026', contactedAt: '2026-03-16' },
   { campaignId: 'autumn-bulb-offer-2026', contactedAt: '2026-09-14' },
 ] as const;
+
+/** Share of the autumn campaign's customers kept out of it on purpose (its holdout). */
+const DEMO_HOLDOUT_SHARE = 0.15;
+/** Invented economics of the autumn mailing: a printed card and postage, and the margin on bulbs. */
+export const DEMO_ECONOMICS = { margin: 0.45, cost_per_contact: 0.6 } as const;
 
 export interface DemoOptions {
   seed: number;
@@ -81,7 +89,10 @@ export function generateDemoData(options: DemoOptions = DEFAULT_DEMO_OPTIONS): D
   const random = seededRandom(options.seed);
   const customerLines = ['customer_id,birth_date,region,channel,customer_type,newsletter'];
   const salesLines = ['sale_id,customer_id,sold_at,amount'];
-  const contactLines = DEMO_CAMPAIGNS.map(() => ['customer_id,contacted_at,converted,revenue']);
+  // The holdout draw has a generator of its own, so the spring campaign, the sales and the
+  // mailed autumn customers stay exactly as they were before the demo had a holdout.
+  const holdoutRandom = seededRandom(options.seed ^ 0x5eed);
+  const contactLines = DEMO_CAMPAIGNS.map(() => ['customer_id,contacted_at,converted,revenue,holdout']);
   let saleNumber = 0;
 
   for (let index = 1; index <= options.customers; index++) {
@@ -100,11 +111,17 @@ export function generateDemoData(options: DemoOptions = DEFAULT_DEMO_OPTIONS): D
       let rate = 0.1;
       if (campaignIndex === 0 && channel === 'catalogue mail') rate *= 2.1;
       if (region === 'Saltmere') rate *= 0.6;
-      const converted = random() < rate;
       const age = birthDate === '' ? null : ageOn(birthDate, campaign.contactedAt);
       const meanValue = age !== null && age >= 55 && age <= 64 ? 62 : 44;
-      const revenue = converted ? orderValue(random, meanValue) : '0';
-      (contactLines[campaignIndex] as string[]).push([customerId, campaign.contactedAt, converted ? 1 : 0, revenue].join(','));
+      // The mailed outcome is always drawn, so the main generator's sequence does not depend on the holdout.
+      const mailedConverted = random() < rate;
+      const mailedRevenue = mailedConverted ? orderValue(random, meanValue) : '0';
+      const holdout = campaignIndex === 1 && holdoutRandom() < DEMO_HOLDOUT_SHARE;
+      // Kept out of the mailing: only the organic purchases in the campaign's window remain.
+      const organicRate = rate * (channel === 'friend referral' ? 0.9 : 0.5);
+      const converted = holdout ? holdoutRandom() < organicRate : mailedConverted;
+      const revenue = holdout ? (converted ? orderValue(holdoutRandom, meanValue) : '0') : mailedRevenue;
+      (contactLines[campaignIndex] as string[]).push([customerId, campaign.contactedAt, converted ? 1 : 0, revenue, holdout ? 1 : 0].join(','));
     });
 
     const sales = Math.floor(random() * options.salesPerCustomer * 2 + 0.5);

@@ -104,8 +104,11 @@ describe('the README against `npm run demo`', () => {
   test('the demo ends with the export lines, after a quiet log', () => {
     const lines = demo.output().trimEnd().split('\n');
     expect(lines.at(-1)).toMatch(/^export ADMIN_KEY=sgr_\S+ INGEST_KEY=sgr_\S+ READ_KEY=sgr_\S+$/);
-    expect(Object.keys(exported).sort()).toEqual(['ADMIN_KEY', 'DATABASE_URL', 'INGEST_KEY', 'READ_KEY', 'REPORT_ID']);
+    expect(Object.keys(exported).sort()).toEqual(['ADMIN_KEY', 'DATABASE_URL', 'HOLDOUT_REPORT_ID', 'INGEST_KEY', 'READ_KEY', 'REPORT_ID']);
     expect(exported['DATABASE_URL']).toBe(path.join(workDirectory, 'demo.sqlite'));
+    // The autumn campaign's holdout report is defined and refreshed, and gives advice per segment.
+    expect(exported['HOLDOUT_REPORT_ID']).not.toBe(exported['REPORT_ID']);
+    expect(demo.output()).toMatch(/^report "Autumn bulb offer 2026: what the mailing added" \(with a holdout; [^)]*\): \d+ segments tested; advice \w+ \d+/m);
     // no JSON log lines at the default level
     expect(lines.filter((line) => line.startsWith('{"level"'))).toEqual([]);
   });
