@@ -139,16 +139,17 @@ export const reportRoutes: FastifyPluginAsync<ReportRouteOptions> = async (app, 
             snapshot: { type: 'string', minLength: 1, maxLength: 200, default: 'latest' },
             format: { type: 'string', enum: ['json', 'csv'] },
             bom: { type: 'string', enum: ['0', '1'], default: '0' },
+            holdout_columns: { type: 'string', enum: ['0', '1'], default: '0' },
           },
         },
       },
     },
     async (request, reply) => {
       const { report_id: reportId } = request.params as { report_id: string };
-      const { snapshot: snapshotId, format, bom } = request.query as { snapshot: string; format?: TableFormat; bom: '0' | '1' };
+      const { snapshot: snapshotId, format, bom, holdout_columns: holdoutColumns } = request.query as { snapshot: string; format?: TableFormat; bom: '0' | '1'; holdout_columns: '0' | '1' };
       const representation = negotiateFormat(request, format);
       if (bom === '1' && representation !== 'csv') throw new Problem('invalid-request', 'bom=1 applies to CSV only (JSON must not start with a byte order mark): add format=csv');
-      const table = await segmentTable(deps, tables, reportId, snapshotId, representation, { bom: bom === '1' });
+      const table = await segmentTable(deps, tables, reportId, snapshotId, representation, { bom: bom === '1', holdoutColumns: holdoutColumns === '1' });
       if (table === undefined) throw new SnapshotNotFoundError(reportId, snapshotId);
       if (representation === 'csv') reply.header('content-disposition', `attachment; filename="segments-${table.snapshotId}.csv"`);
       return sendWithEntityTag(request, reply, table.bytes, TABLE_MEDIA_TYPES[representation], table.entityTag);

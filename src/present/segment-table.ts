@@ -18,6 +18,8 @@ export type TableFormat = 'json' | 'csv';
 export interface TableOptions {
   /** start the CSV with a UTF-8 byte order mark, for spreadsheet programs that guess the encoding otherwise */
   bom: boolean;
+  /** include the holdout columns (empty) even when the report's population has no holdout customers, for a fixed layout */
+  holdoutColumns?: boolean;
 }
 
 export interface RenderedTable {
@@ -61,9 +63,9 @@ function hasHoldout(snapshot: Snapshot): boolean {
 }
 
 /** The table's rows, each keyed by the columns in their order. */
-function segmentTableRows(snapshot: Snapshot): Array<Record<string, unknown>> {
+function segmentTableRows(snapshot: Snapshot, withHoldout: boolean): Array<Record<string, unknown>> {
   const dimensions = snapshot.definition.dimensions;
-  const fields = hasHoldout(snapshot) ? SEGMENT_COLUMNS : COLUMNS_WITHOUT_HOLDOUT;
+  const fields = withHoldout ? SEGMENT_COLUMNS : COLUMNS_WITHOUT_HOLDOUT;
   return snapshot.segments.map((segment) => {
     const row: Record<string, unknown> = { snapshot_id: snapshot.snapshot_id, as_of: snapshot.created_at, rank: segment.rank };
     for (const dimension of dimensions) row[dimensionColumn(dimension)] = segment.values[dimension] ?? null;
@@ -73,8 +75,9 @@ function segmentTableRows(snapshot: Snapshot): Array<Record<string, unknown>> {
 }
 
 function renderSegmentTable(snapshot: Snapshot, format: TableFormat, options: TableOptions = { bom: false }): RenderedTable {
-  const columns = segmentTableColumns(snapshot.definition.dimensions, hasHoldout(snapshot));
-  const rows = segmentTableRows(snapshot);
+  const withHoldout = hasHoldout(snapshot) || options.holdoutColumns === true;
+  const columns = segmentTableColumns(snapshot.definition.dimensions, withHoldout);
+  const rows = segmentTableRows(snapshot, withHoldout);
   const body =
     format === 'csv'
       ? `${options.bom ? UTF8_BOM : ''}${tableCsv(columns, rows)}`
@@ -114,7 +117,7 @@ export class SegmentTableCache {
 }
 
 function tableKey(reportId: string, snapshotId: string, format: TableFormat, options: TableOptions): string {
-  return `${reportId}\u0000${snapshotId}\u0000${format}\u0000${options.bom ? 'bom' : ''}`;
+  return `${reportId}\u0000${snapshotId}\u0000${format}\u0000${options.bom ? 'bom' : ''}\u0000${options.holdoutColumns === true ? 'holdout' : ''}`;
 }
 
 /**

@@ -103,6 +103,17 @@ describe.each(TEST_DIALECTS)('the ranked segment table for BI tools (%s)', (dial
     expect(byAccept.body.endsWith('\r\n')).toBe(true);
   });
 
+  test('a report without holdout customers leaves out the holdout columns unless ?holdout_columns=1 asks for them (empty)', async () => {
+    const plain = (await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments?format=csv` })).body;
+    expect(plain.split('\r\n')[0]).not.toContain('holdout_n');
+    const asked = await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments?format=csv&holdout_columns=1` });
+    expect(asked.statusCode).toBe(200);
+    const records = parse(asked.body, { columns: true, skip_empty_lines: true }) as Array<Record<string, string>>;
+    expect(Object.keys(records[0] ?? {})).toEqual([...COLUMNS, 'holdout_n', 'holdout_conversions', 'holdout_rate', 'uplift', 'uplift_ci_low', 'uplift_ci_high', 'uplift_p_value', 'uplift_p_adjusted', 'uplift_vs_rest', 'uplift_vs_rest_ci_low', 'uplift_vs_rest_ci_high', 'uplift_vs_rest_p_value', 'incremental_value_per_contact', 'incremental_value_ci_low', 'incremental_value_ci_high', 'incremental_profit_per_contact', 'incremental_profit_ci_low', 'incremental_profit_ci_high', 'advice']);
+    for (const record of records) expect(record['holdout_n']).toBe('');
+    expect(asked.headers.etag).not.toBe((await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments?format=csv` })).headers.etag);
+  });
+
   test('the CSV parses back to the JSON rows: numbers equal, null as an empty cell', async () => {
     const json = (await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments` })).json().segments as Array<Record<string, unknown>>;
     const csv = (await context.app.inject({ method: 'GET', url: `/v1/reports/${reportId}/segments?format=csv` })).body;
