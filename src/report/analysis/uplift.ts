@@ -179,24 +179,9 @@ function armCounts(contacted: GroupStats, holdout: GroupStats) {
 
 function emptyFigures(holdout: GroupStats): HoldoutFigures {
   return {
+    ...withoutHoldout(),
     holdout_n: holdout.n,
     holdout_conversions: holdout.conversions,
     holdout_rate: holdout.n > 0 ? holdout.conversions / holdout.n : null,
-    uplift: null,
-    uplift_ci_low: null,
-    uplift_ci_high: null,
-    uplift_p_value: null,
-    uplift_p_adjusted: null,
-    uplift_vs_rest: null,
-    uplift_vs_rest_ci_low: null,
-    uplift_vs_rest_ci_high: null,
-    uplift_vs_rest_p_value: null,
-    incremental_value_per_contact: null,
-    incremental_value_ci_low: null,
-    incremental_value_ci_high: null,
-    incremental_profit_per_contact: null,
-    incremental_profit_ci_low: null,
-    incremental_profit_ci_high: null,
-    advice: null,
   };
 }
