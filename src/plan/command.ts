@@ -11,10 +11,8 @@
  */
 import { parseArgs } from 'node:util';
 import type { Config } from '../config.js';
-import { openDatabase } from '../db/connect.js';
-import { migrateToLatest } from '../db/migrate.js';
-import { createLogger } from '../logger.js';
-import { ReportNotFoundError, SnapshotNotFoundError, reportDependencies } from '../report/snapshot/index.js';
+import { ReportNotFoundError, SnapshotNotFoundError } from '../report/snapshot/index.js';
+import { withReportDependencies } from '../report-command.js';
 import { formatPercent } from '../report/wording/format.js';
 import { StatsInputError } from '../stats/index.js';
 import { planCampaign, planForReport } from './service.js';
@@ -61,18 +59,7 @@ function reportPlanText(plan: ReportPlan): string {
 }
 
 async function planFromReport(reportId: string, query: Parameters<typeof planForReport>[2], config: Config): Promise<ReportPlan> {
-  const logger = createLogger(config.logLevel === 'info' ? 'warn' : config.logLevel, { pretty: false });
-  const database = await openDatabase(config.database, logger);
-  try {
-    await migrateToLatest(database.db, config.database);
-    const deps = reportDependencies(database, logger, () => new Date(), {
-      publicationThreshold: config.publicationThreshold,
-      maxLabelsPerDimension: config.maxLabelsPerDimension,
-    });
-    return await planForReport(deps, reportId, query);
-  } finally {
-    await database.close();
-  }
+  return withReportDependencies(config, (deps) => planForReport(deps, reportId, query));
 }
 
 /**

@@ -10,11 +10,8 @@
  * Exit status: 0 all refreshed, 1 some report failed, 75 (EX_TEMPFAIL) another run holds the lock.
  */
 import type { Config } from '../config.js';
-import { openDatabase } from '../db/connect.js';
-import { migrateToLatest } from '../db/migrate.js';
-import { createLogger } from '../logger.js';
 import { listReports } from '../report/store/index.js';
-import { reportDependencies } from '../report/snapshot/index.js';
+import { withReportDependencies } from '../report-command.js';
 import { runWeeklyRefresh } from './weekly.js';
 
 export const EXIT_LOCKED = 75;
@@ -30,15 +27,8 @@ export async function runRefreshCommand(args: string[], config: Config): Promise
     console.error(`segrank refresh: unknown option ${unknownOption}\nusage: segrank refresh [--all | <report_id> …]`);
     return 64;
   }
-  const logger = createLogger(config.logLevel === 'info' ? 'warn' : config.logLevel, { pretty: false });
-  const database = await openDatabase(config.database, logger);
-  try {
-    await migrateToLatest(database.db, config.database);
-    const deps = reportDependencies(database, logger, () => new Date(), {
-      publicationThreshold: config.publicationThreshold,
-      maxLabelsPerDimension: config.maxLabelsPerDimension,
-    });
-    const reportIds = args.includes('--all') ? (await listReports(database.db)).map((report) => report.report_id) : args.length > 0 ? args : undefined;
+  return withReportDependencies(config, async (deps) => {
+    const reportIds = args.includes('--all') ? (await listReports(deps.db)).map((report) => report.report_id) : args.length > 0 ? args : undefined;
     const result = await runWeeklyRefresh(deps, { trigger: 'command', ...(reportIds === undefined ? {} : { reportIds }) });
     if (!result.ran) {
       console.error('segrank refresh: another refresh run holds the lock; nothing was done');
@@ -48,7 +38,5 @@ export async function runRefreshCommand(args: string[], config: Config): Promise
     for (const { reportId, error } of result.failed) console.error(`failed ${reportId}: ${error}`);
     console.log(`${result.refreshed.length} refreshed, ${result.failed.length} failed`);
     return result.failed.length > 0 ? 1 : 0;
-  } finally {
-    await database.close();
-  }
+  });
 }

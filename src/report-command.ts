@@ -1,0 +1,25 @@
+/**
+ * What a `segrank` command that reads or refreshes reports needs: the configured database,
+ * migrated, and the report dependencies over it, with a quiet log (warnings and errors only
+ * unless LOG_LEVEL asks for more), closed again when the command is done.
+ */
+import type { Config } from './config.js';
+import { openDatabase } from './db/connect.js';
+import { migrateToLatest } from './db/migrate.js';
+import { createLogger } from './logger.js';
+import { reportDependencies, type ReportDependencies } from './report/snapshot/index.js';
+
+export async function withReportDependencies<T>(config: Config, run: (deps: ReportDependencies) => Promise<T>): Promise<T> {
+  const logger = createLogger(config.logLevel === 'info' ? 'warn' : config.logLevel, { pretty: false });
+  const database = await openDatabase(config.database, logger);
+  try {
+    await migrateToLatest(database.db, config.database);
+    const deps = reportDependencies(database, logger, () => new Date(), {
+      publicationThreshold: config.publicationThreshold,
+      maxLabelsPerDimension: config.maxLabelsPerDimension,
+    });
+    return await run(deps);
+  } finally {
+    await database.close();
+  }
+}
