@@ -8,7 +8,7 @@
  * of a dimension without effect has a true difference of exactly zero.
  */
 import { emptyCell, type CellAggregate, type ValueCount } from '../../src/segments/index.js';
-import type { ReportDefinition } from '../../src/report/definition/index.js';
+import { DEFAULT_EQUIVALENCE_MARGIN, type ReportDefinition } from '../../src/report/definition/index.js';
 import type { Snapshot, SnapshotSegment } from '../../src/report/shapes/index.js';
 import { buildSnapshot, type SnapshotInput } from '../../src/report/snapshot/index.js';
 import type { Random } from './random.js';
@@ -42,7 +42,7 @@ export function simulationDefinition(dimensions: string[], overrides: Partial<Re
     age_bands: [18, 25, 35, 45, 55, 65],
     min_n: 30,
     confidence: 0.95,
-    equivalence_margin: 0.02,
+    equivalence_margin: DEFAULT_EQUIVALENCE_MARGIN,
     value_equivalence_margin: null,
     adjustment: 'bh',
     value_basis: 'per_unit',
