@@ -5,7 +5,10 @@
  *   previous snapshot had. The new contacts' sufficient statistics are the current ones minus
  *   the previous snapshot's (contacts are only added between snapshots); when nothing was
  *   added there is no change to report (`change` null), and when the subtraction is impossible
- *   (contacts were changed or erased, not only added) neither, with a note saying so.
+ *   (contacts were changed or erased, not only added) neither, with a note saying so. The
+ *   sums alone cannot always show an edit (an earlier contact converting while new ones
+ *   arrive looks like an addition), so the service also says whether uploads or erasures
+ *   touched earlier contacts since that snapshot, and then no change is computed either.
  * - sales reports: this window against the window of the same length just before it, each
  *   with the customers known at its start (see the service).
  * The changes' p-values are adjusted over their own family (every segment with a change).
@@ -80,6 +83,17 @@ function storedFigures(segment: SnapshotSegment): Figures | null {
 
 const EMPTY: Figures = { n: 0, conversions: 0, value: { n: 0, mean: 0, sumSquaredDeviations: 0 } };
 
+/**
+ * Contacts held by the previous snapshot were edited or erased since (the service reads it from
+ * the uploads and erasures after that snapshot): the differences of the sums would then mix
+ * those edits into the new contacts, even where they look like additions.
+ */
+const EDITED_SINCE = {
+  ok: false as const,
+  reason:
+    'The change since the previous snapshot is not computed: since then an upload changed contacts or customers stored before it (or a customer was erased), so the new contacts cannot be told apart from the earlier ones.',
+};
+
 /** The units added since `before`, or the reason they cannot be told apart. */
 function addedSince(now: Figures, before: Figures): { ok: true; value: Figures } | { ok: false; reason: string } {
   const n = now.n - before.n;
@@ -132,7 +146,7 @@ function computeChange(added: Figures, before: Figures, comparedWith: SegmentCha
  */
 export function recordChanges(
   segments: readonly SnapshotSegment[],
-  earlier: { basis: ComparisonBasis; window: PreviousWindow | null; snapshot: Snapshot | null },
+  earlier: { basis: ComparisonBasis; window: PreviousWindow | null; snapshot: Snapshot | null; earlierUnitsChanged?: boolean },
   definition: ReportDefinition,
 ): void {
   const { basis, window: previousWindow, snapshot: previousSnapshot } = earlier;
@@ -158,7 +172,7 @@ export function recordChanges(
       const currentFigures = storedFigures(segment);
       // A segment withheld now or then has no figures to compare.
       if (earlierFigures === null || earlierFigures === undefined || currentFigures === null) continue;
-      const added = addedSince(currentFigures, earlierFigures);
+      const added = earlier.earlierUnitsChanged === true ? EDITED_SINCE : addedSince(currentFigures, earlierFigures);
       if (!added.ok) {
         segment.notes.push(added.reason);
         continue;

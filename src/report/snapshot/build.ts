@@ -134,7 +134,7 @@ export function buildSnapshot(input: SnapshotInput): Snapshot {
   const previous = input.previousSnapshot;
   const comparedWith = comparisonBasis(input.previousWindow, previous);
   const comparison: Comparison = { ...comparedWith, note: comparisonNote(comparedWith) };
-  recordChanges(segments, { basis: comparedWith, window: input.previousWindow, snapshot: previous }, definition);
+  recordChanges(segments, { basis: comparedWith, window: input.previousWindow, snapshot: previous, earlierUnitsChanged: input.earlierContactsChanged ?? false }, definition);
 
   const counts = Object.fromEntries(VERDICTS.map((verdict) => [verdict, 0])) as Record<Verdict, number>;
   for (const segment of segments) counts[segment.verdict] += 1;

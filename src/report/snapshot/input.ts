@@ -46,6 +46,11 @@ export interface SnapshotInput {
   previousWindow: PreviousWindow | null;
   previousSnapshot: Snapshot | null;
   /**
+   * Campaign reports: contacts the previous snapshot held were changed or erased since it, so
+   * the contacts added since cannot be told apart by subtraction. Absent: false.
+   */
+  earlierContactsChanged?: boolean;
+  /**
    * Campaign reports whose population has holdout customers: the holdout arm's cells; the other
    * aggregates then describe the contacted customers only. Null or absent: no holdout.
    */

@@ -6,6 +6,7 @@ import { randomUUID } from 'node:crypto';
 import type { Kysely } from 'kysely';
 import type { DatabaseHandle, Dialect } from '../../db/connect.js';
 import type { Database, ReportsTable, SnapshotTrigger } from '../../db/tables.js';
+import type { Executor } from '../../db/executor.js';
 import type { Logger } from '../../logger.js';
 import {
   explainOverflow,
@@ -209,6 +210,17 @@ function valueDistributionScope(cells: readonly CellAggregate[], definition: Rep
   return scope;
 }
 
+/**
+ * Whether contacts the report's newest snapshot held may have changed since it read them: an
+ * upload updated contacts or customers, or an erasure redacted it. The change since that
+ * snapshot is then not computed (current minus previous would mix edits into the new contacts).
+ */
+async function earlierContactsChangedSinceLastSnapshot(db: Executor, reportId: string, campaignIds: readonly string[]): Promise<boolean> {
+  const previous = await repository.latestSnapshotReadStart(db, reportId);
+  if (previous === undefined) return false;
+  return previous.redacted || (await repository.contactsChangedSince(db, campaignIds, previous.readStart));
+}
+
 // One refresh at a time per report in this process, so each snapshot compares with the one before it.
 const refreshesInFlight = new Map<string, Promise<unknown>>();
 
@@ -273,7 +285,8 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
       const arm = await shiftsAndCellAggregates(trx, { ...request, source: { ...source, arm: 'holdout' } });
       holdout = { cells: arm.cells, shifts: arm.shifts };
     }
-    return { shifts, cells, arithmetic, ageCounts, valueCounts, populationValueCounts: wholeValueCounts, ageValueGrid, quality, previousWindow, strata, holdout };
+    const earlierContactsChanged = source.kind === 'campaigns' && (await earlierContactsChangedSinceLastSnapshot(trx, reportId, source.campaignIds));
+    return { shifts, cells, arithmetic, ageCounts, valueCounts, populationValueCounts: wholeValueCounts, ageValueGrid, quality, previousWindow, strata, holdout, earlierContactsChanged };
   });
   // A customer's spend past 2^63 cents overflows the database's sum: refused by name, not a 500.
   const windows = source.kind === 'sales' ? [source, precedingWindow(source.from, source.to)] : [];

@@ -1,5 +1,6 @@
 /** Every SQL statement about report definitions and snapshots. */
 export {
+  contactsChangedSince,
   countSnapshots,
   deleteReport,
   findReport,
@@ -7,6 +8,7 @@ export {
   insertReport,
   insertSnapshot,
   latestSnapshotMeta,
+  latestSnapshotReadStart,
   listReportIdsByRefresh,
   listReports,
   listSnapshots,

@@ -161,3 +161,44 @@ export async function nextSnapshotSequence(db: Executor, reportId: string): Prom
 export async function insertSnapshot(db: Executor, row: ReportSnapshotsTable): Promise<void> {
   await db.insertInto('report_snapshots').values(row).execute();
 }
+
+/**
+ * When the newest snapshot of a report began reading its data, at the latest, and whether an
+ * erasure has since removed from it what it held about a customer; undefined without snapshots.
+ * Its figures were read after `created_at − duration_ms` (the refresh measures its duration
+ * from before its reads), so uploads finished before then are in it.
+ */
+export async function latestSnapshotReadStart(db: Executor, reportId: string): Promise<{ readStart: number; redacted: boolean } | undefined> {
+  const row = await db
+    .selectFrom('report_snapshots')
+    .select(['created_at', 'duration_ms', 'redacted_at'])
+    .where('report_id', '=', reportId)
+    .orderBy('sequence', 'desc')
+    .limit(1)
+    .executeTakeFirst();
+  if (row === undefined) return undefined;
+  return { readStart: Date.parse(row.created_at) - Number(row.duration_ms), redacted: row.redacted_at !== null };
+}
+
+/** No upload lasts a day (the body arrives whole before its transaction opens), so one finished after a moment was received at most a day before it. */
+const LONGEST_UPLOAD_MS = 86_400_000;
+const COMMIT_MARGIN_MS = 60_000;
+
+/**
+ * Whether an upload that may have finished after `since` (epoch ms) changed contacts already
+ * stored in one of the campaigns: it updated contacts of the campaign, or updated customers
+ * (whose region, channel, type or birth date are copied onto their contacts). Conservative: a
+ * customer update that moved no contact of these campaigns counts too.
+ */
+export async function contactsChangedSince(db: Executor, campaignIds: readonly string[], since: number): Promise<boolean> {
+  if (campaignIds.length === 0) return false;
+  const rows = await db
+    .selectFrom('ingests')
+    .select(['received_at', 'duration_ms'])
+    .where('received_at', '>=', new Date(since - LONGEST_UPLOAD_MS).toISOString())
+    .where('updated', '>', 0)
+    .where((eb) => eb.or([eb('kind', '=', 'customers'), eb.and([eb('kind', '=', 'contacts'), eb('campaign_id', 'in', [...campaignIds])])]))
+    .execute();
+  // An upload's duration is measured just before its commit: a minute's margin covers the commit itself.
+  return rows.some((row) => Date.parse(row.received_at) + Number(row.duration_ms) + COMMIT_MARGIN_MS >= since);
+}
