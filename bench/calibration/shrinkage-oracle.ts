@@ -67,7 +67,7 @@ interface Observed {
 const METHODS = ['report', 'centre, nominal spreads', 'centre, effective spreads', 'table, nominal spreads', 'table, effective spreads', 'true centre, effective spreads'] as const;
 type Method = (typeof METHODS)[number];
 
-export function measureOracle(scenarioIndex: number, replicates: number, seed: number): { scenario: string; ratios: Record<Method, number>; effectiveOneWay: number; effectiveCross: number } {
+function measureOracle(scenarioIndex: number, replicates: number, seed: number): { scenario: string; ratios: Record<Method, number>; effectiveOneWay: number; effectiveCross: number } {
   const scenario = SHRINKAGE_SCENARIOS[scenarioIndex];
   if (scenario === undefined) throw new Error(`no scenario ${scenarioIndex}`);
   const random = draws(seed + 1000 * scenarioIndex);
