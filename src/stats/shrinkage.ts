@@ -239,11 +239,27 @@ function solveFactored(factor: SemiDefiniteFactor, right: ArrayLike<number>): Fl
   return x;
 }
 
-/** bᵀ A⁻ b */
-function quadraticForm(factor: SemiDefiniteFactor, vector: ArrayLike<number>): number {
-  const z = forwardSolve(factor, vector);
+/**
+ * The generalised inverse A⁻ that the factor stands for (the dropped variables' rows and columns
+ * 0), one solve per column: p³ work, so that each cell's x'A⁻x is then a few look-ups for its
+ * 0/1 design row instead of a solve.
+ */
+function generalisedInverse(factor: SemiDefiniteFactor): Float64Array[] {
+  const size = factor.lower.length;
+  return Array.from({ length: size }, (_, column) => {
+    const unit = new Float64Array(size);
+    unit[column] = 1;
+    return solveFactored(factor, unit);
+  });
+}
+
+/** x'A⁻x for a 0/1 design row x given by its columns. */
+function designQuadraticForm(inverse: readonly Float64Array[], row: DesignRow): number {
   let sum = 0;
-  for (const value of z) sum += value * value;
+  for (const a of row) {
+    const line = inverse[a] as Float64Array;
+    for (const b of row) sum += line[b] as number;
+  }
   return sum;
 }
 
@@ -308,15 +324,14 @@ export function fitInteractionSpread(cells: readonly TwoWayCellObservation[]): I
   const { matrix, right } = weightedNormalEquations(design, weights, estimates, size);
   const factor = factorSemiDefinite(matrix);
   const coefficients = solveFactored(factor, right);
+  const inverse = generalisedInverse(factor);
   let residualSquares = 0;
   let trace = 0;
   design.forEach((row, index) => {
     const weight = weights[index] as number;
     const fitted = row.reduce((sum, column) => sum + (coefficients[column] as number), 0);
     residualSquares += weight * ((estimates[index] as number) - fitted) ** 2;
-    const indicator = new Float64Array(size);
-    for (const column of row) indicator[column] = 1;
-    trace += weight - weight * weight * quadraticForm(factor, indicator);
+    trace += weight - weight * weight * designQuadraticForm(inverse, row);
   });
   const residualDegrees = k - factor.rank;
   const betweenVariance = residualDegrees > 0 && trace > 0 ? Math.max(0, (residualSquares - residualDegrees) / trace) : 0;
@@ -389,13 +404,12 @@ export function shrinkTwoWayTable(
   });
   const factor = factorSemiDefinite(matrix);
   const coefficients = solveFactored(factor, right);
+  const inverse = generalisedInverse(factor);
   const quantile = studentTQuantile(1 - (1 - confidence) / 2, residualDegrees);
   const estimates = cells.map((cell, index) => {
     const row = design[index] as DesignRow;
     const centre = row.reduce((sum, column) => sum + (coefficients[column] as number), 0);
-    const indicator = new Float64Array(size);
-    for (const column of row) indicator[column] = 1;
-    const centreVariance = quadraticForm(factor, indicator);
+    const centreVariance = designQuadraticForm(inverse, row);
     const shrinkage = cell.variance / (cell.variance + tau2);
     const estimate = centre + (1 - shrinkage) * (cell.estimate - centre);
     const pull = cell.estimate - estimate;
