@@ -122,6 +122,32 @@ describe('two-way table: interaction spread and mixed-model shrinkage', () => {
     }
   });
 
+  test('a table in two disconnected blocks: the design is rank-deficient and a generalised inverse is used', () => {
+    // rows a–c meet only columns w–y, rows d–f only u, v, z: rank 10 of 11 columns. numpy 2.4.6 /
+    // scipy 1.17.1, the dense formulas above with pinv in place of inv:
+    //   p = 10, τ² = 0.22983520520962772; free/free cell 0: -2.0253358044968373, var 0.08805282624731658,
+    //   low -2.709612472271563; cell 10: -1.70823875162754, 0.13212071630312988, -2.5464346697218425;
+    //   rows random (0.2), columns free, cell 10: -1.7687077030685088, 0.12391016034146397, -2.580441337064241
+    const blockRows = ['a', 'a', 'a', 'b', 'b', 'b', 'c', 'c', 'c', 'd', 'd', 'd', 'e', 'e', 'e', 'f', 'f', 'f'];
+    const blockColumns = ['w', 'x', 'y', 'w', 'x', 'y', 'w', 'x', 'y', 'u', 'v', 'z', 'u', 'v', 'z', 'u', 'v', 'z'];
+    const blockLogits = [-2.0, -1.4, -2.5, -1.7, -2.2, -1.1, -2.9, -2.0, -2.6, -1.0, -1.8, -1.3, -2.2, -1.5, -2.4, -1.1, -2.6, -1.9];
+    const blockVariances = [0.1, 0.2, 0.15, 0.12, 0.09, 0.3, 0.2, 0.1, 0.14, 0.11, 0.16, 0.13, 0.18, 0.1, 0.22, 0.09, 0.12, 0.2];
+    const blocks = blockLogits.map((estimate, index) => ({ rowLabel: blockRows[index] as string, columnLabel: blockColumns[index] as string, estimate, variance: blockVariances[index] as number }));
+    const spread = fitInteractionSpread(blocks);
+    expect(spread.parameters).toBe(10);
+    expect(spread.betweenVariance).toBeCloseTo(0.22983520520962772, 12);
+    const free = shrinkTwoWayTable(blocks, { row: null, column: null }, 0.95).estimates;
+    expect(free[0]!.estimate).toBeCloseTo(-2.0253358044968373, 10);
+    expect(free[0]!.variance).toBeCloseTo(0.08805282624731658, 10);
+    expect(free[0]!.interval.low).toBeCloseTo(-2.709612472271563, 9);
+    expect(free[10]!.estimate).toBeCloseTo(-1.70823875162754, 10);
+    expect(free[10]!.variance).toBeCloseTo(0.13212071630312988, 10);
+    const randomRows = shrinkTwoWayTable(blocks, { row: 0.2, column: null }, 0.95).estimates;
+    expect(randomRows[10]!.estimate).toBeCloseTo(-1.7687077030685088, 10);
+    expect(randomRows[10]!.variance).toBeCloseTo(0.12391016034146397, 10);
+    expect(randomRows[10]!.interval.low).toBeCloseTo(-2.580441337064241, 9);
+  });
+
   test('a table with no residual degrees of freedom to spare leaves every cell as it is', () => {
     // 2 × 2: k − p = 4 − 3 = 1, so τ² cannot be judged (by hand)
     const square = cells.filter((cell) => ['a', 'b'].includes(cell.rowLabel) && ['w', 'x'].includes(cell.columnLabel));
