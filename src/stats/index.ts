@@ -105,8 +105,8 @@ export type { EquivalenceTestResult } from './equivalence.js';
 export { cochranMantelHaenszelTest, mantelHaenszelRiskDifference } from './stratified.js';
 export type { RateStratum, StratifiedRateTestResult } from './stratified.js';
 
-export { empiricalLogit, fitPriorSpread, logistic, shrinkObservation } from './shrinkage.js';
-export type { PriorSpread, ShrinkageObservation, ShrunkEstimate } from './shrinkage.js';
+export { empiricalLogit, fitInteractionSpread, fitPriorSpread, logistic, shrinkObservation, shrinkTwoWayTable } from './shrinkage.js';
+export type { InteractionSpread, MainEffectSpreads, PriorSpread, ShrinkageObservation, ShrunkEstimate, TwoWayCellObservation } from './shrinkage.js';
 
 export { twoPartTest } from './two-part.js';
 export type { TwoPartGroup, TwoPartTestResult } from './two-part.js';

@@ -5,23 +5,21 @@
  *
  * - One-way segments of one dimension are drawn toward the population, with the spread
  *   fitted across that dimension's segments (one centre fitted: they partition the population).
- * - Two-way segments are drawn toward what their two parents predict when the dimensions do
- *   not interact: on the logit scale for the rate (logit a + logit b − logit total, the main-
- *   effects logit model; Agresti, Categorical Data Analysis, ch. 5), additively for the value
- *   mean (a + b − total). The parents' own (shrunk) variances are added to the prior's, so the
- *   interval carries the uncertainty of the prediction; the spread of the interaction is
- *   fitted across the crosses of that dimension pair, with the parents' labels counted as
- *   fitted centres (k − q = residual degrees of freedom of the two-way table).
+ * - Two-way segments of a dimension pair are the cells of its two-way table, drawn toward the
+ *   table's main-effects model (on the logit scale for the rate, the main-effects logit model;
+ *   Agresti, Categorical Data Analysis, ch. 5; additively for the value mean). The labels'
+ *   effects are themselves drawn toward zero with the spread their one-way segments showed
+ *   (free when it cannot be judged), the interactions' spread τ² is fitted across the table,
+ *   and each cell is predicted jointly from the whole table (a mixed model; `shrinkTwoWayTable`),
+ *   so the interval carries the uncertainty of the main-effects prediction.
  *
  * The rate works on the empirical logit (its variance from the segment's own counts); the
  * value mean uses the population's variance of the value over the segment's units, so a
  * segment whose few values happen to be small is not made more certain by them.
  */
-import { empiricalLogit, fitPriorSpread, logistic, shrinkObservation, type ShrinkageObservation } from '../../stats/index.js';
+import { empiricalLogit, fitPriorSpread, logistic, shrinkObservation, shrinkTwoWayTable, type ShrunkEstimate } from '../../stats/index.js';
 import type { Group, GroupStats } from '../../segments/index.js';
 import type { ValueBasis } from '../definition/index.js';
-import { parentLabels } from './parents.js';
-import { segmentLabel } from './segment-row.js';
 import { valueSummary } from './segment-tests.js';
 
 export interface ExpectedFigure {
@@ -35,14 +33,14 @@ export interface ExpectedFigures {
   value: ExpectedFigure | null;
 }
 
-interface Posterior {
+interface Observed {
   estimate: number;
   variance: number;
 }
 
 interface MetricScale {
   /** the group's estimate and sampling variance on the scale shrinkage works on, or null when it has none */
-  observe(stats: GroupStats): Posterior | null;
+  observe(stats: GroupStats): Observed | null;
   /** back from that scale to the metric */
   toMetric(x: number): number;
 }
@@ -51,12 +49,11 @@ function setKey(group: Group): string {
   return group.dimensions.join('\u0000');
 }
 
-/** Shrinks one metric over all groups; returns each group's posterior on the working scale, by index. */
-function shrinkMetric(groups: readonly Group[], total: GroupStats, scale: MetricScale, confidence: number): Array<{ posterior: Posterior; figure: ExpectedFigure } | null> {
-  const results: Array<{ posterior: Posterior; figure: ExpectedFigure } | null> = groups.map(() => null);
+/** Shrinks one metric over all groups; returns each group's expected figure, by index. */
+function shrinkMetric(groups: readonly Group[], total: GroupStats, scale: MetricScale, confidence: number): Array<ExpectedFigure | null> {
+  const results: Array<ExpectedFigure | null> = groups.map(() => null);
   const totalObserved = scale.observe(total);
   if (totalObserved === null) return results;
-  const byLabel = new Map<string, Posterior>();
   const sets = new Map<string, number[]>();
   groups.forEach((group, index) => {
     const members = sets.get(setKey(group)) ?? [];
@@ -64,49 +61,44 @@ function shrinkMetric(groups: readonly Group[], total: GroupStats, scale: Metric
     sets.set(setKey(group), members);
   });
 
-  const shrinkSet = (members: number[], centreOf: (group: Group) => Posterior | null, centresFitted: (used: Group[]) => number) => {
-    const used: Array<{ index: number; observation: ShrinkageObservation }> = [];
-    for (const index of members) {
-      const group = groups[index] as Group;
-      const observed = scale.observe(group.stats);
-      const centre = centreOf(group);
-      if (observed === null || centre === null) continue;
-      used.push({ index, observation: { estimate: observed.estimate, variance: observed.variance, centre: centre.estimate, centreVariance: centre.variance } });
-    }
-    const q = Math.min(centresFitted(used.map(({ index }) => groups[index] as Group)), used.length);
+  const record = (index: number, shrunk: ShrunkEstimate) => {
+    results[index] = { estimate: scale.toMetric(shrunk.estimate), low: scale.toMetric(shrunk.interval.low), high: scale.toMetric(shrunk.interval.high) };
+  };
+  const observed = (members: number[]) =>
+    members.flatMap((index) => {
+      const observation = scale.observe((groups[index] as Group).stats);
+      return observation === null ? [] : [{ index, group: groups[index] as Group, observation }];
+    });
+
+  // one-way segments: toward the population, one centre fitted (they partition it); the spread
+  // of a dimension's labels is kept for its crosses when it can be judged (k − q − 2 > 0)
+  const labelSpread = new Map<string, number | null>();
+  for (const members of sets.values()) {
+    const dimensions = (groups[members[0] as number] as Group).dimensions;
+    if (dimensions.length !== 1) continue;
+    const used = observed(members).map(({ index, observation }) => ({
+      index,
+      observation: { estimate: observation.estimate, variance: observation.variance, centre: totalObserved.estimate, centreVariance: totalObserved.variance },
+    }));
     const spread = fitPriorSpread(
       used.map(({ observation }) => observation),
-      q,
+      Math.min(1, used.length),
     );
-    for (const { index, observation } of used) {
-      const shrunk = shrinkObservation(observation, spread, confidence);
-      const group = groups[index] as Group;
-      const posterior = { estimate: shrunk.estimate, variance: shrunk.variance };
-      if (group.dimensions.length === 1) byLabel.set(segmentLabel(group.dimensions, group.labels), posterior);
-      results[index] = {
-        posterior,
-        figure: { estimate: scale.toMetric(shrunk.estimate), low: scale.toMetric(shrunk.interval.low), high: scale.toMetric(shrunk.interval.high) },
-      };
-    }
-  };
-
-  for (const members of sets.values()) {
-    if ((groups[members[0] as number] as Group).dimensions.length !== 1) continue;
-    shrinkSet(members, () => totalObserved, () => 1);
+    labelSpread.set(dimensions[0] as string, spread.groups - spread.centresFitted - 2 > 0 ? spread.betweenVariance : null);
+    for (const { index, observation } of used) record(index, shrinkObservation(observation, spread, confidence));
   }
+  // two-way segments: the cells of the dimension pair's table, shrunk toward its main-effects
+  // model with the labels' effects drawn from their dimensions' spreads
   for (const members of sets.values()) {
-    if ((groups[members[0] as number] as Group).dimensions.length !== 2) continue;
-    shrinkSet(
-      members,
-      (group) => {
-        const parents = parentLabels(group).map((label) => byLabel.get(label));
-        const [first, second] = parents;
-        if (first === undefined || second === undefined) return null;
-        return { estimate: first.estimate + second.estimate - totalObserved.estimate, variance: first.variance + second.variance + totalObserved.variance };
-      },
-      // the main-effects model of the two-way table fits one centre per label of each dimension, less one
-      (used) => new Set(used.map((group) => group.labels[0])).size + new Set(used.map((group) => group.labels[1])).size - 1,
+    const dimensions = (groups[members[0] as number] as Group).dimensions;
+    if (dimensions.length !== 2) continue;
+    const used = observed(members);
+    const { estimates } = shrinkTwoWayTable(
+      used.map(({ group, observation }) => ({ rowLabel: group.labels[0] as string, columnLabel: group.labels[1] as string, estimate: observation.estimate, variance: observation.variance })),
+      { row: labelSpread.get(dimensions[0] as string) ?? null, column: labelSpread.get(dimensions[1] as string) ?? null },
+      confidence,
     );
+    used.forEach(({ index }, position) => record(index, estimates[position] as ShrunkEstimate));
   }
   return results;
 }
@@ -131,5 +123,5 @@ export function expectedFigures(groups: readonly Group[], total: GroupStats, set
   };
   const rates = shrinkMetric(groups, total, rateScale, settings.confidence);
   const values = shrinkMetric(groups, total, valueScale, settings.confidence);
-  return groups.map((_group, index) => ({ rate: rates[index]?.figure ?? null, value: values[index]?.figure ?? null }));
+  return groups.map((_group, index) => ({ rate: rates[index] ?? null, value: values[index] ?? null }));
 }

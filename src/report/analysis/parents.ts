@@ -12,7 +12,7 @@ import { rateTest, valueTest, valueSummary } from './segment-tests.js';
 import type { PositiveLogs } from './value-logs.js';
 
 /** The labels of a segment's one-way parents: two for a cross, none for a one-way segment. */
-export function parentLabels(group: Pick<Group, 'dimensions' | 'labels'>): string[] {
+function parentLabels(group: Pick<Group, 'dimensions' | 'labels'>): string[] {
   if (group.dimensions.length !== 2) return [];
   return group.dimensions.map((dimension, index) => segmentLabel([dimension], [group.labels[index] as string]));
 }
