@@ -22,11 +22,17 @@ interface SerializedError {
 
 export type WorkerReply = { id: number; ok: true; result: BuiltSnapshot | string } | { id: number; ok: false; error: SerializedError };
 
-export function runWorkerTask(task: WorkerTask): BuiltSnapshot | string {
-  return task.kind === 'build' ? runSnapshotBuild(task.job) : renumberedBody(task.body, task.sequence);
+/** A worker's answer to one request: the task's result, or the error it threw. */
+export function answer(request: WorkerRequest): WorkerReply {
+  try {
+    const { task } = request;
+    return { id: request.id, ok: true, result: task.kind === 'build' ? runSnapshotBuild(task.job) : renumberedBody(task.body, task.sequence) };
+  } catch (error) {
+    return { id: request.id, ok: false, error: serializeError(error) };
+  }
 }
 
-export function serializeError(error: unknown): SerializedError {
+function serializeError(error: unknown): SerializedError {
   if (!(error instanceof Error)) return { name: 'Error', message: String(error), stack: undefined, argument: undefined };
   return { name: error.name, message: error.message, stack: error.stack, argument: error instanceof StatsInputError ? error.argument : undefined };
 }
