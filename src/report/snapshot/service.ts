@@ -6,6 +6,7 @@ import { randomUUID } from 'node:crypto';
 import type { Kysely } from 'kysely';
 import type { DatabaseHandle, Dialect } from '../../db/connect.js';
 import type { Database, ReportsTable, SnapshotTrigger } from '../../db/tables.js';
+import { YIELD_AFTER_EACH_QUERY } from '../../db/yield-after-query.js';
 import type { Logger } from '../../logger.js';
 import {
   explainOverflow,
@@ -248,7 +249,9 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
 
   let transaction = deps.readDb.transaction();
   if (deps.dialect === 'postgres') transaction = transaction.setIsolationLevel('repeatable read');
-  const readAggregates = transaction.execute(async (trx) => {
+  const readAggregates = transaction.execute(async (transactionExecutor) => {
+    // Each query of the transaction lets other requests in before the next one starts.
+    const trx = transactionExecutor.withPlugin(YIELD_AFTER_EACH_QUERY);
     // The data may have grown since the definition was saved. Checked first, so a dimension of
     // thousands of labels is refused before the cell query and its thousands of groups (on
     // SQLite the read connection, and /healthz, wait for this transaction): small bounded reads,
