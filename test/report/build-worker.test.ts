@@ -88,6 +88,16 @@ describe('snapshots built on a worker thread', () => {
     expect(segments.filter((segment) => (segment.holdout_n ?? 0) > 0).length).toBeGreaterThan(10);
   });
 
+  test('a snapshot renumbered on the worker (another instance took its sequence number) differs in its sequence alone', async () => {
+    const jobs: SnapshotBuildJob[] = [];
+    await refreshReport(dependencies(testApp, recording(onMainThread, jobs)), reportIds[1] as string, 'manual');
+    const built = await onWorker.build(jobs[0] as SnapshotBuildJob);
+    const sequence = (jobs[0] as SnapshotBuildJob).input.identity.sequence + 5;
+    const renumbered = JSON.parse(await onWorker.renumber(built.body, sequence)) as Record<string, unknown>;
+    expect(renumbered['sequence']).toBe(sequence);
+    expect({ ...renumbered, sequence: null }).toEqual({ ...(JSON.parse(built.body) as Record<string, unknown>), sequence: null });
+  });
+
   test('an error of the statistics on the worker comes back as the StatsInputError the main thread throws', async () => {
     const jobs: SnapshotBuildJob[] = [];
     await refreshReport(dependencies(testApp, recording(onMainThread, jobs)), reportIds[0] as string, 'manual');
