@@ -20,7 +20,7 @@ import { reportRoutes } from './http/report-routes.js';
 import type { IngestDependencies } from './ingest/service.js';
 import type { Logger } from './logger.js';
 import { SegmentTableCache } from './present/index.js';
-import { redactStoredSnapshots, reportDependencies } from './report/snapshot/index.js';
+import { createSnapshotBuilder, redactStoredSnapshots, reportDependencies, type SnapshotBuilder } from './report/snapshot/index.js';
 import { refreshSchedulePlugin } from './schedule/plugin.js';
 import { createChartCache } from './view/chart-cache.js';
 
@@ -41,6 +41,8 @@ export interface AppDependencies {
   logger: Logger;
   /** The clock; tests pass a fixed one. */
   now?: () => Date;
+  /** Where snapshots are built, when not on the workers the configuration asks for (tests of a failing worker); the caller closes it. */
+  snapshots?: SnapshotBuilder;
 }
 
 export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> {
@@ -67,10 +69,15 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
   });
 
   // Built once and shared by the plugins that need them.
-  const reports = reportDependencies(deps.database, deps.logger, now, {
-    publicationThreshold: deps.config.publicationThreshold,
-    maxLabelsPerDimension: deps.config.maxLabelsPerDimension,
-  });
+  const ownBuilder = deps.snapshots === undefined;
+  const snapshots = deps.snapshots ?? createSnapshotBuilder({ workers: deps.config.refreshWorkers, timeoutMs: deps.config.refreshBuildTimeoutMs, logger: deps.logger });
+  const reports = reportDependencies(
+    deps.database,
+    deps.logger,
+    now,
+    { publicationThreshold: deps.config.publicationThreshold, maxLabelsPerDimension: deps.config.maxLabelsPerDimension },
+    snapshots,
+  );
   const ingest: IngestDependencies = {
     db: deps.database.db,
     readDb: deps.database.readDb,
@@ -90,6 +97,7 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
   app.addHook('onClose', async () => {
     tables.clear();
     charts.clear();
+    if (ownBuilder) await snapshots.close();
   });
 
   // The address limit runs before authentication, so key guessing is limited too.

@@ -66,6 +66,13 @@ export interface Config {
   publicationThreshold: number;
   /** Most distinct labels one dimension of a report may have; a report over it is refused. */
   maxLabelsPerDimension: number;
+  /**
+   * Worker threads that build and serialise snapshots, so a refresh does not hold the event
+   * loop; 0 builds them on the main thread.
+   */
+  refreshWorkers: number;
+  /** Longest a snapshot build may take in a worker before the worker is replaced and the refresh fails, in milliseconds. */
+  refreshBuildTimeoutMs: number;
 }
 
 export class ConfigError extends Error {
@@ -113,6 +120,8 @@ export function loadConfig(env: Environment = process.env): Config {
     corsOrigins: readOrigins(env, 'CORS_ORIGINS'),
     publicationThreshold: readInteger(env, 'PUBLICATION_THRESHOLD', DEFAULT_PUBLICATION_THRESHOLD, { min: 1, max: 1_000_000 }),
     maxLabelsPerDimension: readInteger(env, 'MAX_LABELS_PER_DIMENSION', DEFAULT_MAX_LABELS_PER_DIMENSION, { min: 2, max: 100_000 }),
+    refreshWorkers: readInteger(env, 'REFRESH_WORKERS', 1, { min: 0, max: 16 }),
+    refreshBuildTimeoutMs: readInteger(env, 'REFRESH_BUILD_TIMEOUT_MS', 120_000, { min: 1000, max: 3_600_000 }),
   };
 }
 

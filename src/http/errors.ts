@@ -18,7 +18,7 @@ import {
   UploadTooLargeError,
 } from '../ingest/service.js';
 import { InvalidDefinitionError } from '../report/definition/index.js';
-import { ReportNotFoundError, SnapshotNotFoundError, SpendBeyondLimitError, TooManyLabelsError } from '../report/snapshot/index.js';
+import { ReportNotFoundError, SnapshotBuildFailedError, SnapshotNotFoundError, SpendBeyondLimitError, TooManyLabelsError } from '../report/snapshot/index.js';
 import { Problem } from './problems.js';
 
 /**
@@ -90,6 +90,8 @@ function domainProblem(error: unknown): Problem | null {
       snapshotId === 'latest' ? `report ${reportId} has no snapshot yet; POST /v1/reports/${reportId}/refresh computes one` : `report ${reportId} has no snapshot ${snapshotId}`,
     );
   }
+  // Still a 500 (and logged as one), with a detail that tells the client a retry is reasonable.
+  if (error instanceof SnapshotBuildFailedError) return new Problem('internal', 'the snapshot could not be built and nothing was stored; the refresh may be tried again');
   if (isTextTheDatabaseCannotStore(error)) {
     return new Problem('invalid-request', 'the request holds text the database cannot store or compare (such as a NUL character, \\u0000)');
   }

@@ -14,7 +14,7 @@ import {
   getSnapshotBody,
   listReports,
   listSnapshots,
-  refreshReport,
+  refreshReportText,
   replaceReport,
   type ReportDependencies,
 } from '../report/snapshot/index.js';
@@ -92,12 +92,13 @@ export const reportRoutes: FastifyPluginAsync<ReportRouteOptions> = async (app, 
 
   app.post('/v1/reports/:report_id/refresh', { schema: { params: ReportIdParams } }, async (request, reply) => {
     const { report_id: reportId } = request.params as { report_id: string };
-    const snapshot = await refreshReport({ ...deps, logger: request.log }, reportId, 'manual');
+    // The text built beside the snapshot is sent as it was stored: no second serialisation here.
+    const refreshed = await refreshReportText({ ...deps, logger: request.log }, reportId, 'manual');
     return reply
       .code(201)
-      .header('location', `/v1/reports/${reportId}/snapshots/${snapshot.snapshot_id}`)
+      .header('location', `/v1/reports/${reportId}/snapshots/${refreshed.snapshotId}`)
       .type('application/json; charset=utf-8')
-      .send(JSON.stringify(snapshot));
+      .send(refreshed.body);
   });
 
   app.get(

@@ -11,7 +11,7 @@
 import { randomUUID } from 'node:crypto';
 import { Cron } from 'croner';
 import { listReportIdsByRefresh } from '../report/store/index.js';
-import { refreshReport, type ReportDependencies } from '../report/snapshot/index.js';
+import { refreshReportText, type ReportDependencies } from '../report/snapshot/index.js';
 import type { SnapshotTrigger } from '../db/tables.js';
 import { acquireLock, lastRunAt, releaseLock, renewLock } from './lock.js';
 
@@ -77,8 +77,8 @@ export async function runWeeklyRefresh(deps: ReportDependencies, options: Refres
         return result;
       }
       try {
-        const snapshot = await refreshReport(deps, reportId, options.trigger);
-        result.refreshed.push({ reportId, snapshotId: snapshot.snapshot_id });
+        const refreshed = await refreshReportText(deps, reportId, options.trigger);
+        result.refreshed.push({ reportId, snapshotId: refreshed.snapshotId });
       } catch (error) {
         deps.logger.error({ err: error, reportId }, 'report refresh failed');
         result.failed.push({ reportId, error: error instanceof Error ? error.message : String(error) });

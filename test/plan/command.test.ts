@@ -2,7 +2,7 @@ import pino from 'pino';
 import { afterAll, afterEach, beforeAll, describe, expect, test, vi } from 'vitest';
 import { loadConfig, type Config } from '../../src/config.js';
 import { runPlanCommand } from '../../src/plan/command.js';
-import { createReport, type ReportDependencies } from '../../src/report/snapshot/index.js';
+import { createReport, createSnapshotBuilder, type ReportDependencies } from '../../src/report/snapshot/index.js';
 import { TEST_DIALECTS, createTestDatabase, type TestDatabase } from '../support/database.js';
 
 function capture(stream: 'log' | 'error'): string[] {
@@ -49,7 +49,7 @@ describe.each(TEST_DIALECTS)('segrank plan --report (%s)', (dialect) => {
   beforeAll(async () => {
     database = await createTestDatabase(dialect);
     config = { ...loadConfig({}), database: database.settings, logLevel: 'silent' };
-    const deps: ReportDependencies = { dialect, db: database.handle.db, readDb: database.handle.readDb, logger: pino({ level: 'silent' }), now: () => new Date(), publicationThreshold: 10, maxLabelsPerDimension: 100 };
+    const deps: ReportDependencies = { dialect, db: database.handle.db, readDb: database.handle.readDb, logger: pino({ level: 'silent' }), now: () => new Date(), publicationThreshold: 10, maxLabelsPerDimension: 100, snapshots: createSnapshotBuilder({ workers: 0, timeoutMs: 60_000, logger: pino({ level: 'silent' }) }) };
     await database.handle.db.insertInto('campaigns').values({ campaign_id: 'cli', created_at: new Date().toISOString() }).execute();
     reportId = (await createReport(deps, { name: 'Not run yet', source: { campaign_ids: ['cli'] } })).report_id;
   });

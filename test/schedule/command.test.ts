@@ -2,7 +2,7 @@ import pino from 'pino';
 import { afterAll, afterEach, beforeAll, describe, expect, test, vi } from 'vitest';
 import { loadConfig, type Config } from '../../src/config.js';
 import { listSnapshots } from '../../src/report/store/index.js';
-import { createReport, type ReportDependencies } from '../../src/report/snapshot/index.js';
+import { createReport, createSnapshotBuilder, type ReportDependencies } from '../../src/report/snapshot/index.js';
 import { EXIT_LOCKED, runRefreshCommand } from '../../src/schedule/command.js';
 import { acquireLock, lastRunAt, releaseLock } from '../../src/schedule/lock.js';
 import { WEEKLY_REFRESH_JOB } from '../../src/schedule/weekly.js';
@@ -17,7 +17,7 @@ describe.each(TEST_DIALECTS)('segrank refresh (%s)', (dialect) => {
   beforeAll(async () => {
     database = await createTestDatabase(dialect);
     config = { ...loadConfig({}), database: database.settings, logLevel: 'silent' };
-    const deps: ReportDependencies = { dialect, db: database.handle.db, readDb: database.handle.readDb, logger: pino({ level: 'silent' }), now: () => new Date(), publicationThreshold: 10, maxLabelsPerDimension: 100 };
+    const deps: ReportDependencies = { dialect, db: database.handle.db, readDb: database.handle.readDb, logger: pino({ level: 'silent' }), now: () => new Date(), publicationThreshold: 10, maxLabelsPerDimension: 100, snapshots: createSnapshotBuilder({ workers: 0, timeoutMs: 60_000, logger: pino({ level: 'silent' }) }) };
     const now = new Date().toISOString();
     await database.handle.db.insertInto('campaigns').values({ campaign_id: 'cli', created_at: now }).execute();
     weekly = (await createReport(deps, { name: 'Weekly', source: { campaign_ids: ['cli'] }, refresh: 'weekly' })).report_id;

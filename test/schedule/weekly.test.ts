@@ -1,6 +1,6 @@
 import pino from 'pino';
 import { afterAll, afterEach, beforeAll, beforeEach, describe, expect, test, vi } from 'vitest';
-import { createReport as saveReport, type ReportDependencies } from '../../src/report/snapshot/index.js';
+import { createReport as saveReport, createSnapshotBuilder, type ReportDependencies } from '../../src/report/snapshot/index.js';
 import { listSnapshots } from '../../src/report/store/index.js';
 import { acquireLock, lastRunAt, releaseLock } from '../../src/schedule/lock.js';
 import {
@@ -51,10 +51,12 @@ describe.each(TEST_DIALECTS)('the weekly refresh (%s)', (dialect) => {
   let deps: ReportDependencies;
   let weeklyReportId: string;
   const schedules: RefreshSchedule[] = [];
+  // The snapshots are built on a worker thread, as the service builds them.
+  const snapshots = createSnapshotBuilder({ workers: 1, timeoutMs: 60_000, logger: pino({ level: 'silent' }) });
 
   beforeAll(async () => {
     database = await createTestDatabase(dialect);
-    deps = { dialect, db: database.handle.db, readDb: database.handle.readDb, logger: pino({ level: 'silent' }), now: () => new Date(), publicationThreshold: 10, maxLabelsPerDimension: 100 };
+    deps = { dialect, db: database.handle.db, readDb: database.handle.readDb, logger: pino({ level: 'silent' }), now: () => new Date(), publicationThreshold: 10, maxLabelsPerDimension: 100, snapshots };
     const db = database.handle.db;
     const now = '2026-06-01T00:00:00.000Z';
     await db
@@ -71,6 +73,7 @@ describe.each(TEST_DIALECTS)('the weekly refresh (%s)', (dialect) => {
   });
 
   afterAll(async () => {
+    await snapshots.close();
     await database.destroy();
   });
 

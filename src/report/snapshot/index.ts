@@ -3,6 +3,7 @@
  * population figures that go into them, and made, stored and read through the report service.
  */
 export { buildSnapshot } from './build.js';
+export { createSnapshotBuilder, SnapshotBuildFailedError, type SnapshotBuilder } from './build-pool.js';
 export { SpendBeyondLimitError } from '../../segments/index.js';
 export { TooManyLabelsError } from './label-limit.js';
 export type { SnapshotInput } from './input.js';
@@ -26,6 +27,7 @@ export {
   listReports,
   listSnapshots,
   refreshReport,
+  refreshReportText,
   replaceReport,
   reportDependencies,
   snapshotVersionKey,

@@ -7,6 +7,7 @@ import type { Kysely } from 'kysely';
 import type { DatabaseHandle, Dialect } from '../../db/connect.js';
 import type { Database, ReportsTable, SnapshotTrigger } from '../../db/tables.js';
 import type { Executor } from '../../db/executor.js';
+import { YIELD_AFTER_EACH_QUERY } from '../../db/yield-after-query.js';
 import type { Logger } from '../../logger.js';
 import {
   explainOverflow,
@@ -24,13 +25,12 @@ import {
   type ValueDistributionScope,
 } from '../../segments/index.js';
 import type { PreviousWindow } from '../analysis/index.js';
-import { buildSnapshot } from './build.js';
+import type { SnapshotBuilder } from './build-pool.js';
 import { dimensionsOverLimit, refuseCellLabelsPastLimit, refuseLabelsPastLimit } from './label-limit.js';
 import type { HoldoutCells } from './holdout.js';
 import { InvalidDefinitionError, normalizeDefinition, withCurrentDefaults, type ReportDefinition } from '../definition/index.js';
-import { readStoredSnapshot } from './stored.js';
+import { publishedText, readStoredSnapshot } from './stored.js';
 import { ageGridAxis, ageValueGridAxes, isExpandable } from './profiles.js';
-import { storedTextIsWithheldAt, withholdSnapshot } from './withholding.js';
 import * as repository from '../store/index.js';
 import type { Report, Snapshot } from '../shapes/index.js';
 
@@ -46,23 +46,15 @@ export interface ReportDependencies {
   publicationThreshold: number;
   /** Most distinct labels a dimension of a report may have. */
   maxLabelsPerDimension: number;
+  /** Where snapshots are built and serialised (worker threads, so a refresh leaves the event loop free). */
+  snapshots: SnapshotBuilder;
 }
 
 export type ReportLimits = Pick<ReportDependencies, 'publicationThreshold' | 'maxLabelsPerDimension'>;
 
-/** The dependencies of the report functions, from an open database, a logger, a clock and the report settings. */
-export function reportDependencies(database: DatabaseHandle, logger: Logger, now: () => Date, limits: ReportLimits): ReportDependencies {
-  return { dialect: database.dialect, db: database.db, readDb: database.readDb, logger, now, ...limits };
-}
-
-/**
- * Stored snapshot text as it may be served: withheld at the current threshold. Snapshots
- * stored before withholding existed, or under a lower threshold, are withheld as they are read.
- */
-function publishedText(body: string, threshold: number): string {
-  if (storedTextIsWithheldAt(body, threshold)) return body;
-  // Read in the current shape first: a snapshot stored before withholding may predate other fields too.
-  return JSON.stringify(withholdSnapshot(readStoredSnapshot(body), threshold));
+/** The dependencies of the report functions, from an open database, a logger, a clock, the report settings and the snapshot builder. */
+export function reportDependencies(database: DatabaseHandle, logger: Logger, now: () => Date, limits: ReportLimits, snapshots: SnapshotBuilder): ReportDependencies {
+  return { dialect: database.dialect, db: database.db, readDb: database.readDb, logger, now, ...limits, snapshots };
 }
 
 /** A saved report as the API returns it: its definition, id, creation time and latest snapshot. */
@@ -224,13 +216,19 @@ async function earlierContactsChangedSinceLastSnapshot(db: Executor, reportId: s
 // One refresh at a time per report in this process, so each snapshot compares with the one before it.
 const refreshesInFlight = new Map<string, Promise<unknown>>();
 
+/** A snapshot just stored: its id and its JSON text, as stored and as sent. */
+export interface RefreshedSnapshot {
+  snapshotId: string;
+  body: string;
+}
+
 /**
  * Computes and stores a new snapshot of a report: every aggregate is read in one consistent
- * read transaction (a snapshot of the data on both engines), then the snapshot is built in
- * code and written once.
+ * read transaction (a snapshot of the data on both engines), then the snapshot is built and
+ * serialised by `deps.snapshots` (a worker thread) and written once.
  * @throws ReportNotFoundError
  */
-export async function refreshReport(deps: ReportDependencies, reportId: string, trigger: SnapshotTrigger): Promise<Snapshot> {
+export async function refreshReportText(deps: ReportDependencies, reportId: string, trigger: SnapshotTrigger): Promise<RefreshedSnapshot> {
   const earlier = refreshesInFlight.get(reportId) ?? Promise.resolve();
   const run = earlier.catch(() => undefined).then(() => computeAndStore(deps, reportId, trigger));
   refreshesInFlight.set(reportId, run);
@@ -241,7 +239,15 @@ export async function refreshReport(deps: ReportDependencies, reportId: string, 
   }
 }
 
-async function computeAndStore(deps: ReportDependencies, reportId: string, trigger: SnapshotTrigger): Promise<Snapshot> {
+/**
+ * `refreshReportText` with the snapshot read back from its text (parsed on the calling thread).
+ * @throws ReportNotFoundError
+ */
+export async function refreshReport(deps: ReportDependencies, reportId: string, trigger: SnapshotTrigger): Promise<Snapshot> {
+  return JSON.parse((await refreshReportText(deps, reportId, trigger)).body) as Snapshot;
+}
+
+async function computeAndStore(deps: ReportDependencies, reportId: string, trigger: SnapshotTrigger): Promise<RefreshedSnapshot> {
   const started = performance.now();
   const row = await repository.findReport(deps.readDb, reportId);
   if (!row) throw new ReportNotFoundError(reportId);
@@ -255,7 +261,9 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
 
   let transaction = deps.readDb.transaction();
   if (deps.dialect === 'postgres') transaction = transaction.setIsolationLevel('repeatable read');
-  const readAggregates = transaction.execute(async (trx) => {
+  const readAggregates = transaction.execute(async (transactionExecutor) => {
+    // Each query of the transaction lets other requests in before the next one starts.
+    const trx = transactionExecutor.withPlugin(YIELD_AFTER_EACH_QUERY);
     // The data may have grown since the definition was saved. Checked first, so a dimension of
     // thousands of labels is refused before the cell query and its thousands of groups (on
     // SQLite the read connection, and /healthz, wait for this transaction): small bounded reads,
@@ -295,19 +303,23 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   });
   const queriesDone = performance.now();
 
+  // The previous snapshot travels as its stored text and is parsed where the new one is built.
   const previousBody = await repository.findSnapshotBody(deps.readDb, reportId, 'latest');
-  const previousSnapshot = previousBody === undefined ? null : readStoredSnapshot(publishedText(previousBody, deps.publicationThreshold));
   const snapshotId = randomUUID();
   let sequence = await repository.nextSnapshotSequence(deps.db, reportId);
-  const snapshot = buildSnapshot({
-    identity: { snapshotId, reportId, reportName: row.name, sequence, createdAt: deps.now().toISOString(), trigger },
-    definition,
-    ...data,
-    previousSnapshot,
-    publicationThreshold: deps.publicationThreshold,
+  const built = await deps.snapshots.build({
+    input: {
+      identity: { snapshotId, reportId, reportName: row.name, sequence, createdAt: deps.now().toISOString(), trigger },
+      definition,
+      ...data,
+      publicationThreshold: deps.publicationThreshold,
+    },
+    previousBody: previousBody ?? null,
+    elapsedBeforeBuildMs: performance.now() - started,
   });
+  const snapshot = built.summary;
+  let body = built.body;
   const computed = performance.now();
-  snapshot.duration_ms = Math.round(computed - started);
 
   // Another instance may have taken the sequence number meanwhile; the unique key refuses the
   // duplicate, and the next free number is taken.
@@ -323,7 +335,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
         segment_count: snapshot.row_counts.segments,
         duration_ms: snapshot.duration_ms,
         trigger,
-        body: JSON.stringify(snapshot),
+        body,
         redacted_at: null,
       });
       break;
@@ -332,7 +344,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
       const next = await repository.nextSnapshotSequence(deps.db, reportId);
       if (next === sequence) throw error;
       sequence = next;
-      snapshot.sequence = sequence;
+      body = await deps.snapshots.renumber(body, sequence);
     }
   }
   deps.logger.info(
@@ -350,7 +362,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
     },
     'snapshot stored',
   );
-  return snapshot;
+  return { snapshotId, body };
 }
 
 /** @throws ReportNotFoundError */

@@ -6,6 +6,7 @@
  */
 import type { Snapshot, SnapshotSegment } from '../shapes/index.js';
 import { withoutHoldout } from '../analysis/uplift.js';
+import { storedTextIsWithheldAt, withholdSnapshot } from './withholding.js';
 
 const FORMER_NO_DIFFERENCE = 'no_detectable_difference';
 
@@ -38,4 +39,14 @@ export function readStoredSnapshot(body: string): Snapshot {
   counts['equivalent'] ??= 0;
   snapshot.segments = snapshot.segments.map((segment) => currentSegment(segment as unknown as StoredSegment));
   return snapshot;
+}
+
+/**
+ * Stored snapshot text as it may be served: withheld at the current threshold. Snapshots
+ * stored before withholding existed, or under a lower threshold, are withheld as they are read.
+ */
+export function publishedText(body: string, threshold: number): string {
+  if (storedTextIsWithheldAt(body, threshold)) return body;
+  // Read in the current shape first: a snapshot stored before withholding may predate other fields too.
+  return JSON.stringify(withholdSnapshot(readStoredSnapshot(body), threshold));
 }
