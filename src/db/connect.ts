@@ -10,6 +10,7 @@ import pg from 'pg';
 import type { Logger } from '../logger.js';
 import type { DatabaseSettings } from '../config.js';
 import type { Database } from './tables.js';
+import { prepared } from './prepared.js';
 
 export type Dialect = DatabaseSettings['dialect'];
 
@@ -135,5 +136,12 @@ function queryLogger(logger: Logger): (event: LogEvent) => void {
 
 /** A cheap round trip, used by the health check. */
 export async function pingDatabase(db: Kysely<Database>): Promise<void> {
+  // On SQLite, straight on the connection: kysely queues a query behind an open transaction on
+  // it (a refresh's reads), and a liveness probe must not wait for a report.
+  const connection = sqliteConnectionOf(db);
+  if (connection !== null) {
+    prepared(connection, 'select 1', 'first column').get();
+    return;
+  }
   await sql`select 1`.execute(db);
 }
