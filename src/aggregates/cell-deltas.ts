@@ -24,7 +24,7 @@ export interface ContactCellValues {
 export const UNKNOWN_AGE = -1;
 
 /** The key a contact counts under. Numbers are normalised, since PostgreSQL may hand 64-bit columns over as text. */
-export function cellKeyOf(contact: ContactCellValues): CellKey {
+function cellKeyOf(contact: ContactCellValues): CellKey {
   return {
     campaign_id: contact.campaign_id,
     region: contact.region,

@@ -179,7 +179,7 @@ async function storeUpload(deps: IngestDependencies, request: UploadRequest, spo
     const writeCellDeltas = async () => {
       if (cellDeltas.size === 0) return;
       await takeCellCountsLock(trx, store.sqlite !== null);
-      await applyCellDeltas(trx, cellDeltas);
+      await applyCellDeltas(trx, cellDeltas, store.sqlite);
       cellDeltas.clear();
     };
     let nextProgress = deps.limits.progressEveryRows;
