@@ -22,7 +22,7 @@ function withDemoDatabaseFallback(config: Config): Config {
 
 const commands: Record<string, { summary: string; run: Command }> = {
   aggregates: {
-    summary: 'check the contact value counts against the contacts (aggregates check), or rebuild them (aggregates rebuild)',
+    summary: 'check: compare the contact value counts with the contacts (exit 1 on a difference); rebuild: recompute them from the contacts',
     run: async (args, config) => (await import('./aggregates/command.js')).runAggregatesCommand(args, config),
   },
   keys: {
