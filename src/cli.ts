@@ -1,6 +1,6 @@
 /**
  * The `segrank` command line: `segrank demo`, and the operator commands added beside it
- * (`keys`, `refresh`, `plan`).
+ * (`keys`, `refresh`, `plan`, `aggregates`).
  * Each command reads the same configuration (DATABASE_URL …) as the service.
  */
 import fs from 'node:fs';
@@ -21,6 +21,10 @@ function withDemoDatabaseFallback(config: Config): Config {
 }
 
 const commands: Record<string, { summary: string; run: Command }> = {
+  aggregates: {
+    summary: 'check: compare the contact value counts with the contacts (exit 1 on a difference); rebuild: recompute them from the contacts',
+    run: async (args, config) => (await import('./aggregates/command.js')).runAggregatesCommand(args, config),
+  },
   keys: {
     summary: 'create, list or revoke API keys (keys create --role read|ingest|admin --name NAME)',
     run: async (args, config) => (await import('./auth/commands.js')).keysCommand(args, config),
