@@ -38,6 +38,11 @@ export interface AggregationRequest {
 export const VALUE = sql.ref('population.value_cents');
 export const AGE = sql.ref('population.age');
 export const CONVERTED = sql.ref('population.converted');
+/**
+ * How many units a row of the population stands for: 1 for a source read row by row, more for
+ * a source kept as counts. Every aggregate weighs by it: count(*) is Σ units, Σv is Σ units·v.
+ */
+export const UNITS = sql.ref('population.units');
 
 export function dimensionColumn(index: number): string {
   return `d${index}`;
@@ -63,7 +68,8 @@ function plausibleAge(age: RawBuilder<unknown>): RawBuilder<number | null> {
 export const CONTACT_CELL_COLUMNS = ['region', 'channel', 'customer_type'] as const;
 
 /**
- * The units of the population with the columns the reports need: converted (0/1), holdout
+ * The units of the population with the columns the reports need: units (how many units the
+ * row stands for, 1 for a source read row by row), converted (0/1), holdout
  * (0/1: kept out of the campaign on purpose; always 0 in a sales report), value_cents, age (plausible or null), raw_age (as stored or computed, for grouping) and the
  * dimension columns. A campaign population reads the customer's values copied onto each
  * contact, so it never joins customers; it also offers campaign_key, and always all three
@@ -85,6 +91,7 @@ export function basePopulation(source: PopulationSource, dimensions: readonly st
   if (source.kind === 'campaigns') {
     for (const column of CONTACT_CELL_COLUMNS) columns.push(sql`${sql.ref(`cc.${column}`)} as ${sql.ref(column)}`);
     columns.push(
+      sql`1 as units`,
       sql`cc.campaign_id as campaign_key`,
       sql`cc.converted as converted`,
       sql`cc.holdout as holdout`,
@@ -103,6 +110,7 @@ export function basePopulation(source: PopulationSource, dimensions: readonly st
   for (const column of CONTACT_CELL_COLUMNS) if (dimensions.includes(column)) columns.push(sql`${sql.ref(`cu.${column}`)} as ${sql.ref(column)}`);
   const ageAtEnd = ageAtDateSql(sql.ref('cu.birth_date'), source.to);
   columns.push(
+    sql`1 as units`,
     sql`case when s.spend is null then 0 else 1 end as converted`,
     // A sales report has no campaign, so no one was held out of it.
     sql`0 as holdout`,
@@ -138,7 +146,7 @@ function ageBandSql(age: RawBuilder<unknown>, edges: readonly number[]): RawBuil
 
 /**
  * The population as a derived table `population` with columns d0…dk (one per dimension, the
- * age band computed in SQL), converted, holdout, value_cents, age and raw_age.
+ * age band computed in SQL), units, converted, holdout, value_cents, age and raw_age.
  */
 export function population(request: Pick<AggregationRequest, 'source' | 'dimensions' | 'ageEdges'>): RawBuilder<unknown> {
   let attributeIndex = 0;
@@ -149,7 +157,7 @@ export function population(request: Pick<AggregationRequest, 'source' | 'dimensi
     else expression = sql.ref(`base.${attributeColumn(attributeIndex++)}`);
     return sql`${expression} as ${sql.ref(dimensionColumn(index))}`;
   });
-  return sql`(select ${sql.join([...dimensionColumns, sql`base.converted as converted`, sql`base.holdout as holdout`, sql`base.value_cents as value_cents`, sql`base.age as age`, sql`base.raw_age as raw_age`])}
+  return sql`(select ${sql.join([...dimensionColumns, sql`base.units as units`, sql`base.converted as converted`, sql`base.holdout as holdout`, sql`base.value_cents as value_cents`, sql`base.age as age`, sql`base.raw_age as raw_age`])}
     from (${basePopulation(request.source, request.dimensions)}) base) population`;
 }
 
@@ -166,12 +174,12 @@ export function toNumber(value: unknown): number {
  */
 export async function populationTotals(db: Executor, source: PopulationSource): Promise<PopulationTotals> {
   const { rows } = await sql<Record<string, unknown>>`
-    select count(*) as n,
-      sum(${CONVERTED}) as conversions,
-      sum(${VALUE}) as value_cents,
-      sum(case when ${CONVERTED} = 1 then ${VALUE} else 0 end) as converted_value_cents,
-      count(${AGE}) as aged_units,
-      sum(${AGE}) as age_total
+    select sum(${UNITS}) as n,
+      sum(${UNITS} * ${CONVERTED}) as conversions,
+      sum(${UNITS} * ${VALUE}) as value_cents,
+      sum(case when ${CONVERTED} = 1 then ${UNITS} * ${VALUE} else 0 end) as converted_value_cents,
+      sum(case when ${AGE} is null then 0 else ${UNITS} end) as aged_units,
+      sum(${UNITS} * ${AGE}) as age_total
     from (${basePopulation(source, [])}) population`.execute(db);
   const row = rows[0] ?? {};
   return {
@@ -184,13 +192,16 @@ export async function populationTotals(db: Executor, source: PopulationSource): 
   };
 }
 
+/** A campaign population: the source of a campaign report. */
+export type CampaignSource = Extract<PopulationSource, { kind: 'campaigns' }>;
+
 /**
  * How many holdout contacts the campaigns hold: a campaign report splits its arms only when
- * there are some.
+ * there are some. Read from the report's own source, weighted like every other count of it.
  */
-export async function holdoutContacts(db: Executor, campaignIds: readonly string[]): Promise<number> {
-  if (campaignIds.length === 0) return 0;
+export async function holdoutContacts(db: Executor, source: CampaignSource): Promise<number> {
+  if (source.campaignIds.length === 0) return 0;
   const { rows } = await sql<Record<string, unknown>>`
-    select count(*) as n from campaign_contacts where campaign_id in (${sql.join(campaignIds)}) and holdout = 1`.execute(db);
+    select sum(${UNITS}) as n from (${basePopulation({ ...source, arm: 'holdout' }, [])}) population`.execute(db);
   return toNumber(rows[0]?.['n']);
 }

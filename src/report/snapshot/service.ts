@@ -237,7 +237,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   deps.logger.info({ reportId, trigger }, 'refresh started');
   let source = populationSource(definition);
   // With holdout customers, every figure but the holdout's describes the contacted ones.
-  const withHoldout = source.kind === 'campaigns' && (await holdoutContacts(deps.readDb, source.campaignIds)) > 0;
+  const withHoldout = source.kind === 'campaigns' && (await holdoutContacts(deps.readDb, source)) > 0;
   if (withHoldout && source.kind === 'campaigns') source = { ...source, arm: 'contacted' };
   const request: AggregationRequest = { source, dimensions: definition.dimensions, ageEdges: definition.age_bands, valueBasis: definition.value_basis };
 
