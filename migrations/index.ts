@@ -11,6 +11,7 @@ import * as receiptNotes from './0005_receipt_notes.js';
 import * as idempotencyPerKey from './0006_idempotency_per_key.js';
 import * as snapshotRedaction from './0007_snapshot_redaction.js';
 import * as contactHoldout from './0008_contact_holdout.js';
+import * as contactValueCounts from './0009_contact_value_counts.js';
 
 export const migrations: Record<string, Migration> = {
   '0001_records': records,
@@ -21,4 +22,5 @@ export const migrations: Record<string, Migration> = {
   '0006_idempotency_per_key': idempotencyPerKey,
   '0007_snapshot_redaction': snapshotRedaction,
   '0008_contact_holdout': contactHoldout,
+  '0009_contact_value_counts': contactValueCounts,
 };

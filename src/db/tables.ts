@@ -58,6 +58,24 @@ export interface CampaignContactsTable {
   last_ingest_id: string | null;
 }
 
+/**
+ * How many contacts share one cell and one revenue value (migration 0009), kept current with
+ * the contacts in the same transaction (src/aggregates/). A row with no units does not remain.
+ */
+export interface ContactValueCountsTable {
+  campaign_id: string;
+  region: string;
+  channel: string;
+  customer_type: 'individual' | 'company';
+  /** The contact's `age_at_contact`, or -1 when it is unknown (no birth date): a key column cannot be NULL. */
+  age: number;
+  holdout: number;
+  converted: number;
+  revenue_cents: number;
+  /** Number of contacts with exactly these values; always positive. */
+  units: number;
+}
+
 export type IngestKind = 'customers' | 'sales' | 'contacts';
 export type OnError = 'reject' | 'skip';
 
@@ -114,6 +132,7 @@ export interface Database {
   sales: SalesTable;
   campaigns: CampaignsTable;
   campaign_contacts: CampaignContactsTable;
+  contact_value_counts: ContactValueCountsTable;
   ingests: IngestsTable;
   rejected_rows: RejectedRowsTable;
   api_keys: ApiKeysTable;
