@@ -21,11 +21,34 @@ import type { PopulationTotals } from './shifted-sums.js';
  */
 /**
  * A campaign population may be narrowed to one arm: the contacted customers or the holdout
- * (kept out on purpose); absent, it holds both, as it did before holdouts existed.
+ * (kept out on purpose); absent, it holds both, as it did before holdouts existed. It is read
+ * from `table` (`campaignPopulationTable` chooses; absent: the contacts themselves).
  */
 export type PopulationSource =
-  | { kind: 'campaigns'; campaignIds: string[]; arm?: 'contacted' | 'holdout' }
+  | { kind: 'campaigns'; campaignIds: string[]; arm?: 'contacted' | 'holdout'; table?: CampaignPopulationTable }
   | { kind: 'sales'; from: string; to: string; knownAt?: string };
+
+/**
+ * Where a campaign population's units are read: every contact (`campaign_contacts`), or the
+ * contacts kept as counts per cell, age, arm, outcome and revenue (`contact_value_counts`,
+ * maintained with the contacts in the upload's transaction, so both give the same figures).
+ */
+export type CampaignPopulationTable = 'campaign_contacts' | 'contact_value_counts';
+
+/**
+ * The one choice of the rows a report reads. A campaign report whose dimensions are all built
+ * in (age band, region, channel, customer type) reads `contact_value_counts`: every column it
+ * groups or sums is a column of that table, whose rows are far fewer than the contacts (the
+ * unconverted contacts of a cell and age are one row). A campaign report on an extra attribute
+ * reads the contacts: the attribute is joined per customer (customer_attributes), and counts
+ * kept per attribute label would multiply the table's rows by the labels of every attribute
+ * uploaded. A sales report is not a campaign population at all and always reads its rows: its
+ * unit is a customer whose spend is summed over a window the report chooses, which no count
+ * kept in advance can hold without a row per customer.
+ */
+export function campaignPopulationTable(dimensions: readonly string[]): CampaignPopulationTable {
+  return dimensions.every(isBuiltInDimension) ? 'contact_value_counts' : 'campaign_contacts';
+}
 
 export interface AggregationRequest {
   source: PopulationSource;
@@ -87,6 +110,26 @@ export function basePopulation(source: PopulationSource, dimensions: readonly st
     (name, index) =>
       sql`left join customer_attributes ${sql.ref(`a${index}`)} on ${sql.ref(`a${index}.customer_id`)} = ${customerKey} and ${sql.ref(`a${index}.name`)} = ${name}`,
   );
+
+  if (source.kind === 'campaigns' && source.table === 'contact_value_counts') {
+    if (attributeNames.length > 0) throw new Error(`contact_value_counts holds no extra attribute (${attributeNames.join(', ')}): such a report reads campaign_contacts`);
+    // The table keeps an unknown age as -1 (a key column cannot be NULL); the population has it as null.
+    const storedAge = sql`nullif(cvc.age, -1)`;
+    for (const column of CONTACT_CELL_COLUMNS) columns.push(sql`${sql.ref(`cvc.${column}`)} as ${sql.ref(column)}`);
+    columns.push(
+      sql`cvc.units as units`,
+      sql`cvc.campaign_id as campaign_key`,
+      sql`cvc.converted as converted`,
+      sql`cvc.holdout as holdout`,
+      sql`cvc.revenue_cents as value_cents`,
+      sql`${storedAge} as raw_age`,
+      sql`${plausibleAge(storedAge)} as age`,
+    );
+    return sql`select ${sql.join(columns)}
+      from contact_value_counts cvc
+      where cvc.campaign_id in (${sql.join(source.campaignIds)})
+      ${source.arm === undefined ? sql`` : sql`and cvc.holdout = ${source.arm === 'holdout' ? 1 : 0}`}`;
+  }
 
   if (source.kind === 'campaigns') {
     for (const column of CONTACT_CELL_COLUMNS) columns.push(sql`${sql.ref(`cc.${column}`)} as ${sql.ref(column)}`);
@@ -193,7 +236,7 @@ export async function populationTotals(db: Executor, source: PopulationSource): 
 }
 
 /** A campaign population: the source of a campaign report. */
-export type CampaignSource = Extract<PopulationSource, { kind: 'campaigns' }>;
+type CampaignSource = Extract<PopulationSource, { kind: 'campaigns' }>;
 
 /**
  * How many holdout contacts the campaigns hold: a campaign report splits its arms only when

@@ -8,6 +8,7 @@ import type { DatabaseHandle, Dialect } from '../../db/connect.js';
 import type { Database, ReportsTable, SnapshotTrigger } from '../../db/tables.js';
 import type { Logger } from '../../logger.js';
 import {
+  campaignPopulationTable,
   explainOverflow,
   gridCountsOf,
   holdoutContacts,
@@ -186,9 +187,12 @@ function precedingWindow(from: string, to: string): { from: string; to: string }
   return { from: addDays(from, -days), to: addDays(from, -1) };
 }
 
+/** The report's population, read from the table `campaignPopulationTable` chooses for its dimensions. */
 function populationSource(definition: ReportDefinition): PopulationSource {
   const source = definition.source;
-  return 'campaign_ids' in source ? { kind: 'campaigns', campaignIds: source.campaign_ids } : { kind: 'sales', from: source.sales_from, to: source.sales_to };
+  return 'campaign_ids' in source
+    ? { kind: 'campaigns', campaignIds: source.campaign_ids, table: campaignPopulationTable(definition.dimensions) }
+    : { kind: 'sales', from: source.sales_from, to: source.sales_to };
 }
 
 /**
