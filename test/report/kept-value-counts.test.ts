@@ -23,13 +23,26 @@ vi.mock('../../src/segments/population.js', async (importOriginal) => {
   };
 });
 
-/** Two campaigns, one with a holdout, customers partly without birth date, with an extra attribute (loyalty_tier). */
+/** The largest amount one row may carry. */
+const MONEY_CAP = '999999999999.99';
+
+/** Three campaigns, one with a holdout, one with revenues at the cap, customers partly without birth date, with an extra attribute (loyalty_tier). */
 async function uploadCampaigns(context: TestApp): Promise<void> {
   const customers = generateCustomers(71, 2400, 0.08);
   await uploadRows(context.app, '/v1/customers', customers);
   const spring = generateContacts(customers, { seed: 72, baseRate: 0.1, plantedRegion: 'Eastvale', plantedRate: 0.16 }).map((contact, index) => ({ ...contact, holdout: index % 6 === 0 ? 1 : 0 }));
   await uploadRows(context.app, '/v1/campaigns/spring/contacts', spring);
   await uploadRows(context.app, '/v1/campaigns/autumn/contacts', generateContacts(customers.slice(0, 1500), { seed: 73, baseRate: 0.07, contactedAt: '2026-05-10' }));
+  // 40 alike customers who all bought at the per-row cap: one kept count of 40 whose Σv² passes 2^63 by far.
+  const alike = Array.from({ length: 40 }, (_unused, index) => ({ customer_id: `g${index}`, birth_date: '1970-04-04', region: 'Westbrook', channel: 'web', customer_type: 'company', loyalty_tier: 'gold' }));
+  await uploadRows(context.app, '/v1/customers', alike);
+  const grand = [...alike, ...customers.slice(0, 200)].map((customer, index) => ({
+    customer_id: customer.customer_id,
+    contacted_at: '2026-04-01',
+    converted: index < 40 || index % 5 === 0 ? 1 : 0,
+    revenue: index < 40 ? MONEY_CAP : index % 5 === 0 ? '12.50' : '0',
+  }));
+  await uploadRows(context.app, '/v1/campaigns/grand/contacts', grand);
   await recomputeContactValueCounts(context.database.handle.db);
 }
 
@@ -86,7 +99,11 @@ async function snapshotsFromBothSources(dialect: Dialect): Promise<{ fromContact
       { name: 'Both campaigns', source: { campaign_ids: ['spring', 'autumn'] }, dimensions: ['age_band', 'region', 'channel', 'customer_type'] },
       { name: 'Spring value', source: { campaign_ids: ['spring'] }, dimensions: ['region', 'customer_type'], rank_by: 'value', value_basis: 'per_conversion' },
       { name: 'Autumn value', source: { campaign_ids: ['autumn'] }, dimensions: ['age_band', 'channel'], rank_by: 'value', value_basis: 'per_unit' },
+      { name: 'Grand value', source: { campaign_ids: ['grand'] }, dimensions: ['region', 'channel'], rank_by: 'value', value_basis: 'per_conversion' },
     ];
+    const { rows } = await sql<{ units: unknown }>`select max(units) as units from contact_value_counts where campaign_id = 'grand' and converted = 1`.execute(context.database.handle.db);
+    // The split sums are weighted by a count of 40 units, not only by single contacts.
+    expect(Number(rows[0]?.units)).toBe(40);
     const fromContacts: Snapshot[] = [];
     const fromCounts: Snapshot[] = [];
     for (const definition of definitions) {
@@ -115,7 +132,11 @@ describe('the kept counts and the contacts', () => {
       byDialect.push(fromCounts);
     }
     for (const snapshots of byDialect.slice(1)) expect(snapshots.map(figures)).toEqual((byDialect[0] as Snapshot[]).map(figures));
-    const [both, springValue] = byDialect[0] as Snapshot[];
+    const [both, springValue, , grandValue] = byDialect[0] as Snapshot[];
+    const westbrook = grandValue?.segments.find((segment) => segment.segment === 'region=Westbrook');
+    expect(grandValue?.data_quality.arithmetic).toBe('exact');
+    // The 40 conversions at the cap are in the compared figures: their Σv² needs the split sums.
+    expect(westbrook?.conversions).toBeGreaterThanOrEqual(40);
     // Not an empty comparison: many segments, holdout figures, ages unknown, values per conversion.
     expect(both?.segments.length).toBeGreaterThan(100);
     expect(both?.segments.some((segment) => (segment.holdout_n ?? 0) > 0)).toBe(true);
