@@ -181,6 +181,26 @@ function plausibleAgeOfRow(row: Record<string, unknown>): number | null {
 }
 
 /**
+ * The rows of `query`; inside a transaction under a savepoint, rolled back when it fails.
+ * PostgreSQL aborts the whole transaction on an error, and the 64-bit query can overflow on a
+ * single row's product (u·v·v, in bigint): without the savepoint the split query could not
+ * follow it in the same read.
+ */
+async function undoneOnError(db: Executor, query: RawBuilder<Record<string, unknown>>): Promise<Array<Record<string, unknown>>> {
+  if (!db.isTransaction) return (await query.execute(db)).rows;
+  await sql`savepoint cell_query`.execute(db);
+  try {
+    const { rows } = await query.execute(db);
+    await sql`release savepoint cell_query`.execute(db);
+    return rows;
+  } catch (error) {
+    await sql`rollback to savepoint cell_query`.execute(db);
+    await sql`release savepoint cell_query`.execute(db);
+    throw error;
+  }
+}
+
+/**
  * The groups of the cell query (cells, age and converted) with exact money sums: the 64-bit
  * query when every sum it returns is exact, else the split query (`exactCellQuery`).
  * @throws whatever the database throws, other than an overflow
@@ -188,7 +208,7 @@ function plausibleAgeOfRow(row: Record<string, unknown>): number | null {
 async function cellGroups(db: Executor, request: AggregationRequest): Promise<GroupSums[]> {
   let rows: Array<Record<string, unknown>> | null;
   try {
-    rows = (await cellQuery(request).execute(db)).rows;
+    rows = await undoneOnError(db, cellQuery(request));
   } catch (error) {
     if (!isOverflow(error)) throw error;
     rows = null;
