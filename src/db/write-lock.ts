@@ -9,7 +9,8 @@
 import { sql, type Transaction } from 'kysely';
 import type { Database } from './tables.js';
 
-export type WriteLockMode = 'upload' | 'erasure';
+/** Uploads share the lock; an erasure and a rebuild of the contact value counts hold it alone. */
+export type WriteLockMode = 'upload' | 'erasure' | 'rebuild';
 
 /**
  * Takes the lock for the rest of the transaction `trx` (released at commit or rollback).
@@ -20,4 +21,18 @@ export async function takeWriteLock(trx: Transaction<Database>, sqlite: boolean,
   const key = sql`hashtext(${'segrank customer writes '} || current_schema())`;
   if (mode === 'upload') await sql`select pg_advisory_xact_lock_shared(${key})`.execute(trx);
   else await sql`select pg_advisory_xact_lock(${key})`.execute(trx);
+}
+
+/**
+ * On PostgreSQL, makes the writes of concurrent uploads to `contact_value_counts` take turns,
+ * from the first write of an upload's transaction to its commit (on SQLite the single writer
+ * already does). An upload writes its changes to the counts once, at its end, in one fixed key
+ * order, which alone would keep two uploads from deadlocking; but an upload whose pending changes
+ * grow past their limit writes them early too, and its later keys may then precede keys it
+ * already holds. Taking this lock first makes a deadlock between uploads impossible whatever
+ * their keys; it is held only for the upload's last writes unless the upload wrote early.
+ */
+export async function takeCellCountsLock(trx: Transaction<Database>, sqlite: boolean): Promise<void> {
+  if (sqlite) return;
+  await sql`select pg_advisory_xact_lock(hashtext(${'segrank contact value counts '} || current_schema()))`.execute(trx);
 }

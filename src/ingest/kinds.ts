@@ -2,6 +2,8 @@
  * The three kinds of upload. Each knows its key, its field checks, the checks that need stored
  * data, and how to write a batch: insert what is new, update what changed, count what did not.
  */
+import type { CellDeltas } from '../aggregates/cell-deltas.js';
+import { gatherContactsOfCustomers } from '../aggregates/customer-contacts.js';
 import type { Database, IngestKind } from '../db/tables.js';
 import { ageInYears } from './fields.js';
 import * as repository from './repository.js';
@@ -40,6 +42,11 @@ export interface BatchContext {
   ingestId: string;
   now: string;
   campaignId: string | null;
+  /**
+   * The upload's changes to `contact_value_counts`, gathered batch by batch while `write` holds
+   * and written by the upload (src/ingest/service.ts) in one key order.
+   */
+  cellDeltas: CellDeltas;
 }
 
 export interface UploadKind<Row> {
@@ -62,7 +69,7 @@ export const customersKind: UploadKind<CustomerRow> = {
   check: checkCustomerFields,
   key: (row) => row.customer_id,
   labels: (row) => [['region', row.region], ['channel', row.channel], ...row.attributes],
-  async applyBatch({ store, write, mayExist, ingestId, now }, pending) {
+  async applyBatch({ store, write, mayExist, ingestId, now, cellDeltas }, pending) {
     const outcome = emptyOutcome();
     const stored = mayExist ? await repository.findCustomers(store, pending.map((item) => item.row.customer_id)) : new Map<string, repository.StoredCustomer>();
     const birthDateMoves = pending.filter(({ row }) => {
@@ -119,7 +126,10 @@ export const customersKind: UploadKind<CustomerRow> = {
     if (write) {
       await repository.insertCustomers(store, inserts);
       await repository.insertCustomerAttributes(store, attributeInserts);
+      // The customers' contacts move between cells: counted out as stored, then in as refreshed.
+      await gatherContactsOfCustomers(store.trx, copiedValuesChanged, -1, cellDeltas);
       await repository.refreshContactCustomerValues(store.trx, copiedValuesChanged);
+      await gatherContactsOfCustomers(store.trx, copiedValuesChanged, 1, cellDeltas);
     }
     return outcome;
   },
@@ -163,7 +173,7 @@ export const contactsKind: UploadKind<ContactRow> = {
   keyColumn: 'customer_id',
   check: checkContactFields,
   key: (row) => row.customer_id,
-  async applyBatch({ store, write, mayExist, ingestId, campaignId }, pending) {
+  async applyBatch({ store, write, mayExist, ingestId, campaignId, cellDeltas }, pending) {
     if (campaignId === null) throw new Error('a contacts upload needs its campaign id');
     const outcome = emptyOutcome();
     const customerIds = pending.map((item) => item.row.customer_id);
@@ -200,10 +210,17 @@ export const contactsKind: UploadKind<ContactRow> = {
         outcome.unchanged += 1;
       } else {
         outcome.updated += 1;
-        if (write) await repository.updateContact(store, record);
+        if (write) {
+          await repository.updateContact(store, record);
+          cellDeltas.add(existing, -1);
+          cellDeltas.add(record, 1);
+        }
       }
     }
-    if (write) await repository.insertContacts(store, inserts);
+    if (write) {
+      await repository.insertContacts(store, inserts);
+      for (const insert of inserts) cellDeltas.add(insert, 1);
+    }
     return outcome;
   },
 };

@@ -14,6 +14,7 @@
  */
 import type SqliteDatabase from 'better-sqlite3';
 import { sql, type Transaction } from 'kysely';
+import { subtractContactsOfCustomers } from '../aggregates/customer-contacts.js';
 import type { Executor } from '../db/executor.js';
 import { prepared } from '../db/prepared.js';
 import type { CampaignContactsTable, CustomersTable, Database, IngestsTable, RejectedRowsTable, SalesTable } from '../db/tables.js';
@@ -458,6 +459,7 @@ export async function eraseCustomer(db: Executor, customerId: string): Promise<b
   // An id that names no customer touches nothing, not even rejected rows that mention it.
   const stored = await db.selectFrom('customers').select('customer_id').where('customer_id', '=', customerId).executeTakeFirst();
   if (stored === undefined) return false;
+  await subtractContactsOfCustomers(db, [customerId]);
   await db.deleteFrom('campaign_contacts').where('customer_id', '=', customerId).execute();
   await db.deleteFrom('sales').where('customer_id', '=', customerId).execute();
   await db.deleteFrom('customer_attributes').where('customer_id', '=', customerId).execute();

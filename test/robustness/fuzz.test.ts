@@ -43,12 +43,13 @@ interface UploadAttempt {
 const MAIN_TABLE: Record<Kind, string> = { customers: 'customers', sales: 'sales', contacts: 'campaign_contacts' };
 /**
  * Tables an accepted upload of each kind may change besides its main table, ingests and
- * rejected_rows. Customer attributes may also shrink: an empty cell clears a stored attribute.
+ * rejected_rows. Customer attributes may also shrink: an empty cell clears a stored attribute;
+ * the contact value counts follow the contacts (and customers whose contacts change cells).
  */
 const SIDE_TABLES: Record<Kind, Record<string, 'any' | 'zero or one'>> = {
-  customers: { customer_attributes: 'any' },
+  customers: { customer_attributes: 'any', contact_value_counts: 'any' },
   sales: {},
-  contacts: { campaigns: 'zero or one' },
+  contacts: { campaigns: 'zero or one', contact_value_counts: 'any' },
 };
 const COLUMNS: Record<Kind, readonly string[]> = {
   customers: ['customer_id', 'birth_date', 'region', 'channel', 'customer_type'],
