@@ -40,15 +40,16 @@ export interface CellAggregate {
 
 /**
  * The columns the cell query groups by. A campaign population is grouped by campaign, all
- * three customer columns and the stored age, in the order of `campaign_contacts_by_cell`, so
- * the database reads that index front to back without sorting; the finer groups are merged
- * into the requested cells in code. Attribute columns, when asked for, come last.
+ * three customer columns, the age as stored, the arm and the outcome: the order of
+ * `campaign_contacts_by_cell` and of contact_value_counts' key, so the database reads either
+ * front to back without sorting (the arm is grouped even when the source keeps one arm, since
+ * leaving it out would make the database sort). The finer groups are merged into the requested
+ * cells in code. Attribute columns, when asked for, come last.
  */
 function cellGroupColumns(request: AggregationRequest): string[] {
   const attributes = request.dimensions.filter((dimension) => !isBuiltInDimension(dimension)).map((_name, index) => attributeColumn(index));
-  const customerColumns =
-    request.source.kind === 'campaigns' ? ['campaign_key', ...CONTACT_CELL_COLUMNS] : CONTACT_CELL_COLUMNS.filter((column) => request.dimensions.includes(column));
-  return [...customerColumns, 'raw_age', 'converted', ...attributes];
+  if (request.source.kind === 'campaigns') return ['campaign_key', ...CONTACT_CELL_COLUMNS, 'age_key', 'holdout', 'converted', ...attributes];
+  return [...CONTACT_CELL_COLUMNS.filter((column) => request.dimensions.includes(column)), 'age_key', 'converted', ...attributes];
 }
 
 /**
@@ -177,7 +178,7 @@ interface GroupSums {
 }
 
 function plausibleAgeOfRow(row: Record<string, unknown>): number | null {
-  return plausibleAgeOf(row['raw_age'] === null || row['raw_age'] === undefined ? null : toNumber(row['raw_age']));
+  return plausibleAgeOf(row['age_key'] === null || row['age_key'] === undefined ? null : toNumber(row['age_key']));
 }
 
 /**

@@ -93,7 +93,9 @@ export const CONTACT_CELL_COLUMNS = ['region', 'channel', 'customer_type'] as co
 /**
  * The units of the population with the columns the reports need: units (how many units the
  * row stands for, 1 for a source read row by row), converted (0/1), holdout
- * (0/1: kept out of the campaign on purpose; always 0 in a sales report), value_cents, age (plausible or null), raw_age (as stored or computed, for grouping) and the
+ * (0/1: kept out of the campaign on purpose; always 0 in a sales report), value_cents, age (plausible or null), raw_age (as stored or computed, null when unknown),
+ * age_key (the age as the source stores it, for grouping in the order of its index: raw_age,
+ * except -1 for unknown in contact_value_counts; `plausibleAgeOf` reads either) and the
  * dimension columns. A campaign population reads the customer's values copied onto each
  * contact, so it never joins customers; it also offers campaign_key, and always all three
  * customer columns, so that its cells can be grouped in the order of its covering index.
@@ -123,6 +125,7 @@ export function basePopulation(source: PopulationSource, dimensions: readonly st
       sql`cvc.holdout as holdout`,
       sql`cvc.revenue_cents as value_cents`,
       sql`${storedAge} as raw_age`,
+      sql`cvc.age as age_key`,
       sql`${plausibleAge(storedAge)} as age`,
     );
     return sql`select ${sql.join(columns)}
@@ -140,6 +143,7 @@ export function basePopulation(source: PopulationSource, dimensions: readonly st
       sql`cc.holdout as holdout`,
       sql`cc.revenue_cents as value_cents`,
       sql`cc.age_at_contact as raw_age`,
+      sql`cc.age_at_contact as age_key`,
       sql`${plausibleAge(sql.ref('cc.age_at_contact'))} as age`,
     );
     return sql`select ${sql.join(columns)}
@@ -159,6 +163,7 @@ export function basePopulation(source: PopulationSource, dimensions: readonly st
     sql`0 as holdout`,
     sql`coalesce(s.spend, 0) as value_cents`,
     sql`${ageAtEnd} as raw_age`,
+    sql`${ageAtEnd} as age_key`,
     sql`${plausibleAge(ageAtEnd)} as age`,
   );
   return sql`select ${sql.join(columns)}
