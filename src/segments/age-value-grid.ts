@@ -4,7 +4,7 @@
  */
 import { sql, type RawBuilder } from 'kysely';
 import type { Executor } from '../db/executor.js';
-import { AGE, CONVERTED, VALUE, basePopulation, toNumber, type AggregationRequest } from './population.js';
+import { AGE, CONVERTED, UNITS, VALUE, basePopulation, toNumber, type AggregationRequest } from './population.js';
 
 /** Count of the value metric's units with one value (in cents), over the whole population. */
 export interface PopulationValueCount {
@@ -101,9 +101,9 @@ export async function valueCountsByAgeBin(
   const ageBin = ageAxis === null ? sql`cast(null as integer)` : sql`case when ${AGE} is null then null else ${binIndexSql(AGE, ageAxis)} end`;
   const perUnit = request.valueBasis === 'per_unit';
   const { rows } = await sql<Record<string, unknown>>`
-    select binned.converted as converted, binned.age_bin as age_bin, binned.value_cents as value_cents, count(*) as count
+    select binned.converted as converted, binned.age_bin as age_bin, binned.value_cents as value_cents, sum(binned.units) as count
     from (
-      select ${CONVERTED} as converted, ${ageBin} as age_bin, ${VALUE} as value_cents
+      select ${CONVERTED} as converted, ${ageBin} as age_bin, ${VALUE} as value_cents, ${UNITS} as units
       from (${basePopulation(request.source, [])}) population
       where ${CONVERTED} = 1 ${perUnit ? sql`or ${VALUE} <> 0` : sql``}
     ) binned

@@ -7,7 +7,7 @@
 import { sql, type RawBuilder } from 'kysely';
 import type { Executor } from '../db/executor.js';
 import { ageBandOf, isBuiltInDimension } from './dimensions.js';
-import { CONTACT_CELL_COLUMNS, VALUE, attributeColumn, basePopulation, plausibleAgeOf, toNumber, type AggregationRequest } from './population.js';
+import { CONTACT_CELL_COLUMNS, UNITS, VALUE, attributeColumn, basePopulation, plausibleAgeOf, toNumber, type AggregationRequest } from './population.js';
 import { exactTotals, shiftsFromTotals, type Arithmetic, type MoneySums, type PairedShiftedSums, type ShiftedSums, type Shifts } from './shifted-sums.js';
 import { compareLabelLists, compareText } from './text-order.js';
 
@@ -40,36 +40,41 @@ export interface CellAggregate {
 
 /**
  * The columns the cell query groups by. A campaign population is grouped by campaign, all
- * three customer columns and the stored age, in the order of `campaign_contacts_by_cell`, so
- * the database reads that index front to back without sorting; the finer groups are merged
- * into the requested cells in code. Attribute columns, when asked for, come last.
+ * three customer columns, the age as stored, the arm and the outcome: the order of
+ * `campaign_contacts_by_cell` and of contact_value_counts' key, so the database reads either
+ * front to back without sorting (the arm is grouped even when the source keeps one arm, since
+ * leaving it out would make the database sort). The finer groups are merged into the requested
+ * cells in code. Attribute columns, when asked for, come last.
  */
 function cellGroupColumns(request: AggregationRequest): string[] {
   const attributes = request.dimensions.filter((dimension) => !isBuiltInDimension(dimension)).map((_name, index) => attributeColumn(index));
-  const customerColumns =
-    request.source.kind === 'campaigns' ? ['campaign_key', ...CONTACT_CELL_COLUMNS] : CONTACT_CELL_COLUMNS.filter((column) => request.dimensions.includes(column));
-  return [...customerColumns, 'raw_age', 'converted', ...attributes];
+  if (request.source.kind === 'campaigns') return ['campaign_key', ...CONTACT_CELL_COLUMNS, 'age_key', 'holdout', 'converted', ...attributes];
+  return [...CONTACT_CELL_COLUMNS.filter((column) => request.dimensions.includes(column)), 'age_key', 'converted', ...attributes];
 }
 
 /**
  * Per group (converted is part of the key): n, Σv and Σv² in 64-bit integers, the fast and
- * usual way. A sum beyond 2^63 makes the database raise an overflow (SQLite "integer overflow",
+ * usual way, each row weighed by the units it stands for (n = Σ units, Σv = Σ units·v). A sum beyond 2^63 makes the database raise an overflow (SQLite "integer overflow",
  * PostgreSQL "bigint out of range"), or SQLite turns an overflowing product into a float; a sum
  * beyond 2^53 is not exact as a JavaScript number. Either way `exactCellQuery` runs instead.
  */
 function cellQuery(request: AggregationRequest): RawBuilder<Record<string, unknown>> {
   const groupColumns = cellGroupColumns(request).map((column) => sql.ref(`population.${column}`));
   return sql<Record<string, unknown>>`
-    select ${sql.join([...groupColumns, sql`count(*) as n`, sql`sum(${VALUE}) as value_sum`, sql`sum(${VALUE} * ${VALUE}) as value_squares`])}
+    select ${sql.join([...groupColumns, sql`sum(${UNITS}) as n`, sql`sum(${UNITS} * ${VALUE}) as value_sum`, sql`sum(${UNITS} * ${VALUE} * ${VALUE}) as value_squares`])}
     from (${basePopulation(request.source, request.dimensions)}) population
     group by ${sql.join(groupColumns)}`;
 }
 
 /**
  * Money in cents is split into four 16-bit parts v = Σ pᵢ·2^(16i) (cents are never negative, and
- * below 2^63), so that every product pᵢ·pⱼ is below 2^32 and its sum over up to 2^31 units of one
- * group stays inside a 64-bit integer on both engines; the sums come back as text and are put
- * together exactly in BigInt (`moneySumsOfExactRow`). The same SQL runs on SQLite and PostgreSQL.
+ * below 2^63), so that every product pᵢ·pⱼ is below 2^32. Weighed by the row's units u, the sums
+ * are Σ u·pᵢ < U·2^16 and Σ u·pᵢ·pⱼ < U·2^32, where U is the units of the whole group, and each
+ * row's term u·pᵢ·pⱼ (evaluated left to right, so (u·pᵢ)·pⱼ, whose partial product is smaller
+ * still) is at most its group's sum: while a group stands for fewer than 2^31 units every term
+ * and every sum stays inside a 64-bit integer on both engines, whether its rows are single
+ * units or kept counts. The sums come back as text and are put together exactly in BigInt
+ * (`moneySumsOfExactRow`). The same SQL runs on SQLite and PostgreSQL.
  */
 const PART_BITS = 16;
 const PARTS = 4;
@@ -82,10 +87,12 @@ function valuePart(index: number): RawBuilder<unknown> {
 
 function exactCellQuery(request: AggregationRequest): RawBuilder<Record<string, unknown>> {
   const groupColumns = cellGroupColumns(request).map((column) => sql.ref(`population.${column}`));
-  const partSums = Array.from({ length: PARTS }, (_unused, index) => sql`cast(sum(${valuePart(index)}) as text) as ${sql.ref(`p${index}`)}`);
-  const productSums = PART_PAIRS.map(([first, second]) => sql`cast(sum(${valuePart(first)} * ${valuePart(second)}) as text) as ${sql.ref(`q${first}${second}`)}`);
+  const partSums = Array.from({ length: PARTS }, (_unused, index) => sql`cast(sum(${UNITS} * ${valuePart(index)}) as text) as ${sql.ref(`p${index}`)}`);
+  const productSums = PART_PAIRS.map(
+    ([first, second]) => sql`cast(sum(${UNITS} * ${valuePart(first)} * ${valuePart(second)}) as text) as ${sql.ref(`q${first}${second}`)}`,
+  );
   return sql<Record<string, unknown>>`
-    select ${sql.join([...groupColumns, sql`count(*) as n`, ...partSums, ...productSums])}
+    select ${sql.join([...groupColumns, sql`sum(${UNITS}) as n`, ...partSums, ...productSums])}
     from (${basePopulation(request.source, request.dimensions)}) population
     group by ${sql.join(groupColumns)}`;
 }
@@ -171,7 +178,27 @@ interface GroupSums {
 }
 
 function plausibleAgeOfRow(row: Record<string, unknown>): number | null {
-  return plausibleAgeOf(row['raw_age'] === null || row['raw_age'] === undefined ? null : toNumber(row['raw_age']));
+  return plausibleAgeOf(row['age_key'] === null || row['age_key'] === undefined ? null : toNumber(row['age_key']));
+}
+
+/**
+ * The rows of `query`; inside a transaction under a savepoint, rolled back when it fails.
+ * PostgreSQL aborts the whole transaction on an error, and the 64-bit query can overflow on a
+ * single row's product (u·v·v, in bigint): without the savepoint the split query could not
+ * follow it in the same read.
+ */
+async function undoneOnError(db: Executor, query: RawBuilder<Record<string, unknown>>): Promise<Array<Record<string, unknown>>> {
+  if (!db.isTransaction) return (await query.execute(db)).rows;
+  await sql`savepoint cell_query`.execute(db);
+  try {
+    const { rows } = await query.execute(db);
+    await sql`release savepoint cell_query`.execute(db);
+    return rows;
+  } catch (error) {
+    await sql`rollback to savepoint cell_query`.execute(db);
+    await sql`release savepoint cell_query`.execute(db);
+    throw error;
+  }
 }
 
 /**
@@ -182,7 +209,7 @@ function plausibleAgeOfRow(row: Record<string, unknown>): number | null {
 async function cellGroups(db: Executor, request: AggregationRequest): Promise<GroupSums[]> {
   let rows: Array<Record<string, unknown>> | null;
   try {
-    rows = (await cellQuery(request).execute(db)).rows;
+    rows = await undoneOnError(db, cellQuery(request));
   } catch (error) {
     if (!isOverflow(error)) throw error;
     rows = null;

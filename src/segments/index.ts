@@ -24,8 +24,8 @@ export { BUILT_IN_DIMENSIONS, MAX_PLAUSIBLE_AGE, MIN_PLAUSIBLE_AGE, UNKNOWN, age
 
 export { labelCountBounds, labelCounts } from './label-counts.js';
 
-export { holdoutContacts, populationTotals } from './population.js';
-export type { AggregationRequest, PopulationSource } from './population.js';
+export { campaignPopulationTable, holdoutContacts, populationTotals } from './population.js';
+export type { AggregationRequest, CampaignPopulationTable, PopulationSource } from './population.js';
 
 export { cellStats, groupBy, rollUp, subtractGroup } from './rollup.js';
 export type { Group, GroupStats } from './rollup.js';

@@ -21,11 +21,34 @@ import type { PopulationTotals } from './shifted-sums.js';
  */
 /**
  * A campaign population may be narrowed to one arm: the contacted customers or the holdout
- * (kept out on purpose); absent, it holds both, as it did before holdouts existed.
+ * (kept out on purpose); absent, it holds both, as it did before holdouts existed. It is read
+ * from `table` (`campaignPopulationTable` chooses; absent: the contacts themselves).
  */
 export type PopulationSource =
-  | { kind: 'campaigns'; campaignIds: string[]; arm?: 'contacted' | 'holdout' }
+  | { kind: 'campaigns'; campaignIds: string[]; arm?: 'contacted' | 'holdout'; table?: CampaignPopulationTable }
   | { kind: 'sales'; from: string; to: string; knownAt?: string };
+
+/**
+ * Where a campaign population's units are read: every contact (`campaign_contacts`), or the
+ * contacts kept as counts per cell, age, arm, outcome and revenue (`contact_value_counts`,
+ * maintained with the contacts in the upload's transaction, so both give the same figures).
+ */
+export type CampaignPopulationTable = 'campaign_contacts' | 'contact_value_counts';
+
+/**
+ * The one choice of the rows a report reads. A campaign report whose dimensions are all built
+ * in (age band, region, channel, customer type) reads `contact_value_counts`: every column it
+ * groups or sums is a column of that table, whose rows are far fewer than the contacts (the
+ * unconverted contacts of a cell and age are one row). A campaign report on an extra attribute
+ * reads the contacts: the attribute is joined per customer (customer_attributes), and counts
+ * kept per attribute label would multiply the table's rows by the labels of every attribute
+ * uploaded. A sales report is not a campaign population at all and always reads its rows: its
+ * unit is a customer whose spend is summed over a window the report chooses, which no count
+ * kept in advance can hold without a row per customer.
+ */
+export function campaignPopulationTable(dimensions: readonly string[]): CampaignPopulationTable {
+  return dimensions.every(isBuiltInDimension) ? 'contact_value_counts' : 'campaign_contacts';
+}
 
 export interface AggregationRequest {
   source: PopulationSource;
@@ -38,6 +61,11 @@ export interface AggregationRequest {
 export const VALUE = sql.ref('population.value_cents');
 export const AGE = sql.ref('population.age');
 export const CONVERTED = sql.ref('population.converted');
+/**
+ * How many units a row of the population stands for: 1 for a source read row by row, more for
+ * a source kept as counts. Every aggregate weighs by it: count(*) is Σ units, Σv is Σ units·v.
+ */
+export const UNITS = sql.ref('population.units');
 
 export function dimensionColumn(index: number): string {
   return `d${index}`;
@@ -63,8 +91,11 @@ function plausibleAge(age: RawBuilder<unknown>): RawBuilder<number | null> {
 export const CONTACT_CELL_COLUMNS = ['region', 'channel', 'customer_type'] as const;
 
 /**
- * The units of the population with the columns the reports need: converted (0/1), holdout
- * (0/1: kept out of the campaign on purpose; always 0 in a sales report), value_cents, age (plausible or null), raw_age (as stored or computed, for grouping) and the
+ * The units of the population with the columns the reports need: units (how many units the
+ * row stands for, 1 for a source read row by row), converted (0/1), holdout
+ * (0/1: kept out of the campaign on purpose; always 0 in a sales report), value_cents, age (plausible or null), raw_age (as stored or computed, null when unknown),
+ * age_key (the age as the source stores it, for grouping in the order of its index: raw_age,
+ * except -1 for unknown in contact_value_counts; `plausibleAgeOf` reads either) and the
  * dimension columns. A campaign population reads the customer's values copied onto each
  * contact, so it never joins customers; it also offers campaign_key, and always all three
  * customer columns, so that its cells can be grouped in the order of its covering index.
@@ -82,14 +113,37 @@ export function basePopulation(source: PopulationSource, dimensions: readonly st
       sql`left join customer_attributes ${sql.ref(`a${index}`)} on ${sql.ref(`a${index}.customer_id`)} = ${customerKey} and ${sql.ref(`a${index}.name`)} = ${name}`,
   );
 
+  if (source.kind === 'campaigns' && source.table === 'contact_value_counts') {
+    if (attributeNames.length > 0) throw new Error(`contact_value_counts holds no extra attribute (${attributeNames.join(', ')}): such a report reads campaign_contacts`);
+    // The table keeps an unknown age as -1 (a key column cannot be NULL); the population has it as null.
+    const storedAge = sql`nullif(cvc.age, -1)`;
+    for (const column of CONTACT_CELL_COLUMNS) columns.push(sql`${sql.ref(`cvc.${column}`)} as ${sql.ref(column)}`);
+    columns.push(
+      sql`cvc.units as units`,
+      sql`cvc.campaign_id as campaign_key`,
+      sql`cvc.converted as converted`,
+      sql`cvc.holdout as holdout`,
+      sql`cvc.revenue_cents as value_cents`,
+      sql`${storedAge} as raw_age`,
+      sql`cvc.age as age_key`,
+      sql`${plausibleAge(storedAge)} as age`,
+    );
+    return sql`select ${sql.join(columns)}
+      from contact_value_counts cvc
+      where cvc.campaign_id in (${sql.join(source.campaignIds)})
+      ${source.arm === undefined ? sql`` : sql`and cvc.holdout = ${source.arm === 'holdout' ? 1 : 0}`}`;
+  }
+
   if (source.kind === 'campaigns') {
     for (const column of CONTACT_CELL_COLUMNS) columns.push(sql`${sql.ref(`cc.${column}`)} as ${sql.ref(column)}`);
     columns.push(
+      sql`1 as units`,
       sql`cc.campaign_id as campaign_key`,
       sql`cc.converted as converted`,
       sql`cc.holdout as holdout`,
       sql`cc.revenue_cents as value_cents`,
       sql`cc.age_at_contact as raw_age`,
+      sql`cc.age_at_contact as age_key`,
       sql`${plausibleAge(sql.ref('cc.age_at_contact'))} as age`,
     );
     return sql`select ${sql.join(columns)}
@@ -103,11 +157,13 @@ export function basePopulation(source: PopulationSource, dimensions: readonly st
   for (const column of CONTACT_CELL_COLUMNS) if (dimensions.includes(column)) columns.push(sql`${sql.ref(`cu.${column}`)} as ${sql.ref(column)}`);
   const ageAtEnd = ageAtDateSql(sql.ref('cu.birth_date'), source.to);
   columns.push(
+    sql`1 as units`,
     sql`case when s.spend is null then 0 else 1 end as converted`,
     // A sales report has no campaign, so no one was held out of it.
     sql`0 as holdout`,
     sql`coalesce(s.spend, 0) as value_cents`,
     sql`${ageAtEnd} as raw_age`,
+    sql`${ageAtEnd} as age_key`,
     sql`${plausibleAge(ageAtEnd)} as age`,
   );
   return sql`select ${sql.join(columns)}
@@ -138,7 +194,7 @@ function ageBandSql(age: RawBuilder<unknown>, edges: readonly number[]): RawBuil
 
 /**
  * The population as a derived table `population` with columns d0…dk (one per dimension, the
- * age band computed in SQL), converted, holdout, value_cents, age and raw_age.
+ * age band computed in SQL), units, converted, holdout, value_cents, age and raw_age.
  */
 export function population(request: Pick<AggregationRequest, 'source' | 'dimensions' | 'ageEdges'>): RawBuilder<unknown> {
   let attributeIndex = 0;
@@ -149,7 +205,7 @@ export function population(request: Pick<AggregationRequest, 'source' | 'dimensi
     else expression = sql.ref(`base.${attributeColumn(attributeIndex++)}`);
     return sql`${expression} as ${sql.ref(dimensionColumn(index))}`;
   });
-  return sql`(select ${sql.join([...dimensionColumns, sql`base.converted as converted`, sql`base.holdout as holdout`, sql`base.value_cents as value_cents`, sql`base.age as age`, sql`base.raw_age as raw_age`])}
+  return sql`(select ${sql.join([...dimensionColumns, sql`base.units as units`, sql`base.converted as converted`, sql`base.holdout as holdout`, sql`base.value_cents as value_cents`, sql`base.age as age`, sql`base.raw_age as raw_age`])}
     from (${basePopulation(request.source, request.dimensions)}) base) population`;
 }
 
@@ -166,12 +222,12 @@ export function toNumber(value: unknown): number {
  */
 export async function populationTotals(db: Executor, source: PopulationSource): Promise<PopulationTotals> {
   const { rows } = await sql<Record<string, unknown>>`
-    select count(*) as n,
-      sum(${CONVERTED}) as conversions,
-      sum(${VALUE}) as value_cents,
-      sum(case when ${CONVERTED} = 1 then ${VALUE} else 0 end) as converted_value_cents,
-      count(${AGE}) as aged_units,
-      sum(${AGE}) as age_total
+    select sum(${UNITS}) as n,
+      sum(${UNITS} * ${CONVERTED}) as conversions,
+      sum(${UNITS} * ${VALUE}) as value_cents,
+      sum(case when ${CONVERTED} = 1 then ${UNITS} * ${VALUE} else 0 end) as converted_value_cents,
+      sum(case when ${AGE} is null then 0 else ${UNITS} end) as aged_units,
+      sum(${UNITS} * ${AGE}) as age_total
     from (${basePopulation(source, [])}) population`.execute(db);
   const row = rows[0] ?? {};
   return {
@@ -184,13 +240,16 @@ export async function populationTotals(db: Executor, source: PopulationSource): 
   };
 }
 
+/** A campaign population: the source of a campaign report. */
+type CampaignSource = Extract<PopulationSource, { kind: 'campaigns' }>;
+
 /**
  * How many holdout contacts the campaigns hold: a campaign report splits its arms only when
- * there are some.
+ * there are some. Read from the report's own source, weighted like every other count of it.
  */
-export async function holdoutContacts(db: Executor, campaignIds: readonly string[]): Promise<number> {
-  if (campaignIds.length === 0) return 0;
+export async function holdoutContacts(db: Executor, source: CampaignSource): Promise<number> {
+  if (source.campaignIds.length === 0) return 0;
   const { rows } = await sql<Record<string, unknown>>`
-    select count(*) as n from campaign_contacts where campaign_id in (${sql.join(campaignIds)}) and holdout = 1`.execute(db);
+    select sum(${UNITS}) as n from (${basePopulation({ ...source, arm: 'holdout' }, [])}) population`.execute(db);
   return toNumber(rows[0]?.['n']);
 }

@@ -6,7 +6,7 @@ import { sql, type RawBuilder } from 'kysely';
 import type { Executor } from '../db/executor.js';
 import type { CellAggregate } from './cells.js';
 import { MAX_PLAUSIBLE_AGE, MIN_PLAUSIBLE_AGE, UNKNOWN, ageBands } from './dimensions.js';
-import { CONVERTED, VALUE, dimensionColumn, population, toNumber, type AggregationRequest } from './population.js';
+import { CONVERTED, UNITS, VALUE, dimensionColumn, population, toNumber, type AggregationRequest } from './population.js';
 
 /**
  * Units in the named age bands, tested on the stored age itself rather than on the band label
@@ -58,7 +58,7 @@ export async function valueDistribution(
     conditions.push(sql`(${sql.join(inScope, sql` or `)})`);
   }
   const { rows } = await sql<Record<string, unknown>>`
-    select ${sql.join([...dimensions, sql`${CONVERTED} as converted`, sql`${VALUE} as value_cents`, sql`count(*) as count`])}
+    select ${sql.join([...dimensions, sql`${CONVERTED} as converted`, sql`${VALUE} as value_cents`, sql`sum(${UNITS}) as count`])}
     from ${population(request)}
     ${conditions.length > 0 ? sql`where ${sql.join(conditions, sql` and `)}` : sql``}
     group by ${sql.join([...dimensions, CONVERTED, VALUE])}`.execute(db);

@@ -10,6 +10,7 @@ import type { Executor } from '../../db/executor.js';
 import { YIELD_AFTER_EACH_QUERY } from '../../db/yield-after-query.js';
 import type { Logger } from '../../logger.js';
 import {
+  campaignPopulationTable,
   explainOverflow,
   gridCountsOf,
   holdoutContacts,
@@ -179,9 +180,12 @@ function precedingWindow(from: string, to: string): { from: string; to: string }
   return { from: addDays(from, -days), to: addDays(from, -1) };
 }
 
+/** The report's population, read from the table `campaignPopulationTable` chooses for its dimensions. */
 function populationSource(definition: ReportDefinition): PopulationSource {
   const source = definition.source;
-  return 'campaign_ids' in source ? { kind: 'campaigns', campaignIds: source.campaign_ids } : { kind: 'sales', from: source.sales_from, to: source.sales_to };
+  return 'campaign_ids' in source
+    ? { kind: 'campaigns', campaignIds: source.campaign_ids, table: campaignPopulationTable(definition.dimensions) }
+    : { kind: 'sales', from: source.sales_from, to: source.sales_to };
 }
 
 /**
@@ -255,7 +259,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   deps.logger.info({ reportId, trigger }, 'refresh started');
   let source = populationSource(definition);
   // With holdout customers, every figure but the holdout's describes the contacted ones.
-  const withHoldout = source.kind === 'campaigns' && (await holdoutContacts(deps.readDb, source.campaignIds)) > 0;
+  const withHoldout = source.kind === 'campaigns' && (await holdoutContacts(deps.readDb, source)) > 0;
   if (withHoldout && source.kind === 'campaigns') source = { ...source, arm: 'contacted' };
   const request: AggregationRequest = { source, dimensions: definition.dimensions, ageEdges: definition.age_bands, valueBasis: definition.value_basis };
 
