@@ -109,7 +109,11 @@ async function openPostgres(connectionString: string, schema: string, log: ((eve
     const setup = new pg.Client({ connectionString });
     await setup.connect();
     try {
-      await setup.query(`create schema if not exists "${schema}"`);
+      await setup.query(`create schema if not exists "${schema}"`).catch((error: unknown) => {
+        // Another instance starting at the same moment created it (unique_violation, duplicate_schema).
+        const code = (error as { code?: unknown }).code;
+        if (code !== '23505' && code !== '42P06') throw error;
+      });
     } finally {
       await setup.end();
     }

@@ -36,14 +36,21 @@ const VANISHED_OBJECT_CODES = new Set(['3F000', '42P01', '42703']);
  * Whether a migration attempt failed only because another schema on the same PostgreSQL server
  * was dropped meanwhile: the migrator looks for its own tables through kysely's introspection,
  * which reads every schema, and an object dropped during that read is reported missing. The
- * attempt is repeated only when no migration had started, so nothing is applied twice.
+ * attempt is repeated only when no migration had started, so nothing is applied twice. The
+ * same holds when another process migrating the same new schema created the migrator's tables
+ * at the same moment (two instances starting together); the next attempt waits on its lock.
  */
 function failedOnAnotherSchema(error: unknown, results: MigrationResults, settings: DatabaseSettings): boolean {
   if (settings.dialect !== 'postgres' || !(error instanceof Error)) return false;
   const code = (error as Error & { code?: unknown }).code;
   const noMigrationStarted = (results ?? []).every((result) => result.status === 'NotExecuted');
-  return typeof code === 'string' && VANISHED_OBJECT_CODES.has(code) && noMigrationStarted && !error.message.includes(`"${settings.schema}"`);
+  if (typeof code !== 'string' || !noMigrationStarted) return false;
+  return (VANISHED_OBJECT_CODES.has(code) && !error.message.includes(`"${settings.schema}"`)) || CREATED_MEANWHILE_CODES.has(code);
 }
+
+// unique_violation, duplicate_table: what CREATE TABLE IF NOT EXISTS of the migrator's own tables
+// reports when another process starting on the same new schema creates them at the same moment.
+const CREATED_MEANWHILE_CODES = new Set(['23505', '42P07']);
 
 // A busy server (many schemas made and dropped, as by parallel test suites) can fail several reads in a row.
 const MIGRATION_ATTEMPTS = 8;

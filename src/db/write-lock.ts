@@ -1,6 +1,8 @@
 /**
  * Serialises erasure with uploads, so that nothing of an erased customer is stored after the
- * erasure answers. On SQLite every write transaction already runs on the one writer connection,
+ * erasure answers, and customer changes with uploads of contacts, so that a contact is never
+ * stored with a customer's old region while the customer's change moves the others (and the
+ * contact value counts follow every move). On SQLite every write transaction already runs on the one writer connection,
  * one after another. On PostgreSQL each upload transaction takes a shared advisory lock and an
  * erasure the exclusive one: uploads still run side by side, an erasure waits for the uploads in
  * flight to commit (and then removes what they stored) and uploads that start later wait for it.
@@ -9,8 +11,11 @@
 import { sql, type Transaction } from 'kysely';
 import type { Database } from './tables.js';
 
-/** Uploads share the lock; an erasure and a rebuild of the contact value counts hold it alone. */
-export type WriteLockMode = 'upload' | 'erasure' | 'rebuild';
+/**
+ * Uploads of contacts and sales share the lock; a customers upload (it may move contacts between
+ * cells), an erasure and a rebuild of the contact value counts hold it alone.
+ */
+export type WriteLockMode = 'upload' | 'customers' | 'erasure' | 'rebuild';
 
 /**
  * Takes the lock for the rest of the transaction `trx` (released at commit or rollback).

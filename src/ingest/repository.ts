@@ -378,7 +378,10 @@ export async function findContacts(store: UploadStore, campaignId: string, custo
     return found;
   }
   for (const part of chunk(customerIds, 1000)) {
-    const rows = await store.trx.selectFrom('campaign_contacts').selectAll().where('campaign_id', '=', campaignId).where('customer_id', 'in', part).execute();
+    // Locked until the upload commits: another upload changing the same contacts at the same
+    // time waits, then reads what this one wrote, so each counts its change from the stored row
+    // it replaces (the contact value counts would otherwise lose or double a change).
+    const rows = await store.trx.selectFrom('campaign_contacts').selectAll().where('campaign_id', '=', campaignId).where('customer_id', 'in', part).forUpdate().execute();
     for (const row of rows) found.set(row.customer_id, row);
   }
   return found;

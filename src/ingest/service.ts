@@ -163,7 +163,10 @@ async function storeUpload(deps: IngestDependencies, request: UploadRequest, spo
     .transaction()
     .execute(async (trx) => {
     const store: repository.UploadStore = { trx, sqlite: sqliteConnectionOf(deps.db) };
-    await takeWriteLock(trx, store.sqlite !== null, 'upload');
+    // A customers upload may move stored contacts between cells (their copied region, channel,
+    // type and age), which an upload of contacts for the same customers at the same time would
+    // count in the old cells: on PostgreSQL it runs alone, as an erasure does.
+    await takeWriteLock(trx, store.sqlite !== null, request.kind === 'customers' ? 'customers' : 'upload');
     log.debug('upload writing');
     if (request.campaignId !== null) await repository.ensureCampaign(trx, request.campaignId, receivedAt);
     const batchRows = store.sqlite === null ? BATCH_ROWS.postgres : BATCH_ROWS.sqlite;
