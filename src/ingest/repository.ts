@@ -11,6 +11,13 @@
  * to 1.6 s of SQLite actually running them; and inside a transaction a point lookup through a
  * prepared statement costs about 1.2 µs, half the cost per key of an `in (…)` list. Both
  * spellings of each statement sit side by side below and write the same columns.
+ *
+ * On PostgreSQL both the inserts and the look-ups pass each column or key list as ONE array
+ * parameter (`unnest`, `= any`), so a batch is one short statement to parse and plan. What is
+ * left of a contacts upload there is the server's own work per row: a trace of an upload of
+ * 100,000 contacts spent about three quarters of its time inside the inserts (three B-tree
+ * indexes with text keys and two foreign-key checks per row; the same INSERT … SELECT run in
+ * psql costs as much), which no spelling of the statement removes.
  */
 import type SqliteDatabase from 'better-sqlite3';
 import { sql, type Transaction } from 'kysely';
@@ -31,6 +38,18 @@ function chunk<T>(items: readonly T[], size: number): T[][] {
   for (let start = 0; start < items.length; start += size) chunks.push(items.slice(start, start + size));
   return chunks;
 }
+
+/**
+ * `column = any($1)` with the keys as one text-array parameter: one statement per batch whatever
+ * its size, planned once. An `in (…)` list of 1,000 parameters cost PostgreSQL about 8 ms a
+ * statement here to bind and plan (measured on a 100,000-contact upload: 100 look-ups, 0.8 s).
+ */
+function isAnyOf(column: string, keys: readonly string[]) {
+  return sql<boolean>`${sql.ref(column)} = any(cast(${keys} as text[]))`;
+}
+
+/** Keys per array look-up on PostgreSQL: the batch of an upload (2,000 rows) in one statement. */
+const KEYS_PER_ARRAY_LOOKUP = 5_000;
 
 /** Inserts rows that all have the same columns, which the first row's keys name. */
 async function insertMany<T extends keyof Database>(store: UploadStore, table: T, rows: Array<Database[T]>): Promise<void> {
@@ -178,14 +197,14 @@ export async function findCustomers(store: UploadStore, ids: readonly string[]):
     return found;
   }
   const db = store.trx;
-  for (const part of chunk(ids, 1000)) {
+  for (const part of chunk(ids, KEYS_PER_ARRAY_LOOKUP)) {
     const rows = await db
       .selectFrom('customers')
       .select(['customer_id', 'birth_date', 'region', 'channel', 'customer_type'])
-      .where('customer_id', 'in', part)
+      .where(isAnyOf('customer_id', part))
       .execute();
     for (const row of rows) found.set(row.customer_id, { ...row, attributes: new Map() });
-    const attributes = await db.selectFrom('customer_attributes').select(['customer_id', 'name', 'value']).where('customer_id', 'in', part).execute();
+    const attributes = await db.selectFrom('customer_attributes').select(['customer_id', 'name', 'value']).where(isAnyOf('customer_id', part)).execute();
     for (const attribute of attributes) found.get(attribute.customer_id)?.attributes.set(attribute.name, attribute.value);
   }
   return found;
@@ -203,8 +222,8 @@ export async function findBirthDates(store: UploadStore, ids: readonly string[])
     }
     return found;
   }
-  for (const part of chunk(ids, 1000)) {
-    const rows = await store.trx.selectFrom('customers').select(['customer_id', 'birth_date']).where('customer_id', 'in', part).execute();
+  for (const part of chunk(ids, KEYS_PER_ARRAY_LOOKUP)) {
+    const rows = await store.trx.selectFrom('customers').select(['customer_id', 'birth_date']).where(isAnyOf('customer_id', part)).execute();
     for (const row of rows) found.set(row.customer_id, row.birth_date);
   }
   return found;
@@ -232,8 +251,8 @@ export async function findContactCustomers(store: UploadStore, ids: readonly str
     }
     return found;
   }
-  for (const part of chunk(ids, 1000)) {
-    const rows = await store.trx.selectFrom('customers').select(['customer_id', 'birth_date', 'region', 'channel', 'customer_type']).where('customer_id', 'in', part).execute();
+  for (const part of chunk(ids, KEYS_PER_ARRAY_LOOKUP)) {
+    const rows = await store.trx.selectFrom('customers').select(['customer_id', 'birth_date', 'region', 'channel', 'customer_type']).where(isAnyOf('customer_id', part)).execute();
     for (const { customer_id: customerId, ...row } of rows) found.set(customerId, row);
   }
   return found;
@@ -337,8 +356,8 @@ export async function findSales(store: UploadStore, ids: readonly string[]): Pro
     }
     return found;
   }
-  for (const part of chunk(ids, 1000)) {
-    const rows = await store.trx.selectFrom('sales').selectAll().where('sale_id', 'in', part).execute();
+  for (const part of chunk(ids, KEYS_PER_ARRAY_LOOKUP)) {
+    const rows = await store.trx.selectFrom('sales').selectAll().where(isAnyOf('sale_id', part)).execute();
     for (const row of rows) found.set(row.sale_id, row);
   }
   return found;
@@ -376,8 +395,8 @@ export async function findContacts(store: UploadStore, campaignId: string, custo
     }
     return found;
   }
-  for (const part of chunk(customerIds, 1000)) {
-    const rows = await store.trx.selectFrom('campaign_contacts').selectAll().where('campaign_id', '=', campaignId).where('customer_id', 'in', part).execute();
+  for (const part of chunk(customerIds, KEYS_PER_ARRAY_LOOKUP)) {
+    const rows = await store.trx.selectFrom('campaign_contacts').selectAll().where('campaign_id', '=', campaignId).where(isAnyOf('customer_id', part)).execute();
     for (const row of rows) found.set(row.customer_id, row);
   }
   return found;
