@@ -69,7 +69,6 @@ async function insertMany<T extends keyof Database>(store: UploadStore, table: T
   // One array parameter per column, unnested into rows by the server: with one parameter per
   // value, PostgreSQL spent most of a contacts upload binding and planning statements of tens of
   // thousands of parameters.
-  await settleWrites(store.trx);
   const types = await columnTypes(store.trx, table);
   for (const part of chunk(rows as unknown as Array<Record<string, unknown>>, ROWS_PER_ARRAY_INSERT)) {
     const arrays = columns.map((column) => {
@@ -77,48 +76,8 @@ async function insertMany<T extends keyof Database>(store: UploadStore, table: T
       if (type === undefined) throw new Error(`${table} has no column ${column}`);
       return sql`cast(${part.map((row) => row[column] ?? null)} as ${sql.raw(`${type}[]`)})`;
     });
-    await settleWrites(store.trx);
-    startWrite(store.trx, sql`insert into ${sql.table(table)} (${sql.join(columns.map((column) => sql.ref(column)))}) select * from unnest(${sql.join(arrays)})`.execute(store.trx));
+    await sql`insert into ${sql.table(table)} (${sql.join(columns.map((column) => sql.ref(column)))}) select * from unnest(${sql.join(arrays)})`.execute(store.trx);
   }
-}
-
-/**
- * PostgreSQL inserts still running, per upload transaction. An insert is sent and left to run
- * while the upload parses and checks its next batch (the server works on the rows while the
- * service reads the next ones); the next statement of the ingest path waits for it first and
- * throws its error, if it failed, before running anything else, and `finishWrites` does the
- * same before the upload commits. The connection runs statements in the order they were sent,
- * so nothing can read around an insert in flight. The failure is kept as a value, not a
- * rejected promise, so a transaction that fails on something else first (and rolls back)
- * leaves no unhandled rejection behind.
- */
-const writesInFlight = new WeakMap<Executor, Promise<unknown>>();
-
-function startWrite(db: Executor, write: Promise<unknown>): void {
-  writesInFlight.set(
-    db,
-    write.then(
-      () => undefined,
-      (error: unknown) => error ?? new Error('an insert failed without an error'),
-    ),
-  );
-}
-
-async function settleWrites(db: Executor): Promise<void> {
-  const inFlight = writesInFlight.get(db);
-  if (inFlight === undefined) return;
-  writesInFlight.delete(db);
-  const error = await inFlight;
-  if (error !== undefined) throw error;
-}
-
-/**
- * Waits for the upload's inserts still running and throws the first failure: call before the
- * upload's transaction commits (a failed statement turns PostgreSQL's COMMIT into a silent
- * ROLLBACK). Nothing to wait for on SQLite, whose statements run synchronously.
- */
-export async function finishWrites(store: UploadStore): Promise<void> {
-  await settleWrites(store.trx);
 }
 
 const ROWS_PER_ARRAY_INSERT = 5_000;
@@ -153,7 +112,6 @@ function updateText(table: keyof Database, changedColumns: readonly string[], ke
  * @example await hasStoredRows(trx, 'contacts', 'spring-mailing') // → false for a new campaign
  */
 export async function hasStoredRows(db: Executor, kind: 'customers' | 'sales' | 'contacts', campaignId: string | null): Promise<boolean> {
-  await settleWrites(db);
   switch (kind) {
     case 'customers':
       return (await db.selectFrom('customers').select('customer_id').limit(1).executeTakeFirst()) !== undefined;
@@ -227,7 +185,6 @@ export interface StoredCustomer {
 }
 
 export async function findCustomers(store: UploadStore, ids: readonly string[]): Promise<Map<string, StoredCustomer>> {
-  await settleWrites(store.trx);
   const found = new Map<string, StoredCustomer>();
   if (ids.length === 0) return found;
   if (store.sqlite !== null) {
@@ -255,7 +212,6 @@ export async function findCustomers(store: UploadStore, ids: readonly string[]):
 
 /** Birth dates of the known customers among `ids` (null birth date = known, age unknown). */
 export async function findBirthDates(store: UploadStore, ids: readonly string[]): Promise<Map<string, string | null>> {
-  await settleWrites(store.trx);
   const found = new Map<string, string | null>();
   if (store.sqlite !== null) {
     // A missing customer gives undefined; a known one without a birth date gives null.
@@ -280,7 +236,6 @@ export type ContactCustomer = Pick<CustomersTable, 'birth_date' | 'region' | 'ch
 
 /** The values of the known customers among `ids` that their contacts copy. */
 export async function findContactCustomers(store: UploadStore, ids: readonly string[]): Promise<Map<string, ContactCustomer>> {
-  await settleWrites(store.trx);
   const found = new Map<string, ContactCustomer>();
   if (store.sqlite !== null) {
     // A hundred keys per statement: half the time of one lookup per key (measured over 200,000).
@@ -309,7 +264,6 @@ export async function insertCustomers(store: UploadStore, rows: CustomersTable[]
 
 /** Writes every field of the customer but its key and creation time. */
 export async function updateCustomer(store: UploadStore, row: CustomersTable): Promise<void> {
-  await settleWrites(store.trx);
   const { customer_id, created_at: _createdAt, ...changes } = row;
   if (store.sqlite !== null) {
     prepared(store.sqlite, updateText('customers', Object.keys(changes), ['customer_id'])).run(row);
@@ -319,7 +273,6 @@ export async function updateCustomer(store: UploadStore, row: CustomersTable): P
 }
 
 export async function setCustomerAttributes(store: UploadStore, customerId: string, attributes: Map<string, string | null>): Promise<void> {
-  await settleWrites(store.trx);
   const names = [...attributes.keys()];
   if (names.length === 0) return;
   if (store.sqlite !== null) {
@@ -342,7 +295,6 @@ export async function insertCustomerAttributes(store: UploadStore, rows: Array<{
  * and type, written in SQL that SQLite and PostgreSQL both run.
  */
 export async function refreshContactCustomerValues(db: Executor, customerIds: readonly string[]): Promise<void> {
-  await settleWrites(db);
   const fromCustomer = (column: 'region' | 'channel' | 'customer_type') =>
     sql<string>`(select ${sql.ref(`c.${column}`)} from customers c where c.customer_id = campaign_contacts.customer_id)`;
   for (const part of chunk(customerIds, 1000)) {
@@ -372,7 +324,6 @@ export async function refreshContactCustomerValues(db: Executor, customerIds: re
  * a customer with neither is absent from the map.
  */
 export async function findEarliestEventDates(db: Executor, customerIds: readonly string[]): Promise<Map<string, string>> {
-  await settleWrites(db);
   const found = new Map<string, string>();
   for (const part of chunk(customerIds, 1000)) {
     const sales = await db
@@ -396,7 +347,6 @@ export async function findEarliestEventDates(db: Executor, customerIds: readonly
 }
 
 export async function findSales(store: UploadStore, ids: readonly string[]): Promise<Map<string, SalesTable>> {
-  await settleWrites(store.trx);
   const found = new Map<string, SalesTable>();
   if (store.sqlite !== null) {
     const sale = prepared(store.sqlite, 'select * from sales where sale_id = ?');
@@ -419,7 +369,6 @@ export async function insertSales(store: UploadStore, rows: SalesTable[]): Promi
 
 /** Writes every field of the sale but its key. */
 export async function updateSale(store: UploadStore, row: SalesTable): Promise<void> {
-  await settleWrites(store.trx);
   const { sale_id, ...changes } = row;
   if (store.sqlite !== null) {
     prepared(store.sqlite, updateText('sales', Object.keys(changes), ['sale_id'])).run(row);
@@ -429,7 +378,6 @@ export async function updateSale(store: UploadStore, row: SalesTable): Promise<v
 }
 
 export async function ensureCampaign(db: Executor, campaignId: string, now: string): Promise<void> {
-  await settleWrites(db);
   await db
     .insertInto('campaigns')
     .values({ campaign_id: campaignId, created_at: now })
@@ -438,7 +386,6 @@ export async function ensureCampaign(db: Executor, campaignId: string, now: stri
 }
 
 export async function findContacts(store: UploadStore, campaignId: string, customerIds: readonly string[]): Promise<Map<string, CampaignContactsTable>> {
-  await settleWrites(store.trx);
   const found = new Map<string, CampaignContactsTable>();
   if (store.sqlite !== null) {
     const contact = prepared(store.sqlite, 'select * from campaign_contacts where campaign_id = ? and customer_id = ?');
@@ -461,7 +408,6 @@ export async function insertContacts(store: UploadStore, rows: CampaignContactsT
 
 /** Writes every field of the contact but its key (campaign and customer). */
 export async function updateContact(store: UploadStore, row: CampaignContactsTable): Promise<void> {
-  await settleWrites(store.trx);
   const { campaign_id, customer_id, ...changes } = row;
   if (store.sqlite !== null) {
     prepared(store.sqlite, updateText('campaign_contacts', Object.keys(changes), ['campaign_id', 'customer_id'])).run(row);
@@ -471,7 +417,6 @@ export async function updateContact(store: UploadStore, row: CampaignContactsTab
 }
 
 export async function insertIngest(db: Executor, receipt: IngestsTable): Promise<void> {
-  await settleWrites(db);
   await db.insertInto('ingests').values(receipt).execute();
 }
 
@@ -484,7 +429,6 @@ export async function insertRejectedRows(store: UploadStore, rows: RejectedRowsT
  * `limit` of them: the receipt compares an upload's labels with these.
  */
 export async function findStoredLabels(db: Executor, dimension: string, limit: number): Promise<string[]> {
-  await settleWrites(db);
   if (dimension === 'region' || dimension === 'channel') {
     const rows = await db.selectFrom('customers').select(dimension).distinct().limit(limit).execute();
     return rows.map((row) => (dimension === 'region' ? (row as { region: string }).region : (row as { channel: string }).channel));

@@ -236,7 +236,6 @@ async function storeUpload(deps: IngestDependencies, request: UploadRequest, spo
       }
     }
     await flush();
-    await repository.finishWrites(store);
     seenKeys.clear();
     if (totals.rows === 0) throw new EmptyUploadError(emptyUploadMessage(request.format, spooled));
     if (request.onError === 'reject' && totals.rejected > 0) {
@@ -275,7 +274,6 @@ async function storeUpload(deps: IngestDependencies, request: UploadRequest, spo
     };
     await repository.insertIngest(trx, stored);
     await repository.insertRejectedRows(store, rejectedRows);
-    await repository.finishWrites(store);
     return toReceipt(stored);
   })
     .catch((error: unknown) => {
