@@ -1,35 +1,41 @@
 /**
  * The benchmark suite (`npm run bench`). For each size it generates invented data
  * deterministically, runs every step several times against the real service (a child
- * process), prints medians, rows/s and peak memory, and writes bench/RESULTS.md.
+ * process), on SQLite and, when DATABASE_URL names a PostgreSQL server, on PostgreSQL too;
+ * prints medians, rows/s and peak memory, PostgreSQL's ratio to SQLite per step, and writes
+ * bench/RESULTS.md.
  *
  * Steps: 1. upload of the customers CSV and the contacts CSVs over HTTP; 2. a report refresh
  * over the stored rows (all one-way and two-way segments of age band, region and channel);
- * 3. the BI pull of the segments CSV under load (autocannon, loopback, bounded); 4. the floors:
- * a bare better-sqlite3 prepared INSERT loop over the same contacts files, one transaction per
- * file, into the service's own tables, and one bare GROUP BY of the finest cells over the same
- * stored rows, with each step's ratio to its floor.
+ * 3. the BI pull of the segments CSV under load (autocannon, 50 connections, loopback); 4. the
+ * floors (bench/floors.ts): a bare INSERT of the same contacts into the service's own tables,
+ * and one bare GROUP BY of the finest cells over the same stored rows, on each engine, with
+ * each step's ratio to its floor; 5. the analyst's script (bench/analyst/segment_table.py,
+ * pandas + SciPy + statsmodels) computing the same segment table from the same CSV files,
+ * timed whole, against the refresh. Peak memory is the service's resident high-water mark over
+ * its whole run (uploads, refreshes and pulls).
  *
- *   npm run bench                       both sizes on SQLite
- *   npm run bench -- --sizes 100000     one size
- *   DATABASE_URL=postgres://… npm run bench   the same steps on PostgreSQL (no floors there)
+ *   npm run bench                                both sizes on SQLite
+ *   DATABASE_URL=postgres://… npm run bench      both sizes on SQLite and on PostgreSQL
+ *   npm run bench -- --sizes 100000 --engines postgres
  *
  * Options: --sizes a,b (contact rows; customers are a quarter), --runs N (default 3),
- * --pull-seconds N (default 10), --no-results (do not write RESULTS.md), --steps a,b (any of
- * upload, refresh, pull, floors; default all; the upload always runs, as the others need its
- * rows). Each upload run also prints the CPU seconds the service spent, which a shared machine
- * disturbs less than wall time.
+ * --pull-seconds N (default 10), --engines sqlite,postgres (default: sqlite, and postgres when
+ * DATABASE_URL is a postgres:// URL), --python PATH (the interpreter for the analyst's script;
+ * default python3, then /usr/bin/python3), --no-results (do not write RESULTS.md), --steps a,b
+ * (any of upload, refresh, pull, floors, analyst; default all; the upload always runs, as the
+ * others need its rows). Each upload run also prints the CPU seconds the service spent, which a
+ * shared machine disturbs less than wall time.
  */
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { parseArgs } from 'node:util';
 import autocannon from 'autocannon';
-import SqliteDatabase from 'better-sqlite3';
+import { analystScriptSeconds, findAnalystPython } from './analyst.js';
 import { writeBenchFiles, type BenchFiles } from './data.js';
+import { postgresBareGroupBySeconds, postgresBareInsertSeconds, sqliteBareGroupBySeconds, sqliteBareInsertSeconds } from './floors.js';
 import { cpuSeconds, median, residentMiB } from './process-readings.js';
-import { openDatabase } from '../src/db/connect.js';
-import { migrateToLatest } from '../src/db/migrate.js';
 import { postFile, startServiceProcess, type RunningService } from '../test/support/service-process.js';
 
 const { values: options } = parseArgs({
@@ -37,22 +43,30 @@ const { values: options } = parseArgs({
     sizes: { type: 'string', default: '100000,1000000' },
     runs: { type: 'string', default: '3' },
     'pull-seconds': { type: 'string', default: '10' },
+    engines: { type: 'string' },
+    python: { type: 'string' },
     'no-results': { type: 'boolean', default: false },
-    steps: { type: 'string', default: 'upload,refresh,pull,floors' },
+    steps: { type: 'string', default: 'upload,refresh,pull,floors,analyst' },
   },
 });
-const STEPS = ['upload', 'refresh', 'pull', 'floors'] as const;
+const STEPS = ['upload', 'refresh', 'pull', 'floors', 'analyst'] as const;
 const steps = new Set(options.steps.split(',').map((step) => step.trim()));
 for (const step of steps) {
   if (!(STEPS as readonly string[]).includes(step)) throw new Error(`--steps: unknown step "${step}"; expected some of ${STEPS.join(', ')}`);
 }
+type Engine = 'sqlite' | 'postgres';
+const postgresUrl = /^postgres(ql)?:\/\//.test(process.env['DATABASE_URL'] ?? '') ? (process.env['DATABASE_URL'] as string) : null;
+const engines: Engine[] = (options.engines ?? (postgresUrl ? 'sqlite,postgres' : 'sqlite')).split(',').map((engine) => {
+  const name = engine.trim();
+  if (name !== 'sqlite' && name !== 'postgres') throw new Error(`--engines: unknown engine "${name}"; expected sqlite, postgres`);
+  if (name === 'postgres' && postgresUrl === null) throw new Error('--engines postgres needs DATABASE_URL=postgres://…');
+  return name;
+});
 const sizes = options.sizes.split(',').map(Number);
 const runs = Math.max(1, Number(options.runs));
 const pullSeconds = Math.max(1, Number(options['pull-seconds']));
-const postgresUrl = /^postgres(ql)?:\/\//.test(process.env['DATABASE_URL'] ?? '') ? (process.env['DATABASE_URL'] as string) : null;
-const dialect = postgresUrl ? 'postgres' : 'sqlite';
 const CAMPAIGNS = 4;
-
+const ENGINE_NAMES: Record<Engine, string> = { sqlite: 'SQLite', postgres: 'PostgreSQL' };
 
 const seconds = (value: number) => `${value.toFixed(3)} s`;
 const perSecond = (rows: number, time: number) => `${Math.round(rows / time).toLocaleString('en-US')} rows/s`;
@@ -60,20 +74,23 @@ const perSecond = (rows: number, time: number) => `${Math.round(rows / time).toL
 interface Workspace {
   env: Record<string, string>;
   sqliteFile: string | null;
+  postgresSchema: string | null;
   cleanup(): Promise<void>;
 }
 
-function newWorkspace(tag: string): Workspace {
-  if (postgresUrl) {
+function newWorkspace(engine: Engine, tag: string): Workspace {
+  if (engine === 'postgres') {
     const schema = `bench_${tag}_${process.pid}_${Date.now() % 100000}`;
     return {
-      env: { DATABASE_URL: postgresUrl, DATABASE_SCHEMA: schema },
+      env: { DATABASE_URL: postgresUrl as string, DATABASE_SCHEMA: schema },
       sqliteFile: null,
+      postgresSchema: schema,
       cleanup: () => dropSchema(schema),
     };
   }
   const directory = fs.mkdtempSync(path.join(os.tmpdir(), 'segrank-bench-'));
-  return { env: { DATABASE_URL: path.join(directory, 'bench.sqlite') }, sqliteFile: path.join(directory, 'bench.sqlite'), cleanup: async () => fs.rmSync(directory, { recursive: true, force: true }) };
+  const file = path.join(directory, 'bench.sqlite');
+  return { env: { DATABASE_URL: file }, sqliteFile: file, postgresSchema: null, cleanup: async () => fs.rmSync(directory, { recursive: true, force: true }) };
 }
 
 async function dropSchema(schema: string): Promise<void> {
@@ -84,12 +101,25 @@ async function dropSchema(schema: string): Promise<void> {
   await client.end();
 }
 
-/** Resets the child's peak-RSS counter (Linux: writing 5 to clear_refs), so a step's own peak can be read. */
-function resetPeak(service: RunningService): void {
-  try {
-    fs.writeFileSync(`/proc/${service.child.pid}/clear_refs`, '5');
-  } catch {
-    // not permitted: the peak then covers the whole process life, an upper bound
+/**
+ * The service's peak resident memory over its whole run. The refresh step resets the kernel's
+ * high-water mark (Linux: writing 5 to clear_refs) to read each refresh's own peak, so the
+ * peak before every reset is kept here.
+ */
+class WholeRunPeak {
+  private highest = 0;
+  constructor(private readonly service: RunningService) {}
+  read(): number {
+    this.highest = Math.max(this.highest, this.service.peakRssMiB());
+    return this.highest;
+  }
+  resetForStep(): void {
+    this.read();
+    try {
+      fs.writeFileSync(`/proc/${this.service.child.pid}/clear_refs`, '5');
+    } catch {
+      // not permitted: the step's peak then covers the whole process life, an upper bound
+    }
   }
 }
 
@@ -113,81 +143,6 @@ async function json(response: Response): Promise<Record<string, unknown>> {
   return body;
 }
 
-/** Whole years from `birthDate` to `onDate` (ISO dates), the birthday arithmetic of the service. */
-function yearsBetween(birthDate: string, onDate: string): number {
-  return Number(onDate.slice(0, 4)) - Number(birthDate.slice(0, 4)) - (onDate.slice(5) < birthDate.slice(5) ? 1 : 0);
-}
-
-/**
- * The floor for step 1: the same contact rows, read from the same files, inserted by one
- * prepared statement in one transaction into the service's own tables (its migrations: the
- * same columns, indexes and foreign keys, so the storage work is the same), with the values a
- * contact copies from its customer looked up in a Map loaded beforehand. No parsing beyond a
- * split, no checks, no lookups in the database: what is left is what any upload must pay.
- */
-async function bareInsertSeconds(files: BenchFiles): Promise<number> {
-  const directory = fs.mkdtempSync(path.join(os.tmpdir(), 'segrank-floor-'));
-  const file = path.join(directory, 'floor.sqlite');
-  const handle = await openDatabase({ dialect: 'sqlite', file });
-  await migrateToLatest(handle.db, { dialect: 'sqlite', file });
-  await handle.close();
-  const database = new SqliteDatabase(file);
-  database.pragma('journal_mode = WAL');
-  database.pragma('synchronous = NORMAL');
-  database.pragma('foreign_keys = ON');
-  database.pragma(`cache_size = -${32 * 1024}`);
-  const customers = new Map<string, string[]>();
-  const insertCustomer = database.prepare('insert into customers (customer_id, birth_date, region, channel, customer_type, created_at, updated_at) values (?, ?, ?, ?, ?, ?, ?)');
-  database.transaction(() => {
-    const lines = fs.readFileSync(files.customersCsv, 'utf8').split('\n');
-    for (let index = 1; index < lines.length; index++) {
-      if (lines[index] === '') continue;
-      const fields = (lines[index] as string).split(',');
-      customers.set(fields[0] as string, fields);
-      insertCustomer.run(fields[0], fields[1] || null, fields[2], fields[3], fields[4], '2026-01-01T00:00:00.000Z', '2026-01-01T00:00:00.000Z');
-    }
-    for (const campaign of files.contactsCsvs) database.prepare('insert into campaigns (campaign_id, created_at) values (?, ?)').run(campaign.campaignId, '2026-01-01T00:00:00.000Z');
-  })();
-  const insert = database.prepare(`insert into campaign_contacts (campaign_id, customer_id, contacted_at, converted, revenue_cents, age_at_contact, region, channel, customer_type, last_ingest_id)
-    values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`);
-  const started = performance.now();
-  for (const campaign of files.contactsCsvs) {
-    // One transaction per file, as each upload is one.
-    database.transaction(() => {
-      const lines = fs.readFileSync(campaign.file, 'utf8').split('\n');
-      for (let index = 1; index < lines.length; index++) {
-        const line = lines[index] as string;
-        if (line === '') continue;
-        const [customerId, contactedAt, converted, revenue] = line.split(',') as [string, string, string, string];
-        const customer = customers.get(customerId) as string[];
-        const birthDate = customer[1] as string;
-        const age = birthDate === '' ? null : yearsBetween(birthDate, contactedAt);
-        insert.run(campaign.campaignId, customerId, contactedAt, Number(converted), Math.round(Number(revenue) * 100), age, customer[2], customer[3], customer[4], 'floor');
-      }
-    })();
-  }
-  const elapsed = (performance.now() - started) / 1000;
-  database.close();
-  fs.rmSync(directory, { recursive: true, force: true });
-  return elapsed;
-}
-
-/**
- * The floor for step 2: one bare GROUP BY of the finest cells (age × region × channel) over
- * the stored contacts as they are stored (each carries its customer's region and channel), with
- * count, conversions and revenue, nothing else.
- */
-function bareGroupBySeconds(sqliteFile: string): number {
-  const database = new SqliteDatabase(sqliteFile, { readonly: true });
-  const statement = database.prepare(`select age_at_contact, region, channel, count(*) as n, sum(converted) as conversions, sum(revenue_cents) as revenue
-    from campaign_contacts group by age_at_contact, region, channel`);
-  const started = performance.now();
-  statement.all();
-  const elapsed = (performance.now() - started) / 1000;
-  database.close();
-  return elapsed;
-}
-
 async function pullUnderLoad(url: string): Promise<{ requestsPerSecond: number; p50: number; p99: number; errors: number; non2xx: number }> {
   const result = await autocannon({ url, connections: 50, duration: pullSeconds, headers: { accept: 'text/csv' } });
   return {
@@ -203,15 +158,19 @@ interface SizeResult {
   contacts: number;
   customers: number;
   upload: { seconds: number; customersSeconds: number; contactsSeconds: number; peakMiB: number };
+  /** The service's peak resident memory over the kept run: its uploads, refreshes and pulls. */
+  wholeRunPeakMiB: number;
   refresh: { seconds: number; serverMs: number; peakGrowthMiB: number } | null;
   pull: Awaited<ReturnType<typeof pullUnderLoad>> | null;
   floors: { insertSeconds: number; groupBySeconds: number } | null;
 }
 
-async function benchSize(contacts: number): Promise<SizeResult> {
-  const customers = Math.round(contacts / 4);
-  const files = writeBenchFiles(path.resolve('bench/out'), { customers, campaigns: CAMPAIGNS, contactsPerCampaign: Math.round(contacts / CAMPAIGNS), seed: 11 });
-  console.log(`\n## ${contacts.toLocaleString('en-US')} contacts, ${customers.toLocaleString('en-US')} customers (${dialect})`);
+type AnalystResult = { seconds: number; segments: number } | { skipped: string };
+
+async function benchSize(engine: Engine, files: BenchFiles): Promise<SizeResult> {
+  const contacts = files.contacts;
+  const customers = files.customers;
+  console.log(`\n## ${contacts.toLocaleString('en-US')} contacts, ${customers.toLocaleString('en-US')} customers (${ENGINE_NAMES[engine]})`);
 
   const uploadTimes: number[] = [];
   const customerTimes: number[] = [];
@@ -219,10 +178,12 @@ async function benchSize(contacts: number): Promise<SizeResult> {
   const uploadPeaks: number[] = [];
   let kept: { workspace: Workspace; service: RunningService } | null = null;
   for (let run = 1; run <= runs; run++) {
-    const workspace = newWorkspace(String(contacts));
+    const workspace = newWorkspace(engine, String(contacts));
     // The pull measures what the service can serve, so the per-key rate limit (6000 a minute by
-    // default, which 50 connections pass within seconds) is off.
-    const service = await startServiceProcess({ ...workspace.env, LOG_LEVEL: 'warn', RATE_LIMIT_PER_KEY: '0', RATE_LIMIT_PER_ADDRESS: '0' });
+    // default, which 50 connections pass within seconds) is off; so is the event-loop check,
+    // which on a loaded machine answered a refresh 503 because the refresh before it held the
+    // loop past 2 s (SQLite, 1,000,000 contacts, load average 10 on 2 cores).
+    const service = await startServiceProcess({ ...workspace.env, LOG_LEVEL: 'warn', RATE_LIMIT_PER_KEY: '0', RATE_LIMIT_PER_ADDRESS: '0', MAX_EVENT_LOOP_DELAY_MS: '0' });
     const started = performance.now();
     const times = await uploadAll(service, files);
     const total = (performance.now() - started) / 1000;
@@ -241,6 +202,7 @@ async function benchSize(contacts: number): Promise<SizeResult> {
     }
   }
   const { workspace, service } = kept as { workspace: Workspace; service: RunningService };
+  const peak = new WholeRunPeak(service);
   try {
     let refresh: SizeResult['refresh'] = null;
     let pull: SizeResult['pull'] = null;
@@ -260,7 +222,7 @@ async function benchSize(contacts: number): Promise<SizeResult> {
       const refreshRuns = steps.has('refresh') ? Math.max(runs, 5) : 1;
       for (let run = 1; run <= refreshRuns; run++) {
         const before = residentMiB(service);
-        resetPeak(service);
+        peak.resetForStep();
         const started = performance.now();
         const snapshot = await json(await fetch(`${service.url}/v1/reports/${reportId}/refresh`, { method: 'POST' }));
         refreshTimes.push((performance.now() - started) / 1000);
@@ -276,15 +238,22 @@ async function benchSize(contacts: number): Promise<SizeResult> {
         console.log(`BI pull (50 connections, ${pullSeconds} s): ${Math.round(pull.requestsPerSecond)} requests/s, p50 ${pull.p50} ms, p99 ${pull.p99} ms, errors ${pull.errors}, non-2xx ${pull.non2xx}`);
       }
     }
+    const wholeRunPeakMiB = Math.max(peak.read(), ...uploadPeaks);
+    console.log(`peak resident memory over the whole run: ${wholeRunPeakMiB.toFixed(0)} MiB`);
 
     let floors: SizeResult['floors'] = null;
-    if (workspace.sqliteFile && steps.has('floors')) {
+    if (steps.has('floors')) {
       await service.stop();
       const insertTimes: number[] = [];
       const groupTimes: number[] = [];
       for (let run = 1; run <= runs; run++) {
-        insertTimes.push(await bareInsertSeconds(files));
-        groupTimes.push(bareGroupBySeconds(workspace.sqliteFile));
+        if (engine === 'sqlite') {
+          insertTimes.push(await sqliteBareInsertSeconds(files));
+          groupTimes.push(sqliteBareGroupBySeconds(workspace.sqliteFile as string));
+        } else {
+          insertTimes.push(await postgresBareInsertSeconds(files, postgresUrl as string));
+          groupTimes.push(await postgresBareGroupBySeconds(postgresUrl as string, workspace.postgresSchema as string));
+        }
       }
       floors = { insertSeconds: median(insertTimes), groupBySeconds: median(groupTimes) };
       console.log(`floor, bare INSERT of the contacts: ${seconds(floors.insertSeconds)}; contacts upload is ${(median(contactTimes) / floors.insertSeconds).toFixed(2)}× that`);
@@ -292,9 +261,10 @@ async function benchSize(contacts: number): Promise<SizeResult> {
       else console.log(`floor, bare GROUP BY: ${seconds(floors.groupBySeconds)}`);
     }
     return {
-      contacts: files.contacts,
+      contacts,
       customers,
       upload: { seconds: median(uploadTimes), customersSeconds: median(customerTimes), contactsSeconds: median(contactTimes), peakMiB: median(uploadPeaks) },
+      wholeRunPeakMiB,
       refresh,
       pull,
       floors,
@@ -305,19 +275,44 @@ async function benchSize(contacts: number): Promise<SizeResult> {
   }
 }
 
+/** The analyst's script over the size's files: the median whole run, or why it was skipped. */
+function analystRun(files: BenchFiles): AnalystResult {
+  const python = findAnalystPython(options.python);
+  if (!python.ok) {
+    console.log(`\n!!!!! ANALYST COMPARISON SKIPPED: ${python.reason}`);
+    return { skipped: python.reason };
+  }
+  try {
+    const timed = Array.from({ length: runs }, () => analystScriptSeconds(python.python, files));
+    const result = { seconds: median(timed.map((run) => run.seconds)), segments: timed[0]?.segments ?? 0 };
+    console.log(`analyst script (${python.python} bench/analyst/segment_table.py, ${result.segments} segments): median ${seconds(result.seconds)} for the whole run`);
+    return result;
+  } catch (error) {
+    const reason = `the script failed: ${(error as Error).message}`;
+    console.log(`\n!!!!! ANALYST COMPARISON SKIPPED: ${reason}`);
+    return { skipped: reason };
+  }
+}
+
 function machineDescription(): string {
   const cpus = os.cpus();
   return `${cpus.length} × ${cpus[0]?.model ?? 'unknown CPU'}, ${(os.totalmem() / 1024 ** 3).toFixed(0)} GiB, ${os.type()} ${os.release()}, Node ${process.version}`;
 }
 
-function resultsMarkdown(results: SizeResult[]): string {
+function commandLine(): string {
+  const stepsOption = steps.size < STEPS.length ? ` --steps ${[...steps].join(',')}` : '';
+  const url = engines.includes('postgres') ? 'DATABASE_URL=postgres://… ' : '';
+  return `${url}npm run bench -- --sizes ${sizes.join(',')} --runs ${runs} --engines ${engines.join(',')}${stepsOption}`;
+}
+
+function resultsMarkdown(engine: Engine, results: SizeResult[]): string {
   const lines = [
-    `### ${dialect === 'sqlite' ? 'SQLite' : 'PostgreSQL'} — ${new Date().toISOString().slice(0, 10)}`,
+    `### ${ENGINE_NAMES[engine]} — ${new Date().toISOString().slice(0, 10)}`,
     '',
-    `Machine: ${machineDescription()}. Medians of ${runs} runs (refresh: ${Math.max(runs, 5)} runs). Command: \`${dialect === 'postgres' ? 'DATABASE_URL=postgres://… ' : ''}npm run bench -- --sizes ${sizes.join(',')} --runs ${runs}${steps.size < STEPS.length ? ` --steps ${[...steps].join(',')}` : ''}\`.`,
+    `Machine: ${machineDescription()}; load average at the end ${os.loadavg().map((load) => load.toFixed(1)).join(', ')}. Medians of ${runs} runs (refresh: ${Math.max(runs, 5)} runs). Command: \`${commandLine()}\`.`,
     '',
-    '| contacts | customers | upload total | contacts upload | rows/s (contacts) | upload peak RSS | refresh | refresh in service | refresh peak growth | pull req/s | pull p50 | pull p99 | pull errors | bare INSERT | upload ÷ floor | bare GROUP BY | refresh ÷ floor |',
-    '| ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |',
+    '| contacts | customers | upload total | contacts upload | rows/s (contacts) | upload peak RSS | peak RSS, whole run | refresh | refresh in service | refresh peak growth | pull req/s | pull p50 | pull p99 | pull errors | bare INSERT | upload ÷ floor | bare GROUP BY | refresh ÷ floor |',
+    '| ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |',
   ];
   for (const result of results) {
     const { floors, refresh, pull } = result;
@@ -329,6 +324,7 @@ function resultsMarkdown(results: SizeResult[]): string {
         seconds(result.upload.contactsSeconds),
         perSecond(result.contacts, result.upload.contactsSeconds),
         `${result.upload.peakMiB.toFixed(0)} MiB`,
+        `${result.wholeRunPeakMiB.toFixed(0)} MiB`,
         refresh ? seconds(refresh.seconds) : '—',
         refresh ? `${refresh.serverMs.toFixed(0)} ms` : '—',
         refresh ? `${refresh.peakGrowthMiB.toFixed(0)} MiB` : '—',
@@ -346,15 +342,87 @@ function resultsMarkdown(results: SizeResult[]): string {
   return lines.join('\n') + '\n';
 }
 
-const results: SizeResult[] = [];
-for (const size of sizes) results.push(await benchSize(size));
-const section = resultsMarkdown(results);
-console.log(`\n${section}`);
+const ratio = (postgres: number | undefined, sqlite: number | undefined) =>
+  postgres === undefined || sqlite === undefined || sqlite === 0 ? '—' : `${(postgres / sqlite).toFixed(2)}×`;
+
+/** PostgreSQL ÷ SQLite per step and size, and the refresh against the analyst's script. */
+function comparisonMarkdown(results: Map<Engine, SizeResult[]>, analyst: Map<number, AnalystResult>): string {
+  const lines = [`### Comparison — ${new Date().toISOString().slice(0, 10)}`, '', `Command: \`${commandLine()}\`.`, ''];
+  const sqlite = results.get('sqlite');
+  const postgres = results.get('postgres');
+  if (sqlite && postgres) {
+    lines.push(
+      'PostgreSQL ÷ SQLite (lower is better for PostgreSQL; the pull\'s requests/s as SQLite ÷ PostgreSQL, so above 1 means PostgreSQL serves fewer):',
+      '',
+      '| contacts | upload total | contacts upload | peak RSS, whole run | refresh | pull p99 | pull req/s | bare INSERT | bare GROUP BY |',
+      '| ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |',
+    );
+    for (const [index, lite] of sqlite.entries()) {
+      const server = postgres[index];
+      if (server === undefined) continue;
+      lines.push(
+        `| ${lite.contacts.toLocaleString('en-US')} | ${ratio(server.upload.seconds, lite.upload.seconds)} | ${ratio(server.upload.contactsSeconds, lite.upload.contactsSeconds)} | ` +
+          `${ratio(server.wholeRunPeakMiB, lite.wholeRunPeakMiB)} | ${ratio(server.refresh?.seconds, lite.refresh?.seconds)} | ${ratio(server.pull?.p99, lite.pull?.p99)} | ` +
+          `${ratio(lite.pull?.requestsPerSecond, server.pull?.requestsPerSecond)} | ${ratio(server.floors?.insertSeconds, lite.floors?.insertSeconds)} | ${ratio(server.floors?.groupBySeconds, lite.floors?.groupBySeconds)} |`,
+      );
+    }
+    lines.push('');
+  }
+  if (analyst.size > 0) {
+    lines.push(
+      'The analyst\'s script (`bench/analyst/segment_table.py`: pandas, SciPy, statsmodels; the same segment table from the same CSV files; timed whole, interpreter start included) against the refresh:',
+      '',
+      `| contacts | analyst script | ${engines.map((engine) => `refresh, ${ENGINE_NAMES[engine]} | refresh vs analyst script, ${ENGINE_NAMES[engine]}`).join(' | ')} |`,
+      `| ---: | ---: | ${engines.map(() => '---: | ---:').join(' | ')} |`,
+    );
+    for (const [contacts, run] of analyst) {
+      const cells = engines.map((engine) => {
+        const refresh = results.get(engine)?.find((result) => result.contacts === contacts)?.refresh;
+        if (!refresh || 'skipped' in run) return `${refresh ? seconds(refresh.seconds) : '—'} | —`;
+        return `${seconds(refresh.seconds)} | ${(run.seconds / refresh.seconds).toFixed(1)}× faster`;
+      });
+      lines.push(`| ${contacts.toLocaleString('en-US')} | ${'skipped' in run ? `skipped: ${run.skipped}` : seconds(run.seconds)} | ${cells.join(' | ')} |`);
+    }
+  }
+  return lines.join('\n') + '\n';
+}
+
+function writeSection(file: string, name: string, section: string): void {
+  const marker = `<!-- ${name} -->`;
+  let existing = fs.existsSync(file) ? fs.readFileSync(file, 'utf8') : '# Benchmark results\n\nWritten by `npm run bench`; each section is replaced by the next run on that database.\n';
+  if (!existing.includes(marker)) existing = existing.replace(/\n*$/, `\n\n${marker}\n<!-- /${name} -->\n`);
+  const pattern = new RegExp(`${marker}[\\s\\S]*?<!-- /${name} -->`);
+  fs.writeFileSync(file, existing.replace(pattern, () => `${marker}\n${section}<!-- /${name} -->`));
+}
+
+const results = new Map<Engine, SizeResult[]>();
+const analyst = new Map<number, AnalystResult>();
+for (const size of sizes) {
+  const customers = Math.round(size / 4);
+  const files = writeBenchFiles(path.resolve('bench/out'), { customers, campaigns: CAMPAIGNS, contactsPerCampaign: Math.round(size / CAMPAIGNS), seed: 11 });
+  for (const engine of engines) {
+    const engineResults = results.get(engine) ?? [];
+    engineResults.push(await benchSize(engine, files));
+    results.set(engine, engineResults);
+  }
+  if (steps.has('analyst')) {
+    const run = analystRun(files);
+    analyst.set(files.contacts, run);
+    if (!('skipped' in run)) {
+      for (const engine of engines) {
+        const refresh = results.get(engine)?.at(-1)?.refresh;
+        if (refresh) console.log(`refresh vs analyst script (${ENGINE_NAMES[engine]}): ${(run.seconds / refresh.seconds).toFixed(1)}× faster (${seconds(refresh.seconds)} against ${seconds(run.seconds)})`);
+      }
+    }
+  }
+}
+const sections = [...results].map(([engine, engineResults]) => [engine, resultsMarkdown(engine, engineResults)] as const);
+const comparison = comparisonMarkdown(results, analyst);
+for (const [, section] of sections) console.log(`\n${section}`);
+console.log(`\n${comparison}`);
 if (!options['no-results']) {
   const file = path.resolve('bench/RESULTS.md');
-  const marker = `<!-- ${dialect} -->`;
-  const existing = fs.existsSync(file) ? fs.readFileSync(file, 'utf8') : '# Benchmark results\n\nWritten by `npm run bench`; each section is replaced by the next run on that database.\n\n<!-- sqlite -->\n<!-- /sqlite -->\n\n<!-- postgres -->\n<!-- /postgres -->\n';
-  const pattern = new RegExp(`${marker}[\\s\\S]*?<!-- /${dialect} -->`);
-  fs.writeFileSync(file, existing.replace(pattern, `${marker}\n${section}<!-- /${dialect} -->`));
+  for (const [engine, section] of sections) writeSection(file, engine, section);
+  writeSection(file, 'comparison', comparison);
   console.log(`figures written to ${path.relative(process.cwd(), file)}`);
 }

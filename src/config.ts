@@ -8,7 +8,13 @@ import path from 'node:path';
 
 export type DatabaseSettings =
   | { dialect: 'sqlite'; file: string }
-  | { dialect: 'postgres'; connectionString: string; schema: string };
+  | {
+      dialect: 'postgres';
+      connectionString: string;
+      schema: string;
+      /** Most connections the service holds open to PostgreSQL (uploads, refreshes and reads share them). */
+      poolSize: number;
+    };
 
 export type LogLevel = 'fatal' | 'error' | 'warn' | 'info' | 'debug' | 'trace' | 'silent';
 
@@ -85,6 +91,12 @@ const LOG_LEVELS: readonly LogLevel[] = ['fatal', 'error', 'warn', 'info', 'debu
 export const DEFAULT_PUBLICATION_THRESHOLD = 10;
 const DEFAULT_MAX_LABELS_PER_DIMENSION = 100;
 
+/**
+ * Ten connections: one per upload in flight, a refresh, and the BI pulls' one short question
+ * each. Past the server's cores more connections only queue inside PostgreSQL instead of here.
+ */
+export const DEFAULT_DATABASE_POOL_SIZE = 10;
+
 const DEFAULT_SQLITE_FILE = path.join('data', 'segrank.sqlite');
 
 /** The database `npm run demo` uses when DATABASE_URL is not set; removed and rebuilt at each demo start. */
@@ -98,7 +110,7 @@ export function loadConfig(env: Environment = process.env): Config {
   return {
     host,
     port: readInteger(env, 'PORT', 3000, { min: 0, max: 65_535 }),
-    database: parseDatabaseUrl(env['DATABASE_URL'], env['DATABASE_SCHEMA']),
+    database: parseDatabaseUrl(env['DATABASE_URL'], env['DATABASE_SCHEMA'], readInteger(env, 'DATABASE_POOL_SIZE', DEFAULT_DATABASE_POOL_SIZE, { min: 1, max: 1000 })),
     logLevel: readChoice(env, 'LOG_LEVEL', LOG_LEVELS, 'info'),
     maxUploadBytes: readInteger(env, 'MAX_UPLOAD_BYTES', 256 * 1024 * 1024, { min: 1024, max: 4 * 1024 ** 3 }),
     maxUploadRows: readInteger(env, 'MAX_UPLOAD_ROWS', 2_000_000, { min: 1, max: 100_000_000 }),
@@ -155,9 +167,10 @@ function readAuthMode(env: Environment, host: string): 'keys' | 'open' {
 
 /**
  * A `postgres://` or `postgresql://` URL selects PostgreSQL; anything else is an SQLite file
- * path (`:memory:` included). Unset means the embedded default file under `./data/`.
+ * path (`:memory:` included). Unset means the embedded default file under `./data/`. The pool
+ * size applies to PostgreSQL only (SQLite has one writer and one reader connection).
  */
-export function parseDatabaseUrl(url: string | undefined, schema: string | undefined): DatabaseSettings {
+export function parseDatabaseUrl(url: string | undefined, schema: string | undefined, poolSize = DEFAULT_DATABASE_POOL_SIZE): DatabaseSettings {
   const value = url?.trim();
   if (value === undefined || value === '') return { dialect: 'sqlite', file: DEFAULT_SQLITE_FILE };
   if (/^postgres(ql)?:\/\//i.test(value)) {
@@ -170,7 +183,7 @@ export function parseDatabaseUrl(url: string | undefined, schema: string | undef
     if (!/^[a-z_][a-z0-9_]{0,62}$/.test(schemaName)) {
       throw new ConfigError(`DATABASE_SCHEMA must be a lower-case SQL identifier (letters, digits, _), got "${schemaName}"`);
     }
-    return { dialect: 'postgres', connectionString: value, schema: schemaName };
+    return { dialect: 'postgres', connectionString: value, schema: schemaName, poolSize };
   }
   if (/^[a-z][a-z0-9+.-]*:\/\//i.test(value)) {
     throw new ConfigError(`DATABASE_URL scheme is not supported: use postgres://… or an SQLite file path`);

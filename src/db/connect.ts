@@ -59,7 +59,7 @@ export function sqliteConnectionOf(db: Kysely<Database>): SqliteDatabase.Databas
 
 export async function openDatabase(settings: DatabaseSettings, logger?: Logger): Promise<DatabaseHandle> {
   const log = logger ? queryLogger(logger) : undefined;
-  if (settings.dialect === 'postgres') return openPostgres(settings.connectionString, settings.schema, log);
+  if (settings.dialect === 'postgres') return openPostgres(settings, log);
   return openSqlite(settings.file, log);
 }
 
@@ -103,7 +103,8 @@ function openSqlite(file: string, log: ((event: LogEvent) => void) | undefined):
   };
 }
 
-async function openPostgres(connectionString: string, schema: string, log: ((event: LogEvent) => void) | undefined): Promise<DatabaseHandle> {
+async function openPostgres(settings: Extract<DatabaseSettings, { dialect: 'postgres' }>, log: ((event: LogEvent) => void) | undefined): Promise<DatabaseHandle> {
+  const { connectionString, schema } = settings;
   if (schema !== 'public') {
     // The schema must exist before the pool's search_path can point into it.
     const setup = new pg.Client({ connectionString });
@@ -120,7 +121,7 @@ async function openPostgres(connectionString: string, schema: string, log: ((eve
   }
   const pool = new pg.Pool({
     connectionString,
-    max: 10,
+    max: settings.poolSize,
     types: pgTypes,
     ...(schema !== 'public' ? { options: `-c search_path=${schema}` } : {}),
   });
