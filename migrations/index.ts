@@ -12,6 +12,7 @@ import * as idempotencyPerKey from './0006_idempotency_per_key.js';
 import * as snapshotRedaction from './0007_snapshot_redaction.js';
 import * as contactHoldout from './0008_contact_holdout.js';
 import * as contactValueCounts from './0009_contact_value_counts.js';
+import * as dropContactCellIndex from './0010_drop_contact_cell_index.js';
 
 export const migrations: Record<string, Migration> = {
   '0001_records': records,
@@ -23,4 +24,5 @@ export const migrations: Record<string, Migration> = {
   '0007_snapshot_redaction': snapshotRedaction,
   '0008_contact_holdout': contactHoldout,
   '0009_contact_value_counts': contactValueCounts,
+  '0010_drop_contact_cell_index': dropContactCellIndex,
 };

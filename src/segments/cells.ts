@@ -41,8 +41,7 @@ export interface CellAggregate {
 /**
  * The columns the cell query groups by. A campaign population is grouped by campaign, all
  * three customer columns, the age as stored, the arm and the outcome: the order of
- * `campaign_contacts_by_cell` and of contact_value_counts' key, so the database reads either
- * front to back without sorting (the arm is grouped even when the source keeps one arm, since
+ * contact_value_counts' key, so the database reads it front to back without sorting (the arm is grouped even when the source keeps one arm, since
  * leaving it out would make the database sort). The finer groups are merged into the requested
  * cells in code. Attribute columns, when asked for, come last.
  */

@@ -87,7 +87,7 @@ function plausibleAge(age: RawBuilder<unknown>): RawBuilder<number | null> {
   return sql<number | null>`case when ${age} between ${sql.lit(MIN_PLAUSIBLE_AGE)} and ${sql.lit(MAX_PLAUSIBLE_AGE)} then ${age} end`;
 }
 
-/** The columns a campaign report's cells are grouped by, in the order of the index `campaign_contacts_by_cell`. */
+/** The columns a campaign report's cells are grouped by, in the order of contact_value_counts' key. */
 export const CONTACT_CELL_COLUMNS = ['region', 'channel', 'customer_type'] as const;
 
 /**
