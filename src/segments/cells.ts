@@ -121,7 +121,7 @@ function moneySumsOfRow(row: Record<string, unknown>): { sum: bigint; squares: b
 }
 
 /** The requested dimension values of one row of the cell query. */
-function cellLabelsOf(row: Record<string, unknown>, request: AggregationRequest, age: number | null): string[] {
+export function cellLabelsOf(row: Record<string, unknown>, request: AggregationRequest, age: number | null): string[] {
   let attributeIndex = 0;
   return request.dimensions.map((dimension) => {
     if (dimension === 'age_band') return ageBandOf(age, request.ageEdges);
@@ -166,8 +166,12 @@ export interface CellAggregates {
   strata: CampaignCellCount[];
 }
 
-/** One row of the cell query with its exact money sums. */
-interface GroupSums {
+/**
+ * One group of units of one cell, age and outcome with its exact money sums: a row of the cell
+ * query, or the kept counts of one such group summed in code (kept-fold.ts). `row` carries the
+ * grouped columns `cellLabelsOf` reads (campaign_key, the customer columns, the attributes).
+ */
+export interface GroupSums {
   row: Record<string, unknown>;
   age: number | null;
   n: number;
@@ -254,8 +258,13 @@ function shiftedMoney(n: number, sum: bigint, squares: bigint, shift: number): {
   return { sum: Number(sum - count * c), squares: Number(squares - 2n * c * sum + count * c * c) };
 }
 
-/** Merges the rows of the cell query into the requested cells and the counts per cell and age. */
-function foldCellRows(groups: readonly GroupSums[], request: AggregationRequest, shifts: Shifts): CellAggregates {
+/**
+ * Merges the groups of the cell query into the requested cells and the counts per cell and age.
+ * The age–value co-moments are floating sums added group by group, so the groups' order is
+ * part of the result's last bits: the cell query's (the order of contact_value_counts' key on
+ * SQLite), which kept-fold.ts gives too.
+ */
+export function foldCellRows(groups: readonly GroupSums[], request: AggregationRequest, shifts: Shifts): CellAggregates {
   const cells = new Map<string, CellAggregate>();
   const ageCounts = new Map<string, AgeCount>();
   const unconvertedByAge = new Map<number | null, number>();
