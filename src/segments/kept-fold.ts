@@ -9,29 +9,31 @@
  * table's key, go through the cell query's own fold (`foldCellRows`), so the cells are the
  * query's to the last bit. Each row of the report's arm also keeps its group, value and units
  * in three flat arrays, from which the value counts are counted once the cells have said which
- * cells are described value by value and the ages which grid axis to use. Memory: a few dozen
- * bytes per kept row plus one entry per distinct (cell, value) and (age bin, value), the size of
- * what the two value queries returned.
+ * cells are described value by value and the ages which grid axis to use.
+ *
+ * Memory: 20 bytes per kept row of the report's arm (the flat arrays, doubled as they grow),
+ * one object per group, and for the value counts one entry per distinct (cell, value) and
+ * (age bin, value), as many as the two value queries returned. The rows themselves are not kept.
  */
 import { binIndex, requireIntegerAxis, type AgeBinValueCount, type GridAxis } from './age-value-grid.js';
-import { cellLabelsOf, foldCellRows, type CellAggregate, type CellAggregates, type GroupSums } from './cells.js';
+import { foldCellGroups, type CellAggregate, type CellAggregates, type GroupSums } from './cells.js';
 import { plausibleAgeOf, type AggregationRequest } from './population.js';
 import { exactTotals, shiftsFromTotals, type Shifts } from './shifted-sums.js';
 import { compareText } from './text-order.js';
 import type { ValueCount, ValueDistributionScope } from './value-counts.js';
 
-/**
- * One row of contact_value_counts as read, in the table's column order: campaign, region,
- * channel, customer type, age (-1: unknown), holdout, converted, revenue (cents), units.
- */
-export type KeptRow = readonly [string, string, string, string, number, number, number, number, number];
-
-/** One group being summed: its key columns, units and exact Σ u·v, Σ u·v² (a number while it stays exact, then BigInt). */
-interface GroupTally {
+/** The customer columns of a kept row, which with the campaign make its text key; `row`: as the cell query's rows name them. */
+interface TextKey {
   campaign: string;
   region: string;
   channel: string;
   customerType: string;
+  row: Record<string, unknown>;
+}
+
+/** One group being summed: its key, units and exact Σ u·v, Σ u·v² (numbers while they stay exact, the rest in BigInt). */
+interface GroupTally {
+  text: TextKey;
   storedAge: number;
   converted: boolean;
   n: number;
@@ -41,41 +43,37 @@ interface GroupTally {
   bigSquares: bigint;
 }
 
-/** The groups of one arm, with a shortcut for the rows of one group, which the key order brings one after another. */
+/** The groups of one text key, by stored age and outcome (age·2 + converted). */
+interface TextTally {
+  text: TextKey;
+  groups: Map<number, number>;
+}
+
+/** The groups of one arm. Rows in key order come text key by text key, so the last one is kept at hand. */
 class ArmTally {
   readonly groups: GroupTally[] = [];
-  private readonly indexByKey = new Map<string, number>();
-  private last: KeptRow | null = null;
-  private lastIndex = -1;
+  private readonly texts = new Map<string, TextTally>();
+  private last: TextTally | null = null;
 
-  /** The group of `row`, its index among the groups. */
-  groupOf(row: KeptRow): number {
-    const last = this.last;
-    if (last !== null && last[4] === row[4] && last[6] === row[6] && last[3] === row[3] && last[2] === row[2] && last[1] === row[1] && last[0] === row[0]) {
-      this.last = row;
-      return this.lastIndex;
+  /** The index of the group of a row among `groups`, created empty when new. */
+  groupOf(campaign: string, region: string, channel: string, customerType: string, storedAge: number, converted: number): number {
+    let text = this.last;
+    if (text === null || text.text.campaign !== campaign || text.text.region !== region || text.text.channel !== channel || text.text.customerType !== customerType) {
+      const key = `${campaign}\u0000${region}\u0000${channel}\u0000${customerType}`;
+      text = this.texts.get(key) ?? null;
+      if (text === null) {
+        const row = { campaign_key: campaign, region, channel, customer_type: customerType };
+        this.texts.set(key, (text = { text: { campaign, region, channel, customerType, row }, groups: new Map() }));
+      }
+      this.last = text;
     }
-    const key = `${row[0]}\u0000${row[1]}\u0000${row[2]}\u0000${row[3]}\u0000${row[4]}\u0000${row[6]}`;
-    let index = this.indexByKey.get(key);
+    const groupKey = storedAge * 2 + converted;
+    let index = text.groups.get(groupKey);
     if (index === undefined) {
       index = this.groups.length;
-      this.indexByKey.set(key, index);
-      this.groups.push({
-        campaign: row[0],
-        region: row[1],
-        channel: row[2],
-        customerType: row[3],
-        storedAge: row[4],
-        converted: row[6] === 1,
-        n: 0,
-        sum: 0,
-        squares: 0,
-        bigSum: 0n,
-        bigSquares: 0n,
-      });
+      text.groups.set(groupKey, index);
+      this.groups.push({ text: text.text, storedAge, converted: converted === 1, n: 0, sum: 0, squares: 0, bigSum: 0n, bigSquares: 0n });
     }
-    this.last = row;
-    this.lastIndex = index;
     return index;
   }
 }
@@ -92,19 +90,24 @@ function addUnits(group: GroupTally, valueCents: number, units: number): void {
   else group.bigSquares += BigInt(units) * BigInt(valueCents) * BigInt(valueCents);
 }
 
-/** The order of contact_value_counts' key (text by code units, as SQLite's BINARY collation orders it). */
+/** The order of contact_value_counts' key (text by code units, the order SQLite's BINARY collation gives). */
 function compareGroups(left: GroupTally, right: GroupTally): number {
   return (
-    compareText(left.campaign, right.campaign) ||
-    compareText(left.region, right.region) ||
-    compareText(left.channel, right.channel) ||
-    compareText(left.customerType, right.customerType) ||
+    compareText(left.text.campaign, right.text.campaign) ||
+    compareText(left.text.region, right.text.region) ||
+    compareText(left.text.channel, right.text.channel) ||
+    compareText(left.text.customerType, right.text.customerType) ||
     left.storedAge - right.storedAge ||
     Number(left.converted) - Number(right.converted)
   );
 }
 
-/** The groups as the cell query returns them, in key order, whatever order the rows came in. */
+function plausibleAgeOfStored(storedAge: number): number | null {
+  // The table keeps an unknown age as -1.
+  return plausibleAgeOf(storedAge < 0 ? null : storedAge);
+}
+
+/** The groups as the cell query returns them, in key order whatever order the rows came in; `sums[positionOf[g]]` is group g. */
 function groupSumsOf(groups: readonly GroupTally[]): { sums: GroupSums[]; positionOf: Int32Array } {
   const order = groups.map((_group, index) => index).sort((left, right) => compareGroups(groups[left] as GroupTally, groups[right] as GroupTally));
   const positionOf = new Int32Array(groups.length);
@@ -112,37 +115,49 @@ function groupSumsOf(groups: readonly GroupTally[]): { sums: GroupSums[]; positi
     positionOf[index] = position;
     const group = groups[index] as GroupTally;
     return {
-      row: { campaign_key: group.campaign, region: group.region, channel: group.channel, customer_type: group.customerType },
-      age: plausibleAgeOf(group.storedAge < 0 ? null : group.storedAge),
+      // One row object per text key, so that the cell fold sees a group's neighbours as of one cell.
+      row: group.text.row,
+      age: plausibleAgeOfStored(group.storedAge),
       n: group.n,
       converted: group.converted,
-      valueSum: BigInt(group.sum) + group.bigSum,
-      valueSquares: BigInt(group.squares) + group.bigSquares,
+      valueSum: group.bigSum === 0n ? BigInt(group.sum) : BigInt(group.sum) + group.bigSum,
+      valueSquares: group.bigSquares === 0n ? BigInt(group.squares) : BigInt(group.squares) + group.bigSquares,
     };
   });
   return { sums, positionOf };
 }
 
-/** An arm's cells with the shifts summed from its own groups, as `shiftsAndCellAggregates` gives them. */
-function armAggregates(groups: readonly GroupSums[], request: AggregationRequest): CellAggregates & { shifts: Shifts } {
+/** An arm's cells with the shifts summed from its own groups, as `shiftsAndCellAggregates` gives them, and the cell of each group. */
+function armAggregates(groups: readonly GroupSums[], request: AggregationRequest): { aggregates: CellAggregates & { shifts: Shifts }; cellOfGroup: Int32Array } {
   const shifts = shiftsFromTotals(exactTotals(groups));
-  return { shifts, ...foldCellRows(groups, request, shifts) };
+  const { aggregates, cellOfGroup } = foldCellGroups(groups, request, shifts);
+  return { aggregates: { shifts, ...aggregates }, cellOfGroup };
 }
 
-/** A growable column of numbers. */
-class NumberColumn<T extends Int32Array | Float64Array> {
+/** The rows of the report's arm, column by column: group index, value (cents), units. */
+class RowColumns {
   length = 0;
-  constructor(
-    public values: T,
-    private readonly grow: (size: number) => T,
-  ) {}
-  push(value: number): void {
-    if (this.length === this.values.length) {
-      const larger = this.grow(this.values.length * 2);
-      larger.set(this.values);
-      this.values = larger;
+  groups = new Int32Array(1024);
+  values = new Float64Array(1024);
+  units = new Float64Array(1024);
+
+  push(group: number, valueCents: number, units: number): void {
+    if (this.length === this.groups.length) {
+      const size = this.length * 2;
+      const groups = new Int32Array(size);
+      groups.set(this.groups);
+      this.groups = groups;
+      const values = new Float64Array(size);
+      values.set(this.values);
+      this.values = values;
+      const counts = new Float64Array(size);
+      counts.set(this.units);
+      this.units = counts;
     }
-    this.values[this.length++] = value;
+    this.groups[this.length] = group;
+    this.values[this.length] = valueCents;
+    this.units[this.length] = units;
+    this.length += 1;
   }
 }
 
@@ -154,21 +169,30 @@ export interface KeptAggregates {
   holdout: (CellAggregates & { shifts: Shifts }) | null;
   /** As `valueDistribution(db, request, scope, population.cells)`: the value metric's units per cell and value, for the cells in `scope`. */
   valueCounts(scope: ValueDistributionScope): ValueCount[];
-  /** As `valueCountsByAgeBin(db, request, ageAxis, population.unconvertedByAge)`: the value metric's units per age bin and value. */
+  /**
+   * As `valueCountsByAgeBin(db, request, ageAxis, population.unconvertedByAge)`: the value
+   * metric's units per age bin and value, one entry each.
+   * @throws Error when the axis does not have whole-number bounds
+   */
   valueCountsByAgeBin(ageAxis: GridAxis | null): AgeBinValueCount[];
 }
 
+/** Adds `count` to the entry of `key` in a map of counts (made when missing) kept in `maps` under `mapKey`. */
+function addToCounts<K>(maps: Map<K, Map<number, number>>, mapKey: K, key: number, count: number): void {
+  let counts = maps.get(mapKey);
+  if (counts === undefined) maps.set(mapKey, (counts = new Map()));
+  counts.set(key, (counts.get(key) ?? 0) + count);
+}
+
 /**
- * Folds kept rows, fed one at a time with `add` (in any order; the key order is the fastest),
- * into a report's aggregates (`finish`). `splitArms`: the holdout rows are the holdout arm and
- * the others the report's; otherwise every row is the report's (as a source without an arm).
+ * Folds kept rows, given one at a time to `add` (in any order; key order is the fastest), into
+ * a report's aggregates (`finish`). `splitArms`: the holdout rows are the holdout arm and the
+ * others the report's; otherwise every row is the report's (a source without an arm).
  */
 export class KeptCountsFold {
   private readonly reportArm = new ArmTally();
   private readonly holdoutArm = new ArmTally();
-  private readonly rowGroups = new NumberColumn(new Int32Array(1024), (size) => new Int32Array(size));
-  private readonly rowValues = new NumberColumn(new Float64Array(1024), (size) => new Float64Array(size));
-  private readonly rowUnits = new NumberColumn(new Float64Array(1024), (size) => new Float64Array(size));
+  private readonly rows = new RowColumns();
 
   constructor(
     private readonly request: AggregationRequest,
@@ -177,54 +201,40 @@ export class KeptCountsFold {
     if (request.source.kind !== 'campaigns') throw new Error('kept counts hold campaign contacts only');
   }
 
-  add(row: KeptRow): void {
-    const valueCents = row[7];
-    const units = row[8];
-    if (this.splitArms && row[5] === 1) {
-      addUnits(this.holdoutArm.groups[this.holdoutArm.groupOf(row)] as GroupTally, valueCents, units);
+  /** One kept row: its key (stored age -1: unknown; holdout and converted 0 or 1) and its units. */
+  add(campaign: string, region: string, channel: string, customerType: string, storedAge: number, holdout: number, converted: number, valueCents: number, units: number): void {
+    if (this.splitArms && holdout === 1) {
+      const group = this.holdoutArm.groupOf(campaign, region, channel, customerType, storedAge, converted);
+      addUnits(this.holdoutArm.groups[group] as GroupTally, valueCents, units);
       return;
     }
-    const group = this.reportArm.groupOf(row);
+    const group = this.reportArm.groupOf(campaign, region, channel, customerType, storedAge, converted);
     addUnits(this.reportArm.groups[group] as GroupTally, valueCents, units);
-    this.rowGroups.push(group);
-    this.rowValues.push(valueCents);
-    this.rowUnits.push(units);
+    this.rows.push(group, valueCents, units);
   }
 
   finish(): KeptAggregates {
     const request = this.request;
     const groups = this.reportArm.groups;
     const { sums, positionOf } = groupSumsOf(groups);
-    const population = armAggregates(sums, request);
-    const holdout = this.splitArms ? armAggregates(groupSumsOf(this.holdoutArm.groups).sums, request) : null;
-    const rowCount = this.rowGroups.length;
-    const rowGroups = this.rowGroups.values;
-    const rowValues = this.rowValues.values;
-    const rowUnits = this.rowUnits.values;
+    const { aggregates: population, cellOfGroup: cellOfPosition } = armAggregates(sums, request);
+    const holdout = this.splitArms ? armAggregates(groupSumsOf(this.holdoutArm.groups).sums, request).aggregates : null;
+    const { length: rowCount, groups: rowGroups, values: rowValues, units: rowUnits } = this.rows;
     // The value metric's units: every unit per unit, the converted ones per conversion.
     const counted = groups.map((group) => request.valueBasis === 'per_unit' || group.converted);
-    // The cell of each group, through the labels the fold gave it.
-    const cellIndexByLabels = new Map(population.cells.map((cell, index) => [JSON.stringify(cell.labels), index]));
-    const cellOf = groups.map((_group, index) => {
-      const group = sums[positionOf[index] as number] as GroupSums;
-      return cellIndexByLabels.get(JSON.stringify(cellLabelsOf(group.row, request, group.age))) as number;
-    });
+    const cellOf = groups.map((_group, index) => cellOfPosition[positionOf[index] as number] as number);
     return {
       population,
       holdout,
       valueCounts(scope) {
         if (scope !== 'all' && scope.length === 0) return [];
         const inScope = (labels: readonly string[]) => scope === 'all' || scope.some(({ dimensionIndex, labels: chosen }) => chosen.includes(labels[dimensionIndex] as string));
-        const read = groups.map((_group, index) => (counted[index] as boolean) && inScope((population.cells[cellOf[index] as number] as CellAggregate).labels));
+        const cellsRead = population.cells.map((cell) => inScope(cell.labels));
+        const read = groups.map((_group, index) => (counted[index] as boolean) && (cellsRead[cellOf[index] as number] as boolean));
         const perCell = new Map<number, Map<number, number>>();
         for (let row = 0; row < rowCount; row++) {
           const group = rowGroups[row] as number;
-          if (!read[group]) continue;
-          const cell = cellOf[group] as number;
-          let values = perCell.get(cell);
-          if (values === undefined) perCell.set(cell, (values = new Map()));
-          const valueCents = rowValues[row] as number;
-          values.set(valueCents, (values.get(valueCents) ?? 0) + (rowUnits[row] as number));
+          if (read[group]) addToCounts(perCell, cellOf[group] as number, rowValues[row] as number, rowUnits[row] as number);
         }
         const counts: ValueCount[] = [];
         for (const [cell, values] of perCell) {
@@ -236,18 +246,13 @@ export class KeptCountsFold {
       valueCountsByAgeBin(ageAxis) {
         if (ageAxis !== null) requireIntegerAxis('age', ageAxis);
         const binOf = groups.map((group) => {
-          const age = plausibleAgeOf(group.storedAge < 0 ? null : group.storedAge);
+          const age = plausibleAgeOfStored(group.storedAge);
           return age === null || ageAxis === null ? null : binIndex(age, ageAxis);
         });
         const perBin = new Map<number | null, Map<number, number>>();
         for (let row = 0; row < rowCount; row++) {
           const group = rowGroups[row] as number;
-          if (!counted[group]) continue;
-          const bin = binOf[group] as number | null;
-          let values = perBin.get(bin);
-          if (values === undefined) perBin.set(bin, (values = new Map()));
-          const valueCents = rowValues[row] as number;
-          values.set(valueCents, (values.get(valueCents) ?? 0) + (rowUnits[row] as number));
+          if (counted[group]) addToCounts(perBin, binOf[group] as number | null, rowValues[row] as number, rowUnits[row] as number);
         }
         const counts: AgeBinValueCount[] = [];
         for (const [ageBin, values] of perBin) for (const [valueCents, count] of values) counts.push({ ageBin, valueCents, count });
