@@ -177,11 +177,30 @@ export interface KeptAggregates {
   valueCountsByAgeBin(ageAxis: GridAxis | null): AgeBinValueCount[];
 }
 
-/** Adds `count` to the entry of `key` in a map of counts (made when missing) kept in `maps` under `mapKey`. */
-function addToCounts<K>(maps: Map<K, Map<number, number>>, mapKey: K, key: number, count: number): void {
-  let counts = maps.get(mapKey);
-  if (counts === undefined) maps.set(mapKey, (counts = new Map()));
-  counts.set(key, (counts.get(key) ?? 0) + count);
+/** The counts kept under `key` in `maps`, made empty when missing. */
+function countsOf<K>(maps: Map<K, Map<number, number>>, key: K): Map<number, number> {
+  let counts = maps.get(key);
+  if (counts === undefined) maps.set(key, (counts = new Map()));
+  return counts;
+}
+
+/**
+ * Counts the units of every row per value into the counts `countsOfGroup` gives for its group
+ * (null: the row is not counted), asked once per run of rows of one group.
+ */
+function countRows(rowCount: number, rowGroups: Int32Array, rowValues: Float64Array, rowUnits: Float64Array, countsOfGroup: (group: number) => Map<number, number> | null): void {
+  let lastGroup = -1;
+  let counts: Map<number, number> | null = null;
+  for (let row = 0; row < rowCount; row++) {
+    const group = rowGroups[row] as number;
+    if (group !== lastGroup) {
+      lastGroup = group;
+      counts = countsOfGroup(group);
+    }
+    if (counts === null) continue;
+    const valueCents = rowValues[row] as number;
+    counts.set(valueCents, (counts.get(valueCents) ?? 0) + (rowUnits[row] as number));
+  }
 }
 
 /**
@@ -232,10 +251,7 @@ export class KeptCountsFold {
         const cellsRead = population.cells.map((cell) => inScope(cell.labels));
         const read = groups.map((_group, index) => (counted[index] as boolean) && (cellsRead[cellOf[index] as number] as boolean));
         const perCell = new Map<number, Map<number, number>>();
-        for (let row = 0; row < rowCount; row++) {
-          const group = rowGroups[row] as number;
-          if (read[group]) addToCounts(perCell, cellOf[group] as number, rowValues[row] as number, rowUnits[row] as number);
-        }
+        countRows(rowCount, rowGroups, rowValues, rowUnits, (group) => (read[group] ? countsOf(perCell, cellOf[group] as number) : null));
         const counts: ValueCount[] = [];
         for (const [cell, values] of perCell) {
           const labels = (population.cells[cell] as CellAggregate).labels;
@@ -250,10 +266,7 @@ export class KeptCountsFold {
           return age === null || ageAxis === null ? null : binIndex(age, ageAxis);
         });
         const perBin = new Map<number | null, Map<number, number>>();
-        for (let row = 0; row < rowCount; row++) {
-          const group = rowGroups[row] as number;
-          if (counted[group]) addToCounts(perBin, binOf[group] as number | null, rowValues[row] as number, rowUnits[row] as number);
-        }
+        countRows(rowCount, rowGroups, rowValues, rowUnits, (group) => (counted[group] ? countsOf(perBin, binOf[group] as number | null) : null));
         const counts: AgeBinValueCount[] = [];
         for (const [ageBin, values] of perBin) for (const [valueCents, count] of values) counts.push({ ageBin, valueCents, count });
         return counts;
