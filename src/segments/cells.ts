@@ -291,7 +291,7 @@ function ageBandLabeller(edges: readonly number[]): (age: number | null) => stri
  * part of the result's last bits: the cell query's (the order of contact_value_counts' key on
  * SQLite), which kept-fold.ts gives too.
  */
-export function foldCellRows(groups: readonly GroupSums[], request: AggregationRequest, shifts: Shifts): CellAggregates {
+function foldCellRows(groups: readonly GroupSums[], request: AggregationRequest, shifts: Shifts): CellAggregates {
   return foldCellGroups(groups, request, shifts).aggregates;
 }
 
