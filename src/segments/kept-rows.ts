@@ -28,16 +28,16 @@ function keptRowsText(campaigns: number): string {
     group by campaign_id, region, channel, customer_type`;
 }
 
-function foldSqliteRows(sqlite: SqliteDatabase.Database, campaignIds: readonly string[], fold: KeptCountsFold): void {
-  for (const row of prepared(sqlite, keptRowsText(campaignIds.length), 'values').iterate(...campaignIds) as Iterable<unknown[]>) {
-    const [campaign, region, channel, customerType] = row.slice(0, 4).map(String) as [string, string, string, string];
-    const keys = JSON.parse(String(row[4])) as number[];
-    const values = JSON.parse(String(row[5])) as number[];
-    const units = JSON.parse(String(row[6])) as number[];
-    for (let index = 0; index < keys.length; index++) {
-      const key = keys[index] as number;
-      fold.add(campaign, region, channel, customerType, key >> 2, (key >> 1) & 1, key & 1, values[index] as number, units[index] as number);
-    }
+/** Folds one row of the grouped read: a text key and its rows' numbers, packed as `keptRowsText` says. */
+function foldTextKey(fold: KeptCountsFold, row: readonly unknown[], parse: (column: unknown) => number[]): void {
+  const [campaign, region, channel, customerType] = row.slice(0, 4).map(String) as [string, string, string, string];
+  const keys = parse(row[4]);
+  const values = parse(row[5]);
+  const units = parse(row[6]);
+  if (values.length !== keys.length || units.length !== keys.length) throw new Error(`the kept rows of ${campaign}/${region}/${channel}/${customerType} came back with arrays of different lengths`);
+  for (let index = 0; index < keys.length; index++) {
+    const key = keys[index] as number;
+    fold.add(campaign, region, channel, customerType, key >> 2, (key >> 1) & 1, key & 1, values[index] as number, units[index] as number);
   }
 }
 
@@ -45,7 +45,8 @@ function foldSqliteRows(sqlite: SqliteDatabase.Database, campaignIds: readonly s
  * Reads the report's campaigns' rows of contact_value_counts once, inside `db`'s transaction, and
  * folds them into the report's aggregates. On SQLite (`sqlite`: the raw connection behind the
  * transaction's database; null on PostgreSQL) through a cached prepared statement, rows as
- * arrays; on PostgreSQL one plain query of the rows.
+ * arrays; on PostgreSQL one plain query grouped the same way. Memory: the numbers of one text
+ * key at a time, besides what the fold keeps.
  * `splitArms`: the holdout contacts form the holdout arm and the rest the report's population.
  * @throws whatever the database throws
  */
@@ -55,23 +56,20 @@ export async function keptCountAggregates(db: Executor, sqlite: SqliteDatabase.D
   const fold = new KeptCountsFold(request, splitArms);
   if (source.campaignIds.length === 0) return fold.finish();
   if (sqlite !== null) {
-    foldSqliteRows(sqlite, source.campaignIds, fold);
+    const rows = prepared(sqlite, keptRowsText(source.campaignIds.length), 'values').iterate(...source.campaignIds) as Iterable<unknown[]>;
+    for (const row of rows) foldTextKey(fold, row, (column) => JSON.parse(String(column)) as number[]);
     return fold.finish();
   }
+  // PostgreSQL: the same grouping with json_agg, whose arrays the driver parses; the three
+  // aggregates of a group see its rows in one order, so their entries line up.
   const { rows } = await sql<Record<string, unknown>>`
-    select campaign_id, region, channel, customer_type, age, holdout, converted, revenue_cents, units
-    from contact_value_counts where campaign_id in (${sql.join(source.campaignIds)})`.execute(db);
+    select campaign_id, region, channel, customer_type,
+      json_agg(age * 4 + holdout * 2 + converted) as keys, json_agg(revenue_cents) as revenues, json_agg(units) as units
+    from contact_value_counts where campaign_id in (${sql.join(source.campaignIds)})
+    group by campaign_id, region, channel, customer_type`.execute(db);
   for (const row of rows) {
-    fold.add(
-      String(row['campaign_id']),
-      String(row['region']),
-      String(row['channel']),
-      String(row['customer_type']),
-      toNumber(row['age']),
-      toNumber(row['holdout']),
-      toNumber(row['converted']),
-      toNumber(row['revenue_cents']),
-      toNumber(row['units']),
+    foldTextKey(fold, [row['campaign_id'], row['region'], row['channel'], row['customer_type'], row['keys'], row['revenues'], row['units']], (column) =>
+      (column as unknown[]).map(toNumber),
     );
   }
   return fold.finish();
