@@ -69,7 +69,8 @@ export function binIndex(value: number, axis: GridAxis): number {
   return index;
 }
 
-function requireIntegerAxis(name: string, axis: GridAxis): void {
+/** @throws Error naming the axis when its bounds are not whole numbers or it has no bins */
+export function requireIntegerAxis(name: string, axis: GridAxis): void {
   if (!Number.isSafeInteger(axis.low) || !Number.isSafeInteger(axis.high) || !Number.isSafeInteger(axis.bins) || axis.bins < 1 || axis.high < axis.low) {
     throw new Error(`the ${name} axis of the grid needs whole-number bounds and a positive number of bins, got ${JSON.stringify(axis)}`);
   }

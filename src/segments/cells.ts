@@ -120,11 +120,11 @@ function moneySumsOfRow(row: Record<string, unknown>): { sum: bigint; squares: b
   return { sum: bigIntOf(toNumber(row['value_sum'])), squares: bigIntOf(toNumber(row['value_squares'])) };
 }
 
-/** The requested dimension values of one row of the cell query. */
-function cellLabelsOf(row: Record<string, unknown>, request: AggregationRequest, age: number | null): string[] {
+/** The requested dimension values of one row of the cell query (`bandOf`: `ageBandOf` for the request's edges). */
+function cellLabelsOf(row: Record<string, unknown>, request: AggregationRequest, age: number | null, bandOf: (age: number | null) => string): string[] {
   let attributeIndex = 0;
   return request.dimensions.map((dimension) => {
-    if (dimension === 'age_band') return ageBandOf(age, request.ageEdges);
+    if (dimension === 'age_band') return bandOf(age);
     if (isBuiltInDimension(dimension)) return String(row[dimension]);
     return String(row[attributeColumn(attributeIndex++)]);
   });
@@ -166,8 +166,12 @@ export interface CellAggregates {
   strata: CampaignCellCount[];
 }
 
-/** One row of the cell query with its exact money sums. */
-interface GroupSums {
+/**
+ * One group of units of one cell, age and outcome with its exact money sums: a row of the cell
+ * query, or the kept counts of one such group summed in code (kept-fold.ts). `row` carries the
+ * grouped columns `cellLabelsOf` reads (campaign_key, the customer columns, the attributes).
+ */
+export interface GroupSums {
   row: Record<string, unknown>;
   age: number | null;
   n: number;
@@ -247,60 +251,137 @@ export async function shiftsAndCellAggregates(db: Executor, request: Aggregation
   return { shifts, ...foldCellRows(groups, request, shifts) };
 }
 
-/** Σ(v − c) and Σ(v − c)² of a group from its exact Σv and Σv², as numbers (for the age–value correlation). */
+/**
+ * Σ(v − c) and Σ(v − c)² of a group from its exact Σv and Σv², as numbers (for the age–value
+ * correlation): the exact value rounded once. In number arithmetic when every term and partial
+ * sum is a safe integer (then each step is exact, and so the result), else in BigInt.
+ */
 function shiftedMoney(n: number, sum: bigint, squares: bigint, shift: number): { sum: number; squares: number } {
+  const plainSum = Number(sum);
+  const plainSquares = Number(squares);
+  const shiftedTotal = n * shift;
+  const shiftedSum = plainSum - shiftedTotal;
+  const cross = 2 * shift * plainSum;
+  const shiftSquares = n * shift * shift;
+  const lessCross = plainSquares - cross;
+  const shiftedSquares = lessCross + shiftSquares;
+  if ([plainSum, plainSquares, shiftedTotal, shiftedSum, 2 * shift, cross, n * shift, shiftSquares, lessCross, shiftedSquares].every(Number.isSafeInteger)) {
+    return { sum: shiftedSum, squares: shiftedSquares };
+  }
   const count = BigInt(n);
   const c = BigInt(shift);
   return { sum: Number(sum - count * c), squares: Number(squares - 2n * c * sum + count * c * c) };
 }
 
-/** Merges the rows of the cell query into the requested cells and the counts per cell and age. */
+/**
+ * The band label of an age, remembered per age (a fold asks for the same few ages many times).
+ */
+function ageBandLabeller(edges: readonly number[]): (age: number | null) => string {
+  const labels = new Map<number | null, string>();
+  return (age) => {
+    let label = labels.get(age);
+    if (label === undefined) labels.set(age, (label = ageBandOf(age, edges)));
+    return label;
+  };
+}
+
+/**
+ * Merges the rows of the cell query into the requested cells and the counts per cell and age.
+ * The age–value co-moments are floating sums added group by group, so the groups' order is
+ * part of the result's last bits: the cell query's (the order of contact_value_counts' key on
+ * SQLite), which kept-fold.ts gives too.
+ */
 function foldCellRows(groups: readonly GroupSums[], request: AggregationRequest, shifts: Shifts): CellAggregates {
+  return foldCellGroups(groups, request, shifts).aggregates;
+}
+
+/**
+ * `foldCellRows`, with the cell of every group: `cellOfGroup[i]` is the index in
+ * `aggregates.cells` of the cell `groups[i]` went into.
+ */
+export function foldCellGroups(groups: readonly GroupSums[], request: AggregationRequest, shifts: Shifts): { aggregates: CellAggregates; cellOfGroup: Int32Array } {
   const cells = new Map<string, CellAggregate>();
+  const cellKeyOfGroup: string[] = [];
   const ageCounts = new Map<string, AgeCount>();
   const unconvertedByAge = new Map<number | null, number>();
   const stratified = request.source.kind === 'campaigns' && request.source.campaignIds.length > 1;
   const strata = new Map<string, CampaignCellCount>();
+  const bandOf = ageBandLabeller(request.ageEdges);
+  const valueShift = request.valueBasis === 'per_unit' ? shifts.unitValue : shifts.convertedValue;
+  // Groups that follow one another with the same row object (kept-fold.ts gives one per text
+  // key) and age band are of one cell: its labels, keys and entries are looked up once.
+  const bandByAge = request.dimensions.includes('age_band');
+  let lastRow: Record<string, unknown> | null = null;
+  let lastBand = '';
+  let lastAge: number | null | undefined;
+  let key = '';
+  let cell = emptyCell([]);
+  let stratum: CampaignCellCount | null = null;
+  let ageCount: AgeCount = { labels: [], age: null, count: 0 };
+  // The cells' sums are updated in place: every one was made here by `emptyCell`.
   for (const { row, age, n, converted, valueSum, valueSquares } of groups) {
     const conversions = converted ? n : 0;
-    const values = cellLabelsOf(row, request, age);
-    if (stratified) {
-      const campaign = String(row['campaign_key']);
-      const stratumKey = JSON.stringify([campaign, values]);
-      const stratum = strata.get(stratumKey);
-      if (stratum) {
-        stratum.n += n;
-        stratum.conversions += conversions;
-      } else strata.set(stratumKey, { campaign, labels: values, n, conversions });
+    const band = bandByAge ? bandOf(age) : '';
+    const sameCell = row === lastRow && band === lastBand;
+    if (!sameCell) {
+      lastRow = row;
+      lastBand = band;
+      const values = cellLabelsOf(row, request, age, bandOf);
+      key = JSON.stringify(values);
+      const known = cells.get(key);
+      if (known) cell = known;
+      else cells.set(key, (cell = emptyCell(values)));
+      if (stratified) {
+        const campaign = String(row['campaign_key']);
+        const stratumKey = JSON.stringify([campaign, values]);
+        stratum = strata.get(stratumKey) ?? null;
+        if (stratum === null) strata.set(stratumKey, (stratum = { campaign, labels: values, n: 0, conversions: 0 }));
+      }
     }
-    const key = JSON.stringify(values);
-    let cell = cells.get(key);
-    if (!cell) cells.set(key, (cell = emptyCell(values)));
+    if (stratum !== null) {
+      stratum.n += n;
+      stratum.conversions += conversions;
+    }
+    cellKeyOfGroup.push(key);
     cell.n += n;
     cell.conversions += conversions;
-    cell.unitValue = { n: cell.n, sum: cell.unitValue.sum + valueSum, squares: cell.unitValue.squares + valueSquares };
-    if (converted) cell.convertedValue = { n: cell.conversions, sum: cell.convertedValue.sum + valueSum, squares: cell.convertedValue.squares + valueSquares };
-    const ageKey = `${key}|${age ?? ''}`;
-    const ageCount = ageCounts.get(ageKey);
-    if (ageCount) ageCount.count += n;
-    else ageCounts.set(ageKey, { labels: values, age, count: n });
+    cell.unitValue.n = cell.n;
+    cell.unitValue.sum += valueSum;
+    cell.unitValue.squares += valueSquares;
+    if (converted) {
+      cell.convertedValue.n = cell.conversions;
+      cell.convertedValue.sum += valueSum;
+      cell.convertedValue.squares += valueSquares;
+    }
+    if (!sameCell || age !== lastAge) {
+      lastAge = age;
+      const ageKey = `${key}|${age ?? ''}`;
+      const known = ageCounts.get(ageKey);
+      if (known) ageCount = known;
+      else ageCounts.set(ageKey, (ageCount = { labels: cell.labels, age, count: 0 }));
+    }
+    ageCount.count += n;
     unconvertedByAge.set(age, (unconvertedByAge.get(age) ?? 0) + n - conversions);
     if (age === null) continue;
     const shiftedAge = age - shifts.age;
-    cell.age = { n: cell.age.n + n, sumOfShifted: cell.age.sumOfShifted + n * shiftedAge, sumOfSquaredShifted: cell.age.sumOfSquaredShifted + n * shiftedAge * shiftedAge };
+    const ageSums = cell.age;
+    ageSums.n += n;
+    ageSums.sumOfShifted += n * shiftedAge;
+    ageSums.sumOfSquaredShifted += n * shiftedAge * shiftedAge;
     const pairs = request.valueBasis === 'per_unit' ? n : conversions;
     if (pairs === 0) continue;
-    const money = shiftedMoney(n, valueSum, valueSquares, request.valueBasis === 'per_unit' ? shifts.unitValue : shifts.convertedValue);
-    cell.ageValue = {
-      n: cell.ageValue.n + pairs,
-      ageSum: cell.ageValue.ageSum + pairs * shiftedAge,
-      ageSquaredSum: cell.ageValue.ageSquaredSum + pairs * shiftedAge * shiftedAge,
-      valueSum: cell.ageValue.valueSum + money.sum,
-      valueSquaredSum: cell.ageValue.valueSquaredSum + money.squares,
-      crossSum: cell.ageValue.crossSum + shiftedAge * money.sum,
-    };
+    const money = shiftedMoney(n, valueSum, valueSquares, valueShift);
+    const ageValue = cell.ageValue;
+    ageValue.n += pairs;
+    ageValue.ageSum += pairs * shiftedAge;
+    ageValue.ageSquaredSum += pairs * shiftedAge * shiftedAge;
+    ageValue.valueSum += money.sum;
+    ageValue.valueSquaredSum += money.squares;
+    ageValue.crossSum += shiftedAge * money.sum;
   }
   const sorted = [...cells.values()].sort((left, right) => compareLabelLists(left.labels, right.labels));
+  const indexOfCell = new Map(sorted.map((cell, index) => [cell, index]));
+  const cellOfGroup = Int32Array.from(cellKeyOfGroup, (key) => indexOfCell.get(cells.get(key) as CellAggregate) as number);
   const strataInOrder = [...strata.values()].sort((left, right) => compareText(left.campaign, right.campaign) || compareLabelLists(left.labels, right.labels));
-  return { cells: sorted, ageCounts: [...ageCounts.values()], unconvertedByAge, arithmetic: 'exact', strata: strataInOrder };
+  return { aggregates: { cells: sorted, ageCounts: [...ageCounts.values()], unconvertedByAge, arithmetic: 'exact', strata: strataInOrder }, cellOfGroup };
 }

@@ -8,6 +8,8 @@
  * - `valueDistribution`: counts per (cell, value), for medians, quartiles and modes;
  * - `valueCountsByAgeBin`: counts per value and age bin, for the value histogram
  *   (`valueCountsOf`) and the age × value grid (`gridCountsOf`);
+ * - `keptCountAggregates`: for a campaign report on contact_value_counts, all of the above but
+ *   `sourceQuality` from ONE read of its campaigns' kept rows, folded in code;
  * - `sourceQuality`: data-quality counts the cells do not show;
  * - `rollUp`: cells → total, one-way and two-way segments.
  */
@@ -21,6 +23,9 @@ export { sourceQuality } from './data-quality.js';
 export type { SourceQuality } from './data-quality.js';
 
 export { BUILT_IN_DIMENSIONS, MAX_PLAUSIBLE_AGE, MIN_PLAUSIBLE_AGE, UNKNOWN, ageBandOf, isAttributeName } from './dimensions.js';
+
+export { keptCountAggregates } from './kept-rows.js';
+export type { KeptAggregates } from './kept-fold.js';
 
 export { labelCountBounds, labelCounts } from './label-counts.js';
 

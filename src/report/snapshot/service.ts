@@ -4,7 +4,7 @@
  */
 import { randomUUID } from 'node:crypto';
 import type { Kysely } from 'kysely';
-import type { DatabaseHandle, Dialect } from '../../db/connect.js';
+import { sqliteConnectionOf, type DatabaseHandle, type Dialect } from '../../db/connect.js';
 import type { Database, ReportsTable, SnapshotTrigger } from '../../db/tables.js';
 import type { Executor } from '../../db/executor.js';
 import { YIELD_AFTER_EACH_QUERY } from '../../db/yield-after-query.js';
@@ -14,6 +14,7 @@ import {
   explainOverflow,
   gridCountsOf,
   holdoutContacts,
+  keptCountAggregates,
   labelCounts,
   shiftsAndCellAggregates,
   sourceQuality,
@@ -273,12 +274,16 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
     // SQLite the read connection, and /healthz, wait for this transaction): small bounded reads,
     // and the population's exact count only when one of them is past the limit.
     await refuseLabelsPastLimit(trx, reportId, request, deps.maxLabelsPerDimension);
-    const { shifts, cells, ageCounts, unconvertedByAge, arithmetic, strata } = await shiftsAndCellAggregates(trx, request);
+    // A report on the kept counts reads its campaigns' rows once and derives every figure below
+    // from them in code; a report on rows (an attribute, sales) groups them in the database.
+    const kept = source.kind === 'campaigns' && source.table === 'contact_value_counts' ? await keptCountAggregates(trx, sqliteConnectionOf(deps.readDb), request, withHoldout) : null;
+    const { shifts, cells, ageCounts, unconvertedByAge, arithmetic, strata } = kept?.population ?? (await shiftsAndCellAggregates(trx, request));
     // The cells' own labels settle it whatever the bounds said.
     refuseCellLabelsPastLimit(reportId, definition.dimensions, cells, deps.maxLabelsPerDimension);
-    const valueCounts = await valueDistribution(trx, request, valueDistributionScope(cells, definition), cells);
+    const scope = valueDistributionScope(cells, definition);
+    const valueCounts = kept ? kept.valueCounts(scope) : await valueDistribution(trx, request, scope, cells);
     const ageAxis = ageGridAxis(ageCounts);
-    const valuesByAgeBin = await valueCountsByAgeBin(trx, request, ageAxis, unconvertedByAge);
+    const valuesByAgeBin = kept ? kept.valueCountsByAgeBin(ageAxis) : await valueCountsByAgeBin(trx, request, ageAxis, unconvertedByAge);
     const wholeValueCounts = valueCountsOf(valuesByAgeBin);
     const gridAxes = ageValueGridAxes(ageCounts, wholeValueCounts);
     const ageValueGrid = gridAxes === null ? null : { axes: gridAxes, counts: gridCountsOf(valuesByAgeBin, gridAxes) };
@@ -294,7 +299,7 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
     }
     let holdout: HoldoutCells | null = null;
     if (withHoldout && source.kind === 'campaigns') {
-      const arm = await shiftsAndCellAggregates(trx, { ...request, source: { ...source, arm: 'holdout' } });
+      const arm = kept?.holdout ?? (await shiftsAndCellAggregates(trx, { ...request, source: { ...source, arm: 'holdout' } }));
       holdout = { cells: arm.cells, shifts: arm.shifts };
     }
     const earlierContactsChanged = source.kind === 'campaigns' && (await earlierContactsChangedSinceLastSnapshot(trx, reportId, source.campaignIds));
