@@ -111,17 +111,32 @@ export function positiveLogSummaries(input: {
     total = addAll(input.cells.map((_cell, index) => index));
   }
   const cache = new Map<string, LogSums | null>();
+  // Per set of dimensions, the indexes of the cells of each label combination, in cell order
+  // (one pass over the cells per set, instead of one per group).
+  const membersByDimensions = new Map<string, Map<string, number[]>>();
+  const membersOf = (dimensions: readonly string[], labels: readonly string[]): number[] => {
+    const dimensionsKey = JSON.stringify(dimensions);
+    let byLabels = membersByDimensions.get(dimensionsKey);
+    if (!byLabels) {
+      const positions = dimensions.map((dimension) => input.dimensions.indexOf(dimension));
+      byLabels = new Map();
+      for (let index = 0; index < input.cells.length; index++) {
+        const cellLabels = (input.cells[index] as { labels: string[] }).labels;
+        const labelsKey = JSON.stringify(positions.map((position) => cellLabels[position]));
+        let members = byLabels.get(labelsKey);
+        if (!members) byLabels.set(labelsKey, (members = []));
+        members.push(index);
+      }
+      membersByDimensions.set(dimensionsKey, byLabels);
+    }
+    return byLabels.get(JSON.stringify(labels)) ?? [];
+  };
   return {
     total,
     of(group) {
       const key = JSON.stringify([group.dimensions, group.labels]);
       if (cache.has(key)) return cache.get(key) ?? null;
-      const positions = group.dimensions.map((dimension) => input.dimensions.indexOf(dimension));
-      const members: number[] = [];
-      input.cells.forEach((cell, index) => {
-        if (positions.every((position, at) => cell.labels[position] === group.labels[at])) members.push(index);
-      });
-      const sums = addAll(members);
+      const sums = addAll(membersOf(group.dimensions, group.labels));
       cache.set(key, sums);
       return sums;
     },
