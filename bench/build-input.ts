@@ -7,7 +7,8 @@
  * build can be profiled and compared before and after a change.
  */
 import { emptyCell, ageBandOf, compareLabelLists, compareText, shiftsFromTotals, valueCountsOf, gridCountsOf, binIndex } from '../src/segments/index.js';
-import type { AgeBinValueCount, AgeCount, CampaignCellCount, CellAggregate, Shifts, ValueCount } from '../src/segments/index.js';
+import type { AgeBinValueCount } from '../src/segments/age-value-grid.js';
+import type { AgeCount, CampaignCellCount, CellAggregate, Shifts, ValueCount } from '../src/segments/index.js';
 import { exactTotals } from '../src/segments/shifted-sums.js';
 import { plausibleAgeOf } from '../src/segments/population.js';
 import { ageInYears } from '../src/ingest/fields.js';
