@@ -9,9 +9,16 @@ import type { SnapshotInput } from './input.js';
  * per age or value), distinct lists few (the cells).
  */
 function sortedCounts<T extends { labels: string[] }>(rows: readonly T[], tail: (row: T) => number | null): T[] {
+  // Rows often share their cell's label list: its text is then made once.
+  const keys = new Map<readonly string[], string>();
+  const keyOf = (labels: readonly string[]) => {
+    let key = keys.get(labels);
+    if (key === undefined) keys.set(labels, (key = JSON.stringify(labels)));
+    return key;
+  };
   const distinct = new Map<string, readonly string[]>();
   for (const row of rows) {
-    const key = JSON.stringify(row.labels);
+    const key = keyOf(row.labels);
     if (!distinct.has(key)) distinct.set(key, row.labels);
   }
   const ordered = [...distinct].sort((left, right) => compareLabelLists(left[1], right[1]));
@@ -22,7 +29,7 @@ function sortedCounts<T extends { labels: string[] }>(rows: readonly T[], tail: 
     if (index > 0 && compareLabelLists((ordered[index - 1] as [string, readonly string[]])[1], labels) !== 0) rank += 1;
     rankOf.set(key, rank);
   });
-  const keyed = rows.map((row) => ({ row, rank: rankOf.get(JSON.stringify(row.labels)) as number, tail: tail(row) ?? -1 }));
+  const keyed = rows.map((row) => ({ row, rank: rankOf.get(keyOf(row.labels)) as number, tail: tail(row) ?? -1 }));
   keyed.sort((left, right) => left.rank - right.rank || left.tail - right.tail);
   return keyed.map((entry) => entry.row);
 }

@@ -139,12 +139,14 @@ function countsIfExpandable(counts: Map<number, number> | undefined, n: number):
  * descriptives of value and age and their correlation.
  */
 export function dimensionProfiles(input: ProfileInput): DimensionProfile[] {
+  // In value order, so each label's counts arrive ascending and are not sorted again one by one.
+  const valueCounts = [...input.valueCounts].sort((left, right) => left.valueCents - right.valueCents);
   return input.dimensions.map((dimension, index) => {
     const groups = input.oneWay.filter((group) => group.dimensions.length === 1 && group.dimensions[0] === dimension);
     const ages = new Map<string, Map<number, number>>();
     for (const entry of input.ageCounts) if (entry.age !== null) addCount(ages, entry.labels[index] as string, entry.age, entry.count);
     const values = new Map<string, Map<number, number>>();
-    for (const entry of input.valueCounts) addCount(values, entry.labels[index] as string, entry.valueCents / 100, entry.count);
+    for (const entry of valueCounts) addCount(values, entry.labels[index] as string, entry.valueCents / 100, entry.count);
     const table = frequencyTable(groups.map((group) => ({ label: group.labels[0] as string, count: group.stats.n })));
     const rows = table.ok ? table.value : [];
     const byLabel = new Map(groups.map((group) => [group.labels[0] as string, group]));
