@@ -3,7 +3,7 @@
  * snapshot, on the benchmark's report (bench/run.ts: 4 campaigns, age band × region × channel
  * with every cross) made in code by bench/build-input.ts, and on a wide report (two dimensions
  * of 100 labels each, crossed). Each build compares with a previous snapshot of the same data,
- * as a repeated refresh does. --labels sets the wide report's labels per dimension (default 100). Prints medians (and min, max) over --runs builds.
+ * as a repeated refresh does. Wall time and the process's CPU time (less disturbed on a shared machine). --labels sets the wide report's labels per dimension (default 100). Prints medians (and min, max) over --runs builds.
  *
  *   npx tsx bench/build-profile.ts [--contacts 100000,1000000] [--runs 5] [--cases bench,wide]
  *   npx tsx --cpu-prof --cpu-prof-dir /tmp/prof bench/build-profile.ts --contacts 1000000 --cases bench
@@ -39,23 +39,27 @@ for (const name of cases) {
     const madeMs = performance.now() - made;
     const previousSnapshot = buildSnapshot(input);
     const builds: number[] = [];
+    const cpu: number[] = [];
     const serialisations: number[] = [];
     let segments = 0;
     let bytes = 0;
     for (let run = 0; run < runs; run++) {
+      const cpuStarted = process.cpuUsage();
       const started = performance.now();
       const snapshot = buildSnapshot({ ...input, identity: { ...input.identity, sequence: 2 }, previousSnapshot });
       const built = performance.now();
       const text = JSON.stringify(snapshot);
       builds.push(built - started);
       serialisations.push(performance.now() - built);
+      const used = process.cpuUsage(cpuStarted);
+      cpu.push((used.user + used.system) / 1000);
       segments = snapshot.segments.length;
       bytes = text.length;
     }
     const totals = builds.map((build, index) => build + (serialisations[index] as number));
     console.log(
       `${name} ${contacts.toLocaleString('en-US')} contacts: ${input.cells.length} cells, ${input.valueCounts.length} value counts, ${input.strata?.length ?? 0} strata, ${segments} segments, ${(bytes / 1024).toFixed(0)} KiB; ` +
-        `input made in ${ms(madeMs)}\n  buildSnapshot ${spread(builds)}, JSON.stringify ${spread(serialisations)}, both ${spread(totals)}`,
+        `input made in ${ms(madeMs)}\n  buildSnapshot ${spread(builds)}, JSON.stringify ${spread(serialisations)}, both ${spread(totals)}; CPU time of both ${spread(cpu)}`,
     );
   }
 }
