@@ -76,8 +76,11 @@ export function positiveLogSummaries(input: {
   const shift = positives > 0 ? logTotal / positives : 0;
 
   const perCell = new Map<string, MutableLogSums>();
+  // Value counts often share their cell's label list: its text is then made once.
+  const keys = new Map<readonly string[], string>();
   for (const entry of valueCounts) {
-    const key = JSON.stringify(entry.labels);
+    let key = keys.get(entry.labels);
+    if (key === undefined) keys.set(entry.labels, (key = JSON.stringify(entry.labels)));
     const sums = perCell.get(key) ?? emptySums();
     addValue(sums, entry.valueCents, entry.count, shift);
     perCell.set(key, sums);
