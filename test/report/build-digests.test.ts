@@ -11,6 +11,7 @@ import { createHash } from 'node:crypto';
 import fs from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { buildSnapshot, type SnapshotInput } from '../../src/report/snapshot/index.js';
+import { ageGridAxis } from '../../src/report/snapshot/profiles.js';
 import { benchReportInput, wideReportInput } from '../../bench/build-input.js';
 
 const digests = JSON.parse(fs.readFileSync(new URL('../fixtures/snapshot-build-digests.json', import.meta.url), 'utf8')) as Record<string, Record<string, string>>;
@@ -38,4 +39,15 @@ describe('snapshot build against stored digests', () => {
       expect(digestsOf(second)).toEqual(digests[`${name}/second`]);
     }, 60_000);
   }
+});
+
+describe('inputs with a count per cell and age for ten thousand cells', () => {
+  it('the age axis of the age × value grid spans the ages without spreading them into one call', () => {
+    // 10,000 cells × 60 ages, as two crossed 100-label dimensions give; ages 20…79, one cell also at 18 and 95.
+    const ageCounts = Array.from({ length: 600_000 }, (_unused, index) => ({ labels: [`c${index % 10_000}`], age: 20 + Math.floor(index / 10_000), count: 1 }));
+    ageCounts.push({ labels: ['c0'], age: 18, count: 2 }, { labels: ['c1'], age: 95, count: 1 }, { labels: ['c2'], age: 99, count: 0 });
+    const axis = ageGridAxis(ageCounts);
+    expect(axis?.low).toBe(18);
+    expect(axis?.high).toBe(95);
+  });
 });

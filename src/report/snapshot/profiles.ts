@@ -213,9 +213,18 @@ export function populationHistograms(
 }
 
 function axisOf(entries: ReadonlyArray<{ value: number; count: number }>, histogramBins: number): GridAxis | null {
-  const present = entries.filter((entry) => entry.count > 0).map((entry) => entry.value);
-  if (present.length === 0) return null;
-  return { low: Math.min(...present), high: Math.max(...present), bins: Math.min(histogramBins, MAX_GRID_BINS) };
+  // Folded pair by pair: spreading hundreds of thousands of entries (a count per cell and age) into Math.min overflows the stack.
+  let low = Number.POSITIVE_INFINITY;
+  let high = Number.NEGATIVE_INFINITY;
+  let present = 0;
+  for (const entry of entries) {
+    if (!(entry.count > 0)) continue;
+    low = Math.min(low, entry.value);
+    high = Math.max(high, entry.value);
+    present += 1;
+  }
+  if (present === 0) return null;
+  return { low, high, bins: Math.min(histogramBins, MAX_GRID_BINS) };
 }
 
 /**
