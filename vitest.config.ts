@@ -5,7 +5,7 @@ import { defineConfig } from 'vitest/config';
 const UNIT = [
   'test/stats/**/*.test.ts',
   'test/ingest/{body-spool,fields,header-check,parse,text-decoding,upload-settings}.test.ts',
-  'test/report/{calibration,compute,csv,definition,format,segment-table,uplift-analysis,value-logs,verdict,withholding,wording-grammar}.test.ts',
+  'test/report/{build-digests,calibration,compute,csv,definition,format,segment-table,uplift-analysis,value-logs,verdict,withholding,wording-grammar}.test.ts',
   'test/segments/{dimensions,rollup}.test.ts',
   'test/view/{charts,html,interval-chart,page,scale,svg-safety,text-width}.test.ts',
   'test/calibration/**/*.test.ts',

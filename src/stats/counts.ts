@@ -41,9 +41,21 @@ export function mergedCounts(counts: ReadonlyArray<{ readonly value: number; rea
     counts.map((entry) => entry.value),
   );
   for (const entry of counts) requireCount('count', entry.count);
+  // Distinct values already ascending, none with count 0 (what callers that merged them pass): nothing to merge.
+  let settled = true;
+  for (let index = 0; index < counts.length && settled; index++) {
+    const entry = counts[index] as CountedValue;
+    settled = entry.count > 0 && (index === 0 || (counts[index - 1] as CountedValue).value < entry.value);
+  }
+  if (settled) return counts.map((entry) => ({ value: entry.value, count: entry.count }));
   const merged = new Map<number, number>();
   for (const entry of counts) if (entry.count > 0) merged.set(entry.value, (merged.get(entry.value) ?? 0) + entry.count);
-  return [...merged].map(([value, count]) => ({ value, count })).sort((left, right) => left.value - right.value);
+  const entries = [...merged].map(([value, count]) => ({ value, count }));
+  // Callers often pass values already ascending; the sort is then skipped (values are distinct here).
+  for (let index = 1; index < entries.length; index++) {
+    if ((entries[index - 1] as CountedValue).value > (entries[index] as CountedValue).value) return entries.sort((left, right) => left.value - right.value);
+  }
+  return entries;
 }
 
 /** How many values the counts stand for. */

@@ -179,6 +179,8 @@ export interface InteractionSpread {
  */
 interface SemiDefiniteFactor {
   readonly lower: Float64Array[];
+  /** Lᵀ by rows (upper[i][k] = lower[k][i]), so the back substitution reads memory in order. */
+  readonly upper: Float64Array[];
   readonly dropped: boolean[];
   readonly rank: number;
 }
@@ -208,7 +210,12 @@ function factorSemiDefinite(matrix: readonly Float64Array[]): SemiDefiniteFactor
       target[column] = sum / root;
     }
   }
-  return { lower, dropped, rank };
+  const upper = lower.map((_row, row) => {
+    const line = new Float64Array(size);
+    for (let k = row; k < size; k++) line[k] = (lower[k] as Float64Array)[row] as number;
+    return line;
+  });
+  return { lower, upper, dropped, rank };
 }
 
 /** z with L z = b (the dropped variables held at 0). */
@@ -232,9 +239,10 @@ function solveFactored(factor: SemiDefiniteFactor, right: ArrayLike<number>): Fl
   const x = new Float64Array(size);
   for (let row = size - 1; row >= 0; row--) {
     if (factor.dropped[row]) continue;
+    const upperRow = factor.upper[row] as Float64Array;
     let sum = z[row] as number;
-    for (let k = row + 1; k < size; k++) sum -= ((factor.lower[k] as Float64Array)[row] as number) * (x[k] as number);
-    x[row] = sum / ((factor.lower[row] as Float64Array)[row] as number);
+    for (let k = row + 1; k < size; k++) sum -= (upperRow[k] as number) * (x[k] as number);
+    x[row] = sum / (upperRow[row] as number);
   }
   return x;
 }

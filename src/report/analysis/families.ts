@@ -39,14 +39,28 @@ export function campaignStrata(counts: readonly CampaignCellCount[], dimensions:
     campaigns.set(count.campaign, { n: total.n + count.n, conversions: total.conversions + count.conversions });
   }
   if (campaigns.size < 2) return () => null;
-  return (group) => {
-    const positions = group.dimensions.map((dimension) => dimensions.indexOf(dimension));
-    const inSegment = new Map<string, { n: number; conversions: number }>();
-    for (const count of counts) {
-      if (!positions.every((position, index) => count.labels[position] === group.labels[index])) continue;
-      const sum = inSegment.get(count.campaign) ?? { n: 0, conversions: 0 };
-      inSegment.set(count.campaign, { n: sum.n + count.n, conversions: sum.conversions + count.conversions });
+  // Per set of dimensions, each label combination's units and conversions per campaign, summed
+  // in one pass over the counts (instead of one pass per segment).
+  const byDimensions = new Map<string, Map<string, Map<string, { n: number; conversions: number }>>>();
+  const campaignSums = (group: Group) => {
+    const dimensionsKey = JSON.stringify(group.dimensions);
+    let byLabels = byDimensions.get(dimensionsKey);
+    if (!byLabels) {
+      const positions = group.dimensions.map((dimension) => dimensions.indexOf(dimension));
+      byLabels = new Map();
+      for (const count of counts) {
+        const labelsKey = JSON.stringify(positions.map((position) => count.labels[position]));
+        let inSegment = byLabels.get(labelsKey);
+        if (!inSegment) byLabels.set(labelsKey, (inSegment = new Map()));
+        const sum = inSegment.get(count.campaign) ?? { n: 0, conversions: 0 };
+        inSegment.set(count.campaign, { n: sum.n + count.n, conversions: sum.conversions + count.conversions });
+      }
+      byDimensions.set(dimensionsKey, byLabels);
     }
+    return byLabels.get(JSON.stringify(group.labels)) ?? new Map<string, { n: number; conversions: number }>();
+  };
+  return (group) => {
+    const inSegment = campaignSums(group);
     return [...campaigns].map(([campaign, total]) => {
       const own = inSegment.get(campaign) ?? { n: 0, conversions: 0 };
       return { x1: own.conversions, n1: own.n, x2: total.conversions - own.conversions, n2: total.n - own.n };

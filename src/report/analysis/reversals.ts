@@ -36,23 +36,39 @@ export function findReversals(input: ReversalInput): Array<Omit<Reversal, 'sente
     dimensions.forEach((within, withinIndex) => {
       if (withinIndex === index) return;
       const pairs = groupBy(cells, dimensions, [index, withinIndex]);
-      const cell = new Map(pairs.map((group) => [JSON.stringify([group.labels[0], group.labels[1]]), group]));
       const levels = [...new Set(pairs.map((group) => group.labels[1] as string))];
-      for (const first of overall) {
-        for (const second of overall) {
-          const firstMetric = metricOf(first);
-          const secondMetric = metricOf(second);
-          if (firstMetric === null || secondMetric === null || !(firstMetric > secondMetric)) continue;
-          const higher = first.labels[0] as string;
+      const levelIndex = new Map(levels.map((level, position) => [level, position]));
+      // Each value's metric within each level, computed once (null: no such cell, or too small).
+      const withinLevels = new Map<string, Array<number | null>>();
+      for (const group of pairs) {
+        const label = group.labels[0] as string;
+        let row = withinLevels.get(label);
+        if (!row) withinLevels.set(label, (row = levels.map(() => null)));
+        row[levelIndex.get(group.labels[1] as string) as number] = metricOf(group);
+      }
+      const overallMetrics = overall.map(metricOf);
+      for (const [firstIndex, first] of overall.entries()) {
+        const firstMetric = overallMetrics[firstIndex] ?? null;
+        if (firstMetric === null) continue;
+        const higher = first.labels[0] as string;
+        const higherLevels = withinLevels.get(higher);
+        for (const [secondIndex, second] of overall.entries()) {
+          const secondMetric = overallMetrics[secondIndex] ?? null;
+          if (secondMetric === null || !(firstMetric > secondMetric)) continue;
           const lower = second.labels[0] as string;
+          const lowerLevels = withinLevels.get(lower);
           let compared = 0;
           let reversedEverywhere = true;
-          for (const level of levels) {
-            const higherWithin = metricOf(cell.get(JSON.stringify([higher, level])));
-            const lowerWithin = metricOf(cell.get(JSON.stringify([lower, level])));
+          for (let level = 0; level < levels.length && higherLevels !== undefined && lowerLevels !== undefined; level++) {
+            const higherWithin = higherLevels[level] ?? null;
+            const lowerWithin = lowerLevels[level] ?? null;
             if (higherWithin === null || lowerWithin === null) continue;
             compared += 1;
-            if (!(higherWithin < lowerWithin)) reversedEverywhere = false;
+            if (!(higherWithin < lowerWithin)) {
+              // one level not reversed settles it
+              reversedEverywhere = false;
+              break;
+            }
           }
           if (reversedEverywhere && compared >= MIN_LEVELS_FOR_REVERSAL) {
             found.push({

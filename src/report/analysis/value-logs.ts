@@ -76,8 +76,11 @@ export function positiveLogSummaries(input: {
   const shift = positives > 0 ? logTotal / positives : 0;
 
   const perCell = new Map<string, MutableLogSums>();
+  // Value counts often share their cell's label list: its text is then made once.
+  const keys = new Map<readonly string[], string>();
   for (const entry of valueCounts) {
-    const key = JSON.stringify(entry.labels);
+    let key = keys.get(entry.labels);
+    if (key === undefined) keys.set(entry.labels, (key = JSON.stringify(entry.labels)));
     const sums = perCell.get(key) ?? emptySums();
     addValue(sums, entry.valueCents, entry.count, shift);
     perCell.set(key, sums);
@@ -111,17 +114,32 @@ export function positiveLogSummaries(input: {
     total = addAll(input.cells.map((_cell, index) => index));
   }
   const cache = new Map<string, LogSums | null>();
+  // Per set of dimensions, the indexes of the cells of each label combination, in cell order
+  // (one pass over the cells per set, instead of one per group).
+  const membersByDimensions = new Map<string, Map<string, number[]>>();
+  const membersOf = (dimensions: readonly string[], labels: readonly string[]): number[] => {
+    const dimensionsKey = JSON.stringify(dimensions);
+    let byLabels = membersByDimensions.get(dimensionsKey);
+    if (!byLabels) {
+      const positions = dimensions.map((dimension) => input.dimensions.indexOf(dimension));
+      byLabels = new Map();
+      for (let index = 0; index < input.cells.length; index++) {
+        const cellLabels = (input.cells[index] as { labels: string[] }).labels;
+        const labelsKey = JSON.stringify(positions.map((position) => cellLabels[position]));
+        let members = byLabels.get(labelsKey);
+        if (!members) byLabels.set(labelsKey, (members = []));
+        members.push(index);
+      }
+      membersByDimensions.set(dimensionsKey, byLabels);
+    }
+    return byLabels.get(JSON.stringify(labels)) ?? [];
+  };
   return {
     total,
     of(group) {
       const key = JSON.stringify([group.dimensions, group.labels]);
       if (cache.has(key)) return cache.get(key) ?? null;
-      const positions = group.dimensions.map((dimension) => input.dimensions.indexOf(dimension));
-      const members: number[] = [];
-      input.cells.forEach((cell, index) => {
-        if (positions.every((position, at) => cell.labels[position] === group.labels[at])) members.push(index);
-      });
-      const sums = addAll(members);
+      const sums = addAll(membersOf(group.dimensions, group.labels));
       cache.set(key, sums);
       return sums;
     },

@@ -139,12 +139,14 @@ function countsIfExpandable(counts: Map<number, number> | undefined, n: number):
  * descriptives of value and age and their correlation.
  */
 export function dimensionProfiles(input: ProfileInput): DimensionProfile[] {
+  // In value order, so each label's counts arrive ascending and are not sorted again one by one.
+  const valueCounts = [...input.valueCounts].sort((left, right) => left.valueCents - right.valueCents);
   return input.dimensions.map((dimension, index) => {
     const groups = input.oneWay.filter((group) => group.dimensions.length === 1 && group.dimensions[0] === dimension);
     const ages = new Map<string, Map<number, number>>();
     for (const entry of input.ageCounts) if (entry.age !== null) addCount(ages, entry.labels[index] as string, entry.age, entry.count);
     const values = new Map<string, Map<number, number>>();
-    for (const entry of input.valueCounts) addCount(values, entry.labels[index] as string, entry.valueCents / 100, entry.count);
+    for (const entry of valueCounts) addCount(values, entry.labels[index] as string, entry.valueCents / 100, entry.count);
     const table = frequencyTable(groups.map((group) => ({ label: group.labels[0] as string, count: group.stats.n })));
     const rows = table.ok ? table.value : [];
     const byLabel = new Map(groups.map((group) => [group.labels[0] as string, group]));
@@ -211,9 +213,18 @@ export function populationHistograms(
 }
 
 function axisOf(entries: ReadonlyArray<{ value: number; count: number }>, histogramBins: number): GridAxis | null {
-  const present = entries.filter((entry) => entry.count > 0).map((entry) => entry.value);
-  if (present.length === 0) return null;
-  return { low: Math.min(...present), high: Math.max(...present), bins: Math.min(histogramBins, MAX_GRID_BINS) };
+  // Folded pair by pair: spreading hundreds of thousands of entries (a count per cell and age) into Math.min overflows the stack.
+  let low = Number.POSITIVE_INFINITY;
+  let high = Number.NEGATIVE_INFINITY;
+  let present = 0;
+  for (const entry of entries) {
+    if (!(entry.count > 0)) continue;
+    low = Math.min(low, entry.value);
+    high = Math.max(high, entry.value);
+    present += 1;
+  }
+  if (present === 0) return null;
+  return { low, high, bins: Math.min(histogramBins, MAX_GRID_BINS) };
 }
 
 /**
