@@ -12,7 +12,8 @@ import type { AgeCount, CampaignCellCount, CellAggregate, Shifts, ValueCount } f
 import { exactTotals } from '../src/segments/shifted-sums.js';
 import { plausibleAgeOf } from '../src/segments/population.js';
 import { ageInYears } from '../src/ingest/fields.js';
-import { DEFAULT_EQUIVALENCE_MARGIN, type ReportDefinition } from '../src/report/definition/index.js';
+import type { ReportDefinition } from '../src/report/definition/index.js';
+import { simulationDefinition } from './calibration/simulate.js';
 import { ageGridAxis, ageValueGridAxes, isExpandable } from '../src/report/snapshot/profiles.js';
 import type { SnapshotInput } from '../src/report/snapshot/index.js';
 import { seededRandom } from '../seed/generate.js';
@@ -177,26 +178,11 @@ function inputOf(units: UnitGroups, definition: ReportDefinition, campaigns: num
 }
 
 /** The stored definition of the benchmark's report (bench/run.ts): the defaults, every pair crossed. */
+/** The product's defaults (the simulated reports' definition) over these campaigns, with every pair of dimensions crossed. */
 function reportDefinition(name: string, campaignIds: string[], dimensions: string[]): ReportDefinition {
   const crosses: Array<[string, string]> = [];
   dimensions.forEach((first, index) => dimensions.slice(index + 1).forEach((second) => crosses.push([first, second])));
-  return {
-    name,
-    source: { campaign_ids: campaignIds },
-    dimensions,
-    crosses,
-    age_bands: [18, 25, 35, 45, 55, 65],
-    min_n: 30,
-    confidence: 0.95,
-    equivalence_margin: DEFAULT_EQUIVALENCE_MARGIN,
-    value_equivalence_margin: null,
-    adjustment: 'bh',
-    value_basis: 'per_unit',
-    rank_by: 'conversion_rate',
-    rank_order: 'lower_bound',
-    refresh: 'manual',
-    economics: null,
-  };
+  return simulationDefinition(dimensions, { name, source: { campaign_ids: campaignIds }, crosses });
 }
 
 const CAMPAIGNS = 4;
