@@ -13,6 +13,7 @@ import * as snapshotRedaction from './0007_snapshot_redaction.js';
 import * as contactHoldout from './0008_contact_holdout.js';
 import * as contactValueCounts from './0009_contact_value_counts.js';
 import * as dropContactCellIndex from './0010_drop_contact_cell_index.js';
+import * as postgresContactKeys from './0011_postgres_contact_keys.js';
 
 export const migrations: Record<string, Migration> = {
   '0001_records': records,
@@ -25,4 +26,5 @@ export const migrations: Record<string, Migration> = {
   '0008_contact_holdout': contactHoldout,
   '0009_contact_value_counts': contactValueCounts,
   '0010_drop_contact_cell_index': dropContactCellIndex,
+  '0011_postgres_contact_keys': postgresContactKeys,
 };
