@@ -7,6 +7,7 @@ import path from 'node:path';
 import SqliteDatabase from 'better-sqlite3';
 import { Kysely, PostgresDialect, SqliteDialect, sql, type LogEvent } from 'kysely';
 import pg from 'pg';
+import { registerCopyClients } from './pg-copy.js';
 import type { Logger } from '../logger.js';
 import type { DatabaseSettings } from '../config.js';
 import type { Database } from './tables.js';
@@ -125,6 +126,7 @@ async function openPostgres(settings: Extract<DatabaseSettings, { dialect: 'post
     types: pgTypes,
     ...(schema !== 'public' ? { options: `-c search_path=${schema}` } : {}),
   });
+  registerCopyClients(pool);
   const db = new Kysely<Database>({ dialect: new PostgresDialect({ pool }), ...(log ? { log } : {}) });
   return { dialect: 'postgres', db, readDb: db, close: () => db.destroy() };
 }

@@ -12,17 +12,16 @@
  * prepared statement costs about 1.2 µs, half the cost per key of an `in (…)` list. Both
  * spellings of each statement sit side by side below and write the same columns.
  *
- * On PostgreSQL both the inserts and the look-ups pass each column or key list as ONE array
- * parameter (`unnest`), so a batch is one short statement to parse and plan. What is
- * left of a contacts upload there is the server's own work per row: a trace of an upload of
- * 100,000 contacts spent about three quarters of its time inside the inserts (three B-tree
- * indexes with text keys and two foreign-key checks per row; the same INSERT … SELECT run in
- * psql costs as much), which no spelling of the statement removes.
+ * On PostgreSQL the look-ups pass each key list as ONE array parameter (`unnest`), so a batch
+ * is one short statement to parse and plan, and the inserts are one COPY per batch. What was
+ * left of a contacts upload there was the server's own work per row (two foreign-key triggers
+ * and text keys compared by locale), which migration 0011 removes.
  */
 import type SqliteDatabase from 'better-sqlite3';
 import { sql, type Transaction } from 'kysely';
 import { subtractContactsOfCustomers } from '../aggregates/customer-contacts.js';
 import type { Executor } from '../db/executor.js';
+import { copyRows } from '../db/pg-copy.js';
 import { prepared } from '../db/prepared.js';
 import type { CampaignContactsTable, CustomersTable, Database, IngestsTable, RejectedRowsTable, SalesTable } from '../db/tables.js';
 
@@ -75,35 +74,10 @@ async function insertMany<T extends keyof Database>(store: UploadStore, table: T
     }
     return;
   }
-  // One array parameter per column, unnested into rows by the server: with one parameter per
-  // value, PostgreSQL spent most of a contacts upload binding and planning statements of tens of
-  // thousands of parameters.
-  const types = await columnTypes(store.trx, table);
-  for (const part of chunk(rows as unknown as Array<Record<string, unknown>>, ROWS_PER_ARRAY_INSERT)) {
-    const arrays = columns.map((column) => {
-      const type = types.get(column);
-      if (type === undefined) throw new Error(`${table} has no column ${column}`);
-      return sql`cast(${part.map((row) => row[column] ?? null)} as ${sql.raw(`${type}[]`)})`;
-    });
-    await sql`insert into ${sql.table(table)} (${sql.join(columns.map((column) => sql.ref(column)))}) select * from unnest(${sql.join(arrays)})`.execute(store.trx);
-  }
-}
-
-const ROWS_PER_ARRAY_INSERT = 5_000;
-
-// The column types of the tables uploads write, read once from the catalogue: the same in every
-// schema, since every schema is made by the same migrations.
-const columnTypesByTable = new Map<string, Map<string, string>>();
-
-async function columnTypes(db: Executor, table: string): Promise<Map<string, string>> {
-  let types = columnTypesByTable.get(table);
-  if (types === undefined) {
-    const { rows } = await sql<{ column_name: string; data_type: string }>`
-      select column_name, data_type from information_schema.columns where table_schema = current_schema() and table_name = ${table}`.execute(db);
-    types = new Map(rows.map((row) => [row.column_name, row.data_type]));
-    columnTypesByTable.set(table, types);
-  }
-  return types;
+  // One COPY per batch (src/db/pg-copy.ts): the server parses the rows' text itself, where an
+  // INSERT … SELECT FROM unnest(…) of one array parameter per column spent most of its time
+  // binding, parsing and casting the arrays.
+  await copyRows(store.trx, table, columns, rows as unknown as Array<Record<string, unknown>>);
 }
 
 /** `update table set c = @c, … where k = @k and …`, for binding a row object by its keys. */

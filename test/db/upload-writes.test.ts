@@ -14,7 +14,7 @@ import { sql } from 'kysely';
 import { createTestDatabase, TEST_DIALECTS, testDatabaseSettings, dropTestDatabase, type TestDatabase } from '../support/database.js';
 
 // Text an array literal or a CSV would have to escape, and text outside the BMP.
-const AWKWARD_TEXTS = ['NULL', 'a,b', '{x}', 'say "hi"', 'back\\slash', ' padded ', 'Zürich', '東京', '🦊 fox', 'e\u0301', ''];
+const AWKWARD_TEXTS = ['NULL', 'a,b', '{x}', 'say "hi"', 'back\\slash', ' padded ', 'Zürich', '東京', '🦊 fox', 'e\u0301', '', 'tab\there', 'two\nlines', 'carriage\rreturn', '\\N', 'ends in backslash\\'];
 
 describe.each(TEST_DIALECTS)('upload writes on %s', (dialect) => {
   let database: TestDatabase | undefined;
