@@ -8,7 +8,8 @@
  * Steps: 1. upload of the customers CSV and the contacts CSVs over HTTP; 2. a report refresh
  * over the stored rows (all one-way and two-way segments of age band, region and channel);
  * 3. the BI pull of the segments CSV under load (autocannon, 50 connections, loopback); 4. the
- * floors (bench/floors.ts): a bare INSERT of the same contacts into the service's own tables,
+ * floors (bench/floors.ts): a bare write of the same contacts into the service's own tables
+ * (SQLite: a prepared INSERT per row; PostgreSQL: one COPY per file), still called bare INSERT,
  * and one bare GROUP BY of the finest cells over the same stored rows, on each engine, with
  * each step's ratio to its floor; 5. the analyst's script (bench/analyst/segment_table.py,
  * pandas + SciPy + statsmodels) computing the same segment table from the same CSV files,
@@ -256,7 +257,7 @@ async function benchSize(engine: Engine, files: BenchFiles): Promise<SizeResult>
         }
       }
       floors = { insertSeconds: median(insertTimes), groupBySeconds: median(groupTimes) };
-      console.log(`floor, bare INSERT of the contacts: ${seconds(floors.insertSeconds)}; contacts upload is ${(median(contactTimes) / floors.insertSeconds).toFixed(2)}× that`);
+      console.log(`floor, bare INSERT of the contacts (${engine === 'postgres' ? 'COPY per file' : 'prepared INSERT per row'}): ${seconds(floors.insertSeconds)}; contacts upload is ${(median(contactTimes) / floors.insertSeconds).toFixed(2)}× that`);
       if (refresh) console.log(`floor, bare GROUP BY: ${seconds(floors.groupBySeconds)}; refresh is ${(refresh.seconds / floors.groupBySeconds).toFixed(2)}× that`);
       else console.log(`floor, bare GROUP BY: ${seconds(floors.groupBySeconds)}`);
     }
