@@ -1,48 +1,48 @@
 /**
  * PostgreSQL's bulk path: `COPY … FROM STDIN` inside a kysely transaction. kysely hides the pg
- * client a transaction runs on, so the pools opened by connect.ts register their clients by
- * server process id, and a transaction finds its own by asking the server for its process id
- * (once per transaction). The COPY then runs on that same client, between kysely's queries, so
- * it belongs to the transaction: a failure rolls it back like any other statement.
+ * client a transaction runs on, so the pools opened by connect.ts let their clients recognise a
+ * marker query carrying a one-off token: a transaction runs one through kysely (once per
+ * transaction), the client that receives it records itself under the token, and the COPY then
+ * runs on that same client between kysely's queries, so it belongs to the transaction: a
+ * failure rolls it back like any other statement. (The server's process id would name the
+ * connection too, but not behind a pooler such as PgBouncer, which docs/SCALING.md suggests.)
  *
  * Rows go in COPY's text format. Measured on 250,000 contacts: the rows as one `INSERT … SELECT
  * FROM unnest(…)` per 5,000 spent most of their time binding, parsing and casting the arrays
  * (docs/SCALING.md has the figures).
  */
+import { randomUUID } from 'node:crypto';
 import { pipeline } from 'node:stream/promises';
 import { Readable } from 'node:stream';
 import { sql, type Transaction } from 'kysely';
 import type pg from 'pg';
 import { from as copyFrom } from 'pg-copy-streams';
 
-type RegisteredClient = pg.PoolClient & { processID?: number | null };
-
-// Process ids are unique on one server at any moment; a process talking to two servers at once
-// could see the same id twice, so a look-up checks that it found one client only.
-const clientsByProcessId = new Map<number, RegisteredClient[]>();
-const clientsOfTransactions = new WeakMap<object, RegisteredClient>();
+const MARKER = 'select 1 as copy_client -- ';
+const clientsByToken = new Map<string, pg.PoolClient>();
+const clientsOfTransactions = new WeakMap<object, pg.PoolClient>();
 
 /** Makes the clients of `pool` findable by `copyRows`; call once, before the pool is used. */
 export function registerCopyClients(pool: pg.Pool): void {
-  pool.on('connect', (client: RegisteredClient) => {
-    const id = client.processID;
-    if (typeof id !== 'number') return;
-    clientsByProcessId.set(id, [...(clientsByProcessId.get(id) ?? []), client]);
-    client.once('end', () => {
-      const others = (clientsByProcessId.get(id) ?? []).filter((other) => other !== client);
-      if (others.length === 0) clientsByProcessId.delete(id);
-      else clientsByProcessId.set(id, others);
-    });
+  pool.on('connect', (client: pg.PoolClient) => {
+    const query = client.query.bind(client) as (...args: unknown[]) => unknown;
+    const recognising = (...args: unknown[]): unknown => {
+      const text = args[0];
+      if (typeof text === 'string' && text.startsWith(MARKER)) clientsByToken.set(text.slice(MARKER.length), client);
+      return query(...args);
+    };
+    client.query = recognising as typeof client.query;
   });
 }
 
-async function clientOf<T>(trx: Transaction<T>): Promise<RegisteredClient> {
+async function clientOf<T>(trx: Transaction<T>): Promise<pg.PoolClient> {
   const known = clientsOfTransactions.get(trx);
   if (known !== undefined) return known;
-  const { rows } = await sql<{ pid: number }>`select pg_backend_pid() as pid`.execute(trx);
-  const candidates = clientsByProcessId.get(Number(rows[0]?.pid)) ?? [];
-  if (candidates.length !== 1) throw new Error(`COPY needs the transaction's own connection, and ${candidates.length} registered connections have its server process id`);
-  const client = candidates[0] as RegisteredClient;
+  const token = randomUUID();
+  await sql.raw(`${MARKER}${token}`).execute(trx);
+  const client = clientsByToken.get(token);
+  clientsByToken.delete(token);
+  if (client === undefined) throw new Error('COPY needs the connection of its transaction, which was not opened by openDatabase');
   clientsOfTransactions.set(trx, client);
   return client;
 }
