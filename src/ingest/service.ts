@@ -312,9 +312,9 @@ async function storeUpload(deps: IngestDependencies, request: UploadRequest, spo
       throw error;
     });
 
-  await refreshStatisticsAfterUpload(deps.db, sqliteConnectionOf(deps.db) !== null, request.kind, receipt.inserted);
   const seconds = receipt.duration_ms / 1000;
   log.info({ ...receipt, rowsPerSecond: seconds > 0 ? Math.round(receipt.rows / seconds) : null }, 'upload stored');
+  await refreshStatisticsAfterUpload(deps.db, sqliteConnectionOf(deps.db) !== null, request.kind, receipt.inserted);
   return { receipt, replayed: false };
 }
 
