@@ -11,7 +11,6 @@ import type { Logger } from '../logger.js';
 import { spoolBody, type SpooledBody } from './body-spool.js';
 export { BodyIdleTimeoutError, ClientAbortedError, UploadTooLargeError } from './body-spool.js';
 import { sqliteConnectionOf } from '../db/connect.js';
-import { refreshStatisticsAfterUpload } from '../db/pg-statistics.js';
 import { takeCellCountsLock, takeWriteLock } from '../db/write-lock.js';
 import { applyCellDeltas } from '../aggregates/apply-deltas.js';
 import { CellDeltas } from '../aggregates/cell-deltas.js';
@@ -314,7 +313,6 @@ async function storeUpload(deps: IngestDependencies, request: UploadRequest, spo
 
   const seconds = receipt.duration_ms / 1000;
   log.info({ ...receipt, rowsPerSecond: seconds > 0 ? Math.round(receipt.rows / seconds) : null }, 'upload stored');
-  await refreshStatisticsAfterUpload(deps.db, sqliteConnectionOf(deps.db) !== null, request.kind, receipt.inserted);
   return { receipt, replayed: false };
 }
 
