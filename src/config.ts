@@ -79,6 +79,11 @@ export interface Config {
   refreshWorkers: number;
   /** Longest a snapshot build may take in a worker before the worker is replaced and the refresh fails, in milliseconds. */
   refreshBuildTimeoutMs: number;
+  /**
+   * How far, in percent, V8's heap may grow past what its last full collection kept before it
+   * collects again (src/heap-growth.ts); 0 leaves V8's own factor.
+   */
+  heapGrowingPercent: number;
 }
 
 export class ConfigError extends Error {
@@ -96,6 +101,9 @@ const DEFAULT_MAX_LABELS_PER_DIMENSION = 100;
  * each. Past the server's cores more connections only queue inside PostgreSQL instead of here.
  */
 export const DEFAULT_DATABASE_POOL_SIZE = 10;
+
+/** See src/heap-growth.ts and bench/RESULTS.md for what it was measured to cost and save. */
+const DEFAULT_HEAP_GROWING_PERCENT = 50;
 
 const DEFAULT_SQLITE_FILE = path.join('data', 'segrank.sqlite');
 
@@ -134,6 +142,7 @@ export function loadConfig(env: Environment = process.env): Config {
     maxLabelsPerDimension: readInteger(env, 'MAX_LABELS_PER_DIMENSION', DEFAULT_MAX_LABELS_PER_DIMENSION, { min: 2, max: 100_000 }),
     refreshWorkers: readInteger(env, 'REFRESH_WORKERS', 1, { min: 0, max: 16 }),
     refreshBuildTimeoutMs: readInteger(env, 'REFRESH_BUILD_TIMEOUT_MS', 120_000, { min: 1000, max: 3_600_000 }),
+    heapGrowingPercent: readInteger(env, 'HEAP_GROWING_PERCENT', DEFAULT_HEAP_GROWING_PERCENT, { min: 0, max: 1000 }),
   };
 }
 

@@ -11,6 +11,7 @@ import { migrateToLatest } from './db/migrate.js';
 import type { Writable } from 'node:stream';
 import type { DestinationStream } from 'pino';
 import { createLogger } from './logger.js';
+import { limitHeapGrowth } from './heap-growth.js';
 
 export interface ServiceOutput {
   /** Where the JSON log lines go; standard output by default. */
@@ -20,6 +21,7 @@ export interface ServiceOutput {
 }
 
 export async function startService(config: Config, output: ServiceOutput = {}) {
+  limitHeapGrowth(config.heapGrowingPercent);
   const logger = createLogger(config.logLevel, output.log === undefined ? {} : { destination: output.log });
   const database = await openDatabase(config.database, logger);
   const applied = await migrateToLatest(database.db, config.database);

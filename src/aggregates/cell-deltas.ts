@@ -37,10 +37,6 @@ function cellKeyOf(contact: ContactCellValues): CellKey {
   };
 }
 
-function textOf(key: CellKey): string {
-  return JSON.stringify([key.campaign_id, key.region, key.channel, key.customer_type, key.age, key.holdout, key.converted, key.revenue_cents]);
-}
-
 function compareText(left: string, right: string): number {
   return left < right ? -1 : left > right ? 1 : 0;
 }
@@ -62,33 +58,91 @@ export function compareCellKeys(left: CellKey, right: CellKey): number {
   );
 }
 
+/** One held key and its net change. */
+interface Entry {
+  key: CellKey;
+  units: number;
+}
+
+/** One level of the tree of held keys: by one key column's value, the next level (or, last, the entry). */
+type Level = Map<string | number, Level | Entry>;
+
+/**
+ * Held as a tree of Maps, one level per key column, so that counting a contact builds no key
+ * text: `JSON.stringify` of the columns cost about 1 µs a contact in a profile of a
+ * 250,000-contact upload, and a joined text still about 0.5 µs (its building and hashing).
+ */
 export class CellDeltas {
-  private readonly entries = new Map<string, { key: CellKey; units: number }>();
+  private root: Level = new Map();
+  private count = 0;
 
   /** Counts `contact` into its key (`sign` +1) or out of it (−1). */
   add(contact: ContactCellValues, sign: 1 | -1): void {
-    this.addUnits(cellKeyOf(contact), sign);
+    const age = contact.age_at_contact === null ? UNKNOWN_AGE : Number(contact.age_at_contact);
+    const entry = this.entryAt(contact.campaign_id, contact.region, contact.channel, contact.customer_type, age, Number(contact.holdout), Number(contact.converted), Number(contact.revenue_cents));
+    // The key object is made only for a key not held yet: most contacts share a key.
+    if (entry.units === undefined) this.hold(entry, cellKeyOf(contact), sign);
+    else entry.units += sign;
   }
 
   /** Adds `units` (negative to subtract) to `key`. */
   addUnits(key: CellKey, units: number): void {
-    const text = textOf(key);
-    const entry = this.entries.get(text);
-    if (entry === undefined) this.entries.set(text, { key, units });
+    const entry = this.entryAt(key.campaign_id, key.region, key.channel, key.customer_type, key.age, key.holdout, key.converted, key.revenue_cents);
+    if (entry.units === undefined) this.hold(entry, key, units);
     else entry.units += units;
   }
 
   /** Keys held, including those whose changes cancelled out. */
   get size(): number {
-    return this.entries.size;
+    return this.count;
   }
 
   /** The non-zero changes, each key once, in `compareCellKeys` order. */
   sorted(): Array<{ key: CellKey; units: number }> {
-    return [...this.entries.values()].filter((entry) => entry.units !== 0).sort((left, right) => compareCellKeys(left.key, right.key));
+    const entries: Entry[] = [];
+    const collect = (level: Level, depth: number) => {
+      for (const child of level.values()) {
+        if (depth === CELL_KEY_DEPTH - 1) {
+          if ((child as Entry).units !== 0) entries.push(child as Entry);
+        } else collect(child as Level, depth + 1);
+      }
+    };
+    collect(this.root, 0);
+    return entries.sort((left, right) => compareCellKeys(left.key, right.key));
   }
 
   clear(): void {
-    this.entries.clear();
+    this.root = new Map();
+    this.count = 0;
+  }
+
+  /** The entry of a key, made empty (no units yet) when the key is not held. */
+  private entryAt(...values: [string, string, string, string, number, number, number, number]): Partial<Entry> & { units?: number } {
+    let level = this.root;
+    for (let depth = 0; depth < CELL_KEY_DEPTH - 1; depth++) {
+      const value = values[depth] as string | number;
+      let next = level.get(value) as Level | undefined;
+      if (next === undefined) {
+        next = new Map();
+        level.set(value, next);
+      }
+      level = next;
+    }
+    const last = values[CELL_KEY_DEPTH - 1] as number;
+    let entry = level.get(last) as Partial<Entry> | undefined;
+    if (entry === undefined) {
+      entry = {};
+      level.set(last, entry as Entry);
+    }
+    return entry;
+  }
+
+  private hold(entry: Partial<Entry>, key: CellKey, units: number): void {
+    entry.key = key;
+    entry.units = units;
+    this.count += 1;
   }
 }
+
+/** Columns in a key, so levels in the tree. */
+const CELL_KEY_DEPTH = 8;

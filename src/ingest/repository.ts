@@ -23,6 +23,7 @@ import { subtractContactsOfCustomers } from '../aggregates/customer-contacts.js'
 import type { Executor } from '../db/executor.js';
 import { copyRows } from '../db/pg-copy.js';
 import { prepared } from '../db/prepared.js';
+import { UploadKeyRegister } from './upload-keys.js';
 import type { CampaignContactsTable, CustomersTable, Database, IngestsTable, RejectedRowsTable, SalesTable } from '../db/tables.js';
 
 /** Where the per-row statements of one upload run. */
@@ -118,44 +119,14 @@ export interface UploadKeys {
 }
 
 /**
- * The register of an upload's keys. On PostgreSQL a JavaScript Map. On SQLite a temporary
- * table on the writer connection, inside the upload's transaction: a Map of 250,000 keys
- * leaves its string keys and its doubling hash tables (about 16 MB per upload) for V8 to
- * collect lazily, and five such uploads in a row raised the service's peak memory by about
- * 80 MiB (measured: 293 MiB peak with the Map over 250,000 customers and four 250,000-row
- * contact uploads, 214 MiB with no register at all); the temporary table's pages stay in
- * SQLite's page cache and are reused by the next upload. A rolled-back upload takes its rows
- * in the table (and the table, if it created it) with it. Throws only what the driver throws.
+ * The register of an upload's keys, on either engine: compact typed arrays in memory
+ * (`UploadKeyRegister`, src/ingest/upload-keys.ts). It takes nothing from the database, so a
+ * rolled-back upload leaves nothing behind. Throws nothing.
  *
  * @example const keys = await openUploadKeys(store); keys.firstSeenOn('C1', 2) // → null; keys.firstSeenOn('C1', 9) // → 2
  */
-export async function openUploadKeys(store: UploadStore): Promise<UploadKeys> {
-  const connection = store.sqlite;
-  if (connection === null) {
-    const seen = new Map<string, number>();
-    return {
-      firstSeenOn(key, line) {
-        const first = seen.get(key);
-        if (first !== undefined) return first;
-        seen.set(key, line);
-        return null;
-      },
-      clear: () => seen.clear(),
-    };
-  }
-  connection.exec('create temp table if not exists upload_keys (key text primary key, line integer not null) without rowid');
-  const remember = prepared(connection, 'insert into temp.upload_keys (key, line) values (?, ?) on conflict (key) do nothing');
-  const firstLine = prepared(connection, 'select line from temp.upload_keys where key = ?', 'first column');
-  const forget = prepared(connection, 'delete from temp.upload_keys');
-  // Left over only if the connection was used for an upload that neither committed nor rolled back.
-  forget.run();
-  return {
-    firstSeenOn(key, line) {
-      if (remember.run(key, line).changes === 1) return null;
-      return firstLine.get(key) as number;
-    },
-    clear: () => void forget.run(),
-  };
+export async function openUploadKeys(_store: UploadStore): Promise<UploadKeys> {
+  return Promise.resolve(new UploadKeyRegister());
 }
 
 export interface StoredCustomer {
