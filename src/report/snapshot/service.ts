@@ -9,6 +9,7 @@ import type { Database, ReportsTable, SnapshotTrigger } from '../../db/tables.js
 import type { Logger } from '../../logger.js';
 import { labelCounts } from '../../segments/index.js';
 import type { SnapshotBuilder } from './build-pool.js';
+import type { BuiltSnapshot } from './build-task.js';
 import { dimensionsOverLimit } from './label-limit.js';
 import { populationSource, readReportAggregates } from './read-aggregates.js';
 import { InvalidDefinitionError, normalizeDefinition, withCurrentDefaults, type ReportDefinition } from '../definition/index.js';
@@ -146,6 +147,12 @@ export async function getReport(deps: ReportDependencies, reportId: string): Pro
   return toResource(deps.readDb, row);
 }
 
+/** The SQLite file behind `readDb`, which a build worker can open too; null on PostgreSQL and for an in-memory database. */
+function workerReadableFile(readDb: Kysely<Database>): string | null {
+  const connection = sqliteConnectionOf(readDb);
+  return connection === null || connection.memory ? null : connection.name;
+}
+
 // One refresh at a time per report in this process, so each snapshot compares with the one before it.
 const refreshesInFlight = new Map<string, Promise<unknown>>();
 
@@ -186,27 +193,38 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   if (!row) throw new ReportNotFoundError(reportId);
   const definition = parseDefinition(row);
   deps.logger.info({ reportId, trigger }, 'refresh started');
-  const data = await readReportAggregates(deps.readDb, reportId, definition, {
-    dialect: deps.dialect,
-    sqlite: sqliteConnectionOf(deps.readDb),
-    maxLabelsPerDimension: deps.maxLabelsPerDimension,
-  });
-  const queriesDone = performance.now();
-
-  // The previous snapshot travels as its stored text and is parsed where the new one is built.
-  const previousBody = await repository.findSnapshotBody(deps.readDb, reportId, 'latest');
   const snapshotId = randomUUID();
   let sequence = await repository.nextSnapshotSequence(deps.db, reportId);
-  const built = await deps.snapshots.build({
-    input: {
-      identity: { snapshotId, reportId, reportName: row.name, sequence, createdAt: deps.now().toISOString(), trigger },
-      definition,
-      ...data,
-      publicationThreshold: deps.publicationThreshold,
-    },
-    previousBody: previousBody ?? null,
-    elapsedBeforeBuildMs: performance.now() - started,
-  });
+  const identity = { snapshotId, reportId, reportName: row.name, sequence, createdAt: deps.now().toISOString(), trigger };
+  const databaseFile = workerReadableFile(deps.readDb);
+  let built: BuiltSnapshot;
+  let queriesDone: number;
+  if (deps.snapshots.readAndBuild !== undefined && databaseFile !== null) {
+    // On SQLite the worker reads the aggregates on its own connection, so neither the event
+    // loop nor the service's read connection waits for the refresh's reads.
+    const readAndBuilt = await deps.snapshots.readAndBuild({
+      databaseFile,
+      input: { identity, definition, publicationThreshold: deps.publicationThreshold },
+      maxLabelsPerDimension: deps.maxLabelsPerDimension,
+      elapsedBeforeReadMs: performance.now() - started,
+    });
+    built = readAndBuilt;
+    queriesDone = started + readAndBuilt.readMs;
+  } else {
+    const data = await readReportAggregates(deps.readDb, reportId, definition, {
+      dialect: deps.dialect,
+      sqlite: sqliteConnectionOf(deps.readDb),
+      maxLabelsPerDimension: deps.maxLabelsPerDimension,
+    });
+    queriesDone = performance.now();
+    // The previous snapshot travels as its stored text and is parsed where the new one is built.
+    const previousBody = await repository.findSnapshotBody(deps.readDb, reportId, 'latest');
+    built = await deps.snapshots.build({
+      input: { identity: { ...identity, createdAt: deps.now().toISOString() }, definition, ...data, publicationThreshold: deps.publicationThreshold },
+      previousBody: previousBody ?? null,
+      elapsedBeforeBuildMs: performance.now() - started,
+    });
+  }
   const snapshot = built.summary;
   let body = built.body;
   const computed = performance.now();
