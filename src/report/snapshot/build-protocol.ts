@@ -6,7 +6,7 @@ import { SpendBeyondLimitError } from '../../segments/index.js';
 import { StatsInputError } from '../../stats/index.js';
 import { renumberedBody, runSnapshotBuild, type BuiltSnapshot, type SnapshotBuildJob } from './build-task.js';
 import { TooManyLabelsError } from './label-limit.js';
-import { runSnapshotReadAndBuild, type ReadAndBuiltSnapshot, type SnapshotReadJob } from './read-build.js';
+import type { ReadAndBuiltSnapshot, SnapshotReadJob } from './read-build.js';
 
 export type WorkerTask = { kind: 'build'; job: SnapshotBuildJob } | { kind: 'readAndBuild'; job: SnapshotReadJob } | { kind: 'renumber'; body: string; sequence: number };
 
@@ -32,7 +32,8 @@ export type WorkerReply = { id: number; ok: true; result: BuiltSnapshot | ReadAn
 
 async function run(task: WorkerTask): Promise<BuiltSnapshot | ReadAndBuiltSnapshot | string> {
   if (task.kind === 'build') return runSnapshotBuild(task.job);
-  if (task.kind === 'readAndBuild') return runSnapshotReadAndBuild(task.job);
+  // Loaded on the first read: a worker that only builds starts without the database drivers.
+  if (task.kind === 'readAndBuild') return (await import('./read-build.js')).runSnapshotReadAndBuild(task.job);
   return renumberedBody(task.body, task.sequence);
 }
 

@@ -63,12 +63,6 @@ export function populationSource(definition: ReportDefinition): PopulationSource
     : { kind: 'sales', from: source.sales_from, to: source.sales_to };
 }
 
-/** Whether the report is a campaign report on contact_value_counts, whose aggregates are folded from one read of its kept rows. */
-export function readsKeptCounts(definition: ReportDefinition): boolean {
-  const source = populationSource(definition);
-  return source.kind === 'campaigns' && source.table === 'contact_value_counts';
-}
-
 /**
  * The dimension values whose value distribution is worth reading: only groups small enough to
  * be described value by value need it, so the sort over the whole population is skipped (or
