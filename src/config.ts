@@ -77,7 +77,7 @@ export interface Config {
    * loop; 0 builds them on the main thread.
    */
   refreshWorkers: number;
-  /** Longest a snapshot build may take in a worker before the worker is replaced and the refresh fails, in milliseconds. */
+  /** Longest a snapshot build (on a SQLite file, with its read) may take in a worker before the worker is replaced and the refresh fails, in milliseconds. */
   refreshBuildTimeoutMs: number;
   /**
    * How far, in percent, V8's heap may grow past what its last full collection kept before it

@@ -86,13 +86,7 @@ function openSqlite(file: string, log: ((event: LogEvent) => void) | undefined):
   if (inMemory) {
     return { dialect: 'sqlite', db, readDb: db, close: () => db.destroy() };
   }
-  const reader = new SqliteDatabase(file, { readonly: true });
-  reader.pragma('busy_timeout = 5000');
-  // The report's GROUP BY over the values sorts every unit; with 32 MiB of page cache that
-  // sort stays in memory at a million rows and runs about a fifth faster.
-  reader.pragma(`cache_size = -${PAGE_CACHE_KIB}`);
-  const readDb = new Kysely<Database>({ dialect: new SqliteDialect({ database: reader }), ...(log ? { log } : {}) });
-  sqliteConnections.set(readDb, reader);
+  const readDb = openSqliteReader(file, log);
   return {
     dialect: 'sqlite',
     db,
@@ -102,6 +96,22 @@ function openSqlite(file: string, log: ((event: LogEvent) => void) | undefined):
       await db.destroy();
     },
   };
+}
+
+/**
+ * A read-only connection to a SQLite database file, as the service's reader (a build worker
+ * opens its own to read a report's aggregates off the main thread); `sqliteConnectionOf` finds
+ * its raw connection.
+ */
+export function openSqliteReader(file: string, log?: (event: LogEvent) => void): Kysely<Database> {
+  const reader = new SqliteDatabase(file, { readonly: true });
+  reader.pragma('busy_timeout = 5000');
+  // The report's GROUP BY over the values sorts every unit; with 32 MiB of page cache that
+  // sort stays in memory at a million rows and runs about a fifth faster.
+  reader.pragma(`cache_size = -${PAGE_CACHE_KIB}`);
+  const readDb = new Kysely<Database>({ dialect: new SqliteDialect({ database: reader }), ...(log ? { log } : {}) });
+  sqliteConnections.set(readDb, reader);
+  return readDb;
 }
 
 async function openPostgres(settings: Extract<DatabaseSettings, { dialect: 'postgres' }>, log: ((event: LogEvent) => void) | undefined): Promise<DatabaseHandle> {

@@ -167,6 +167,8 @@ export interface KeptAggregates {
   population: CellAggregates & { shifts: Shifts };
   /** The holdout arm when the arms are split, else null: as `shiftsAndCellAggregates` on it. */
   holdout: (CellAggregates & { shifts: Shifts }) | null;
+  /** The holdout contacts among the rows read, split or not (`holdoutContacts` of the same campaigns). */
+  holdoutUnits: number;
   /** As `valueDistribution(db, request, scope, population.cells)`: the value metric's units per cell and value, for the cells in `scope`. */
   valueCounts(scope: ValueDistributionScope): ValueCount[];
   /**
@@ -212,6 +214,7 @@ export class KeptCountsFold {
   private readonly reportArm = new ArmTally();
   private readonly holdoutArm = new ArmTally();
   private readonly rows = new RowColumns();
+  private holdoutUnits = 0;
 
   constructor(
     private readonly request: AggregationRequest,
@@ -222,10 +225,13 @@ export class KeptCountsFold {
 
   /** One kept row: its key (stored age -1: unknown; holdout and converted 0 or 1) and its units. */
   add(campaign: string, region: string, channel: string, customerType: string, storedAge: number, holdout: number, converted: number, valueCents: number, units: number): void {
-    if (this.splitArms && holdout === 1) {
-      const group = this.holdoutArm.groupOf(campaign, region, channel, customerType, storedAge, converted);
-      addUnits(this.holdoutArm.groups[group] as GroupTally, valueCents, units);
-      return;
+    if (holdout === 1) {
+      this.holdoutUnits += units;
+      if (this.splitArms) {
+        const group = this.holdoutArm.groupOf(campaign, region, channel, customerType, storedAge, converted);
+        addUnits(this.holdoutArm.groups[group] as GroupTally, valueCents, units);
+        return;
+      }
     }
     const group = this.reportArm.groupOf(campaign, region, channel, customerType, storedAge, converted);
     addUnits(this.reportArm.groups[group] as GroupTally, valueCents, units);
@@ -245,6 +251,7 @@ export class KeptCountsFold {
     return {
       population,
       holdout,
+      holdoutUnits: this.holdoutUnits,
       valueCounts(scope) {
         if (scope !== 'all' && scope.length === 0) return [];
         const inScope = (labels: readonly string[]) => scope === 'all' || scope.some(({ dimensionIndex, labels: chosen }) => chosen.includes(labels[dimensionIndex] as string));

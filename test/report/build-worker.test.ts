@@ -8,7 +8,10 @@ import { buildApp } from '../../src/app.js';
 import { loadConfig } from '../../src/config.js';
 import { createSnapshotBuilder, refreshReport, reportDependencies, type ReportDependencies, type SnapshotBuilder } from '../../src/report/snapshot/index.js';
 import type { SnapshotBuildJob } from '../../src/report/snapshot/build-task.js';
-import { SnapshotBuildFailedError } from '../../src/report/snapshot/index.js';
+import { SnapshotBuildFailedError, TooManyLabelsError } from '../../src/report/snapshot/index.js';
+import type { BuiltSnapshot } from '../../src/report/snapshot/build-task.js';
+import type { ReadAndBuiltSnapshot } from '../../src/report/snapshot/read-build.js';
+import { sqliteConnectionOf } from '../../src/db/connect.js';
 import { StatsInputError } from '../../src/stats/index.js';
 import { DEMO_HOLDOUT_REPORT, DEMO_REPORT } from '../../seed/demo.js';
 import { DEFAULT_DEMO_OPTIONS, generateDemoData } from '../../seed/generate.js';
@@ -86,6 +89,46 @@ describe('snapshots built on a worker thread', () => {
     const holdoutJob = jobs.find((job) => job.input.holdout) as SnapshotBuildJob;
     const segments = (JSON.parse((await onWorker.build(holdoutJob)).body) as { segments: Array<{ holdout_n: number | null }> }).segments;
     expect(segments.filter((segment) => (segment.holdout_n ?? 0) > 0).length).toBeGreaterThan(10);
+  });
+
+  test('a refresh read and built on the worker (its own read connection) equals one read and built on the main thread, with and without a holdout', async () => {
+    const databaseFile = sqliteConnectionOf(testApp.database.handle.readDb)?.name as string;
+    const pairs: Array<{ main: BuiltSnapshot; worker: ReadAndBuiltSnapshot }> = [];
+    // Both read before the main thread's snapshot is stored, so both compare with the same previous one.
+    const bothThreads: SnapshotBuilder = {
+      build: async (job) => {
+        const [main, worker] = await Promise.all([
+          onMainThread.build(job),
+          (onWorker.readAndBuild as NonNullable<SnapshotBuilder['readAndBuild']>)({
+            databaseFile,
+            input: { identity: job.input.identity, definition: job.input.definition, publicationThreshold: job.input.publicationThreshold as number },
+            maxLabelsPerDimension: 100,
+            elapsedBeforeReadMs: 0,
+          }),
+        ]);
+        pairs.push({ main, worker });
+        return main;
+      },
+      renumber: (body, sequence) => onMainThread.renumber(body, sequence),
+      close: async () => undefined,
+    };
+    for (const reportId of reportIds) {
+      await refreshReport(dependencies(testApp, bothThreads), reportId, 'manual');
+      await refreshReport(dependencies(testApp, bothThreads), reportId, 'manual');
+    }
+    expect(pairs).toHaveLength(4);
+    for (const { main, worker } of pairs) {
+      expect(worker.body.length).toBeGreaterThan(10_000);
+      expect(worker.readMs).toBeGreaterThan(0);
+      expect(withoutTiming(worker.body)).toEqual(withoutTiming(main.body));
+    }
+    expect(pairs.filter(({ worker }) => (JSON.parse(worker.body) as { segments: Array<{ holdout_n: number | null }> }).segments.some((segment) => (segment.holdout_n ?? 0) > 0))).toHaveLength(2);
+  });
+
+  test('a refresh the worker reads is refused as on the main thread when a dimension is past the label limit', async () => {
+    const deps = { ...dependencies(testApp, onWorker), maxLabelsPerDimension: 2 };
+    await expect(refreshReport(deps, reportIds[1] as string, 'manual')).rejects.toBeInstanceOf(TooManyLabelsError);
+    await expect(refreshReport({ ...deps, snapshots: onMainThread }, reportIds[1] as string, 'manual')).rejects.toBeInstanceOf(TooManyLabelsError);
   });
 
   test('a snapshot renumbered on the worker (another instance took its sequence number) differs in its sequence alone', async () => {

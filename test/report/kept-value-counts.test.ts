@@ -14,6 +14,7 @@ import type { Dialect } from '../../src/db/connect.js';
 import { sqliteConnectionOf } from '../../src/db/connect.js';
 import { ageGridAxis } from '../../src/report/snapshot/profiles.js';
 import {
+  holdoutContacts,
   keptCountAggregates,
   shiftsAndCellAggregates,
   valueCountsByAgeBin,
@@ -218,6 +219,13 @@ describe.each(TEST_DIALECTS)('the kept rows folded in code on %s', (dialect) => 
         expect(kept.holdout?.cells).toEqual(holdout.cells);
         expect(kept.holdout?.shifts).toEqual(holdout.shifts);
       } else expect(kept.holdout).toBeNull();
+      // The refresh splits the arms as it reads and learns from that read whether there is a holdout at all.
+      expect(kept.holdoutUnits).toBe(await holdoutContacts(trx, request.source as Parameters<typeof holdoutContacts>[1]));
+      if (kept.holdoutUnits === 0 && !split) {
+        const splitWithoutHoldout = await keptCountAggregates(trx, sqliteConnectionOf(handle.readDb), request, true);
+        expect(splitWithoutHoldout.population).toEqual(kept.population);
+        expect(splitWithoutHoldout.holdoutUnits).toBe(0);
+      }
       // Every scope the refresh may ask for: all cells, some labels of one or two dimensions (an age band among them), none.
       const firstLabels = [...new Set(queried.cells.map((cell) => cell.labels[0] as string))];
       const bandIndex = dimensions.indexOf('age_band');

@@ -9,8 +9,8 @@ import { CRASHING_REPORT, HANGING_REPORT } from './failing-build-names.js';
 
 const port = parentPort;
 port?.on('message', (request: WorkerRequest) => {
-  const name = request.task.kind === 'build' ? request.task.job.input.identity.reportName : null;
+  const name = request.task.kind === 'renumber' ? null : request.task.job.input.identity.reportName;
   if (name === CRASHING_REPORT) process.exit(70);
   if (name === HANGING_REPORT) for (;;);
-  port.postMessage(answer(request));
+  void answer(request).then((reply) => port.postMessage(reply));
 });

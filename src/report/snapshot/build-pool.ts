@@ -13,10 +13,17 @@ import { Worker } from 'node:worker_threads';
 import type { Logger } from '../../logger.js';
 import { deserializeError, type WorkerReply, type WorkerTask } from './build-protocol.js';
 import { renumberedBody, runSnapshotBuild, type BuiltSnapshot, type SnapshotBuildJob } from './build-task.js';
+import type { ReadAndBuiltSnapshot, SnapshotReadJob } from './read-build.js';
 
 export interface SnapshotBuilder {
   /** @throws StatsInputError as `buildSnapshot`; SnapshotBuildFailedError when a worker fails */
   build(job: SnapshotBuildJob): Promise<BuiltSnapshot>;
+  /**
+   * Reads a report's aggregates from a SQLite file and builds the snapshot, all off the calling
+   * thread; absent when snapshots are built on the calling thread (which then reads them itself).
+   * @throws as `build`, and TooManyLabelsError or SpendBeyondLimitError as the read refuses the refresh
+   */
+  readAndBuild?(job: SnapshotReadJob): Promise<ReadAndBuiltSnapshot>;
   /** The stored text with another sequence number. */
   renumber(body: string, sequence: number): Promise<string>;
   /** Stops the workers; tasks still waiting are refused. */
@@ -84,6 +91,10 @@ class WorkerPool implements SnapshotBuilder {
 
   build(job: SnapshotBuildJob): Promise<BuiltSnapshot> {
     return this.run({ kind: 'build', job }) as Promise<BuiltSnapshot>;
+  }
+
+  readAndBuild(job: SnapshotReadJob): Promise<ReadAndBuiltSnapshot> {
+    return this.run({ kind: 'readAndBuild', job }) as Promise<ReadAndBuiltSnapshot>;
   }
 
   renumber(body: string, sequence: number): Promise<string> {

@@ -7,4 +7,4 @@ import { answer, type WorkerRequest } from './build-protocol.js';
 
 if (parentPort === null) throw new Error('build-worker.ts runs as a worker thread of the snapshot build pool');
 const port = parentPort;
-port.on('message', (request: WorkerRequest) => port.postMessage(answer(request)));
+port.on('message', (request: WorkerRequest) => void answer(request).then((reply) => port.postMessage(reply)));

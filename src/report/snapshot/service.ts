@@ -6,33 +6,14 @@ import { randomUUID } from 'node:crypto';
 import type { Kysely } from 'kysely';
 import { sqliteConnectionOf, type DatabaseHandle, type Dialect } from '../../db/connect.js';
 import type { Database, ReportsTable, SnapshotTrigger } from '../../db/tables.js';
-import type { Executor } from '../../db/executor.js';
-import { YIELD_AFTER_EACH_QUERY } from '../../db/yield-after-query.js';
 import type { Logger } from '../../logger.js';
-import {
-  campaignPopulationTable,
-  explainOverflow,
-  gridCountsOf,
-  holdoutContacts,
-  keptCountAggregates,
-  labelCounts,
-  shiftsAndCellAggregates,
-  sourceQuality,
-  valueCountsByAgeBin,
-  valueCountsOf,
-  valueDistribution,
-  type AggregationRequest,
-  type CellAggregate,
-  type PopulationSource,
-  type ValueDistributionScope,
-} from '../../segments/index.js';
-import type { PreviousWindow } from '../analysis/index.js';
+import { labelCounts } from '../../segments/index.js';
 import type { SnapshotBuilder } from './build-pool.js';
-import { dimensionsOverLimit, refuseCellLabelsPastLimit, refuseLabelsPastLimit } from './label-limit.js';
-import type { HoldoutCells } from './holdout.js';
+import type { BuiltSnapshot } from './build-task.js';
+import { dimensionsOverLimit } from './label-limit.js';
+import { populationSource, readReportAggregates } from './read-aggregates.js';
 import { InvalidDefinitionError, normalizeDefinition, withCurrentDefaults, type ReportDefinition } from '../definition/index.js';
 import { publishedText, readStoredSnapshot } from './stored.js';
-import { ageGridAxis, ageValueGridAxes, isExpandable } from './profiles.js';
 import * as repository from '../store/index.js';
 import type { Report, Snapshot } from '../shapes/index.js';
 
@@ -166,56 +147,10 @@ export async function getReport(deps: ReportDependencies, reportId: string): Pro
   return toResource(deps.readDb, row);
 }
 
-const DAY_MS = 86_400_000;
-
-function addDays(date: string, days: number): string {
-  return new Date(Date.parse(`${date}T00:00:00Z`) + days * DAY_MS).toISOString().slice(0, 10);
-}
-
-/**
- * The window of the same length just before `[from, to]` (both ends inclusive), e.g.
- * 2026-03-08…2026-03-14 for 2026-03-15…2026-03-21.
- */
-function precedingWindow(from: string, to: string): { from: string; to: string } {
-  const days = Math.round((Date.parse(`${to}T00:00:00Z`) - Date.parse(`${from}T00:00:00Z`)) / DAY_MS) + 1;
-  return { from: addDays(from, -days), to: addDays(from, -1) };
-}
-
-/** The report's population, read from the table `campaignPopulationTable` chooses for its dimensions. */
-function populationSource(definition: ReportDefinition): PopulationSource {
-  const source = definition.source;
-  return 'campaign_ids' in source
-    ? { kind: 'campaigns', campaignIds: source.campaign_ids, table: campaignPopulationTable(definition.dimensions) }
-    : { kind: 'sales', from: source.sales_from, to: source.sales_to };
-}
-
-/**
- * The dimension values whose value distribution is worth reading: only groups small enough to
- * be described value by value need it, so the sort over the whole population is skipped (or
- * narrowed) when the groups are large.
- */
-function valueDistributionScope(cells: readonly CellAggregate[], definition: ReportDefinition): ValueDistributionScope {
-  const valueCount = (cell: CellAggregate) => (definition.value_basis === 'per_unit' ? cell.n : cell.conversions);
-  if (isExpandable(cells.reduce((sum, cell) => sum + valueCount(cell), 0))) return 'all';
-  const scope: Array<{ dimensionIndex: number; labels: string[] }> = [];
-  definition.dimensions.forEach((_dimension, dimensionIndex) => {
-    const sizes = new Map<string, number>();
-    for (const cell of cells) sizes.set(cell.labels[dimensionIndex] as string, (sizes.get(cell.labels[dimensionIndex] as string) ?? 0) + valueCount(cell));
-    const small = [...sizes].filter(([, size]) => isExpandable(size)).map(([value]) => value);
-    if (small.length > 0) scope.push({ dimensionIndex, labels: small });
-  });
-  return scope;
-}
-
-/**
- * Whether contacts the report's newest snapshot held may have changed since it read them: an
- * upload updated contacts or customers, or an erasure redacted it. The change since that
- * snapshot is then not computed (current minus previous would mix edits into the new contacts).
- */
-async function earlierContactsChangedSinceLastSnapshot(db: Executor, reportId: string, campaignIds: readonly string[]): Promise<boolean> {
-  const previous = await repository.latestSnapshotReadStart(db, reportId);
-  if (previous === undefined) return false;
-  return previous.redacted || (await repository.contactsChangedSince(db, campaignIds, previous.readStart));
+/** The SQLite file behind `readDb`, which a build worker can open too; null on PostgreSQL and for an in-memory database. */
+function workerReadableFile(readDb: Kysely<Database>): string | null {
+  const connection = sqliteConnectionOf(readDb);
+  return connection === null || connection.memory ? null : connection.name;
 }
 
 // One refresh at a time per report in this process, so each snapshot compares with the one before it.
@@ -258,74 +193,38 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   if (!row) throw new ReportNotFoundError(reportId);
   const definition = parseDefinition(row);
   deps.logger.info({ reportId, trigger }, 'refresh started');
-  let source = populationSource(definition);
-  // With holdout customers, every figure but the holdout's describes the contacted ones.
-  const withHoldout = source.kind === 'campaigns' && (await holdoutContacts(deps.readDb, source)) > 0;
-  if (withHoldout && source.kind === 'campaigns') source = { ...source, arm: 'contacted' };
-  const request: AggregationRequest = { source, dimensions: definition.dimensions, ageEdges: definition.age_bands, valueBasis: definition.value_basis };
-
-  let transaction = deps.readDb.transaction();
-  if (deps.dialect === 'postgres') transaction = transaction.setIsolationLevel('repeatable read');
-  const readAggregates = transaction.execute(async (transactionExecutor) => {
-    // Each query of the transaction lets other requests in before the next one starts.
-    const trx = transactionExecutor.withPlugin(YIELD_AFTER_EACH_QUERY);
-    // The data may have grown since the definition was saved. Checked first, so a dimension of
-    // thousands of labels is refused before the cell query and its thousands of groups (on
-    // SQLite the read connection, and /healthz, wait for this transaction): small bounded reads,
-    // and the population's exact count only when one of them is past the limit.
-    await refuseLabelsPastLimit(trx, reportId, request, deps.maxLabelsPerDimension);
-    // A report on the kept counts reads its campaigns' rows once and derives every figure below
-    // from them in code; a report on rows (an attribute, sales) groups them in the database.
-    const kept = source.kind === 'campaigns' && source.table === 'contact_value_counts' ? await keptCountAggregates(trx, sqliteConnectionOf(deps.readDb), request, withHoldout) : null;
-    const { shifts, cells, ageCounts, unconvertedByAge, arithmetic, strata } = kept?.population ?? (await shiftsAndCellAggregates(trx, request));
-    // The cells' own labels settle it whatever the bounds said.
-    refuseCellLabelsPastLimit(reportId, definition.dimensions, cells, deps.maxLabelsPerDimension);
-    const scope = valueDistributionScope(cells, definition);
-    const valueCounts = kept ? kept.valueCounts(scope) : await valueDistribution(trx, request, scope, cells);
-    const ageAxis = ageGridAxis(ageCounts);
-    const valuesByAgeBin = kept ? kept.valueCountsByAgeBin(ageAxis) : await valueCountsByAgeBin(trx, request, ageAxis, unconvertedByAge);
-    const wholeValueCounts = valueCountsOf(valuesByAgeBin);
-    const gridAxes = ageValueGridAxes(ageCounts, wholeValueCounts);
-    const ageValueGrid = gridAxes === null ? null : { axes: gridAxes, counts: gridCountsOf(valuesByAgeBin, gridAxes) };
-    const quality = await sourceQuality(trx, source);
-    let previousWindow: PreviousWindow | null = null;
-    if (source.kind === 'sales') {
-      const window = precedingWindow(source.from, source.to);
-      // Each window over the customers known at its start: later arrivals were not customers who failed to buy then.
-      const previousSource: PopulationSource = { kind: 'sales', from: window.from, to: window.to, knownAt: window.from };
-      const previous = await shiftsAndCellAggregates(trx, { ...request, source: previousSource });
-      const current = await shiftsAndCellAggregates(trx, { ...request, source: { ...source, knownAt: source.from } });
-      previousWindow = { ...window, cells: previous.cells, shifts: previous.shifts, current: { cells: current.cells, shifts: current.shifts } };
-    }
-    let holdout: HoldoutCells | null = null;
-    if (withHoldout && source.kind === 'campaigns') {
-      const arm = kept?.holdout ?? (await shiftsAndCellAggregates(trx, { ...request, source: { ...source, arm: 'holdout' } }));
-      holdout = { cells: arm.cells, shifts: arm.shifts };
-    }
-    const earlierContactsChanged = source.kind === 'campaigns' && (await earlierContactsChangedSinceLastSnapshot(trx, reportId, source.campaignIds));
-    return { shifts, cells, arithmetic, ageCounts, valueCounts, populationValueCounts: wholeValueCounts, ageValueGrid, quality, previousWindow, strata, holdout, earlierContactsChanged };
-  });
-  // A customer's spend past 2^63 cents overflows the database's sum: refused by name, not a 500.
-  const windows = source.kind === 'sales' ? [source, precedingWindow(source.from, source.to)] : [];
-  const data = await readAggregates.catch(async (error: unknown) => {
-    throw await explainOverflow(deps.readDb, error, windows);
-  });
-  const queriesDone = performance.now();
-
-  // The previous snapshot travels as its stored text and is parsed where the new one is built.
-  const previousBody = await repository.findSnapshotBody(deps.readDb, reportId, 'latest');
   const snapshotId = randomUUID();
   let sequence = await repository.nextSnapshotSequence(deps.db, reportId);
-  const built = await deps.snapshots.build({
-    input: {
-      identity: { snapshotId, reportId, reportName: row.name, sequence, createdAt: deps.now().toISOString(), trigger },
-      definition,
-      ...data,
-      publicationThreshold: deps.publicationThreshold,
-    },
-    previousBody: previousBody ?? null,
-    elapsedBeforeBuildMs: performance.now() - started,
-  });
+  const identity = { snapshotId, reportId, reportName: row.name, sequence, createdAt: deps.now().toISOString(), trigger };
+  const databaseFile = workerReadableFile(deps.readDb);
+  let built: BuiltSnapshot;
+  let queriesDone: number;
+  if (deps.snapshots.readAndBuild !== undefined && databaseFile !== null) {
+    // On SQLite the worker reads the aggregates on its own connection, so neither the event
+    // loop nor the service's read connection waits for the refresh's reads.
+    const readAndBuilt = await deps.snapshots.readAndBuild({
+      databaseFile,
+      input: { identity, definition, publicationThreshold: deps.publicationThreshold },
+      maxLabelsPerDimension: deps.maxLabelsPerDimension,
+      elapsedBeforeReadMs: performance.now() - started,
+    });
+    built = readAndBuilt;
+    queriesDone = started + readAndBuilt.readMs;
+  } else {
+    const data = await readReportAggregates(deps.readDb, reportId, definition, {
+      dialect: deps.dialect,
+      sqlite: sqliteConnectionOf(deps.readDb),
+      maxLabelsPerDimension: deps.maxLabelsPerDimension,
+    });
+    queriesDone = performance.now();
+    // The previous snapshot travels as its stored text and is parsed where the new one is built.
+    const previousBody = await repository.findSnapshotBody(deps.readDb, reportId, 'latest');
+    built = await deps.snapshots.build({
+      input: { identity: { ...identity, createdAt: deps.now().toISOString() }, definition, ...data, publicationThreshold: deps.publicationThreshold },
+      previousBody: previousBody ?? null,
+      elapsedBeforeBuildMs: performance.now() - started,
+    });
+  }
   const snapshot = built.summary;
   let body = built.body;
   const computed = performance.now();
