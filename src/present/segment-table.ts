@@ -11,7 +11,8 @@ import { LRUCache } from 'lru-cache';
 import { tableCsv } from './csv.js';
 import { SEGMENT_ROW_FIELDS, type Snapshot } from '../report/shapes/index.js';
 import { withoutHoldout } from '../report/analysis/index.js';
-import { snapshotVersionKey, publishedSnapshotText, type ReportDependencies } from '../report/snapshot/index.js';
+import { publishedSnapshotText, type ReportDependencies } from '../report/snapshot/index.js';
+import { SnapshotVersionCache } from './snapshot-versions.js';
 
 export type TableFormat = 'json' | 'csv';
 
@@ -88,8 +89,11 @@ function renderSegmentTable(snapshot: Snapshot, format: TableFormat, options: Ta
 /** A small least-recently-used store of rendered tables, keyed by report, snapshot, format and options. */
 export class SegmentTableCache {
   private readonly entries: LRUCache<string, RenderedTable>;
-  constructor(capacity = 64) {
+  /** Which version of a snapshot a request names; see snapshot-versions.ts for how long it is trusted. */
+  readonly versions: SnapshotVersionCache;
+  constructor(capacity = 64, versionValidityMs = 0) {
     this.entries = new LRUCache({ max: capacity });
+    this.versions = new SnapshotVersionCache(versionValidityMs);
   }
 
   get(reportId: string, snapshotId: string, format: TableFormat, options: TableOptions = { bom: false }): RenderedTable | undefined {
@@ -103,11 +107,13 @@ export class SegmentTableCache {
 
   /** Drops every table of one report (it was deleted). */
   forgetReport(reportId: string): void {
+    this.versions.forgetAll();
     const prefix = `${reportId}\u0000`;
     for (const key of [...this.entries.keys()]) if (key.startsWith(prefix)) this.entries.delete(key);
   }
 
   clear(): void {
+    this.versions.forgetAll();
     this.entries.clear();
   }
 
@@ -133,7 +139,7 @@ export async function segmentTable(
   options: TableOptions = { bom: false },
 ): Promise<RenderedTable | undefined> {
   // An erasure may redact a stored snapshot, so a rendered table is kept per version of the body.
-  const version = await snapshotVersionKey(deps, reportId, snapshotId);
+  const version = await cache.versions.lookup(deps, reportId, snapshotId);
   if (version === undefined) return undefined;
   const cached = cache.get(reportId, version.key, format, options);
   if (cached) return cached;
