@@ -7,6 +7,7 @@
  * it is kept, and BI tools that poll cost a small lookup instead of parsing the whole snapshot.
  */
 import { createHash } from 'node:crypto';
+import { gzipSync } from 'node:zlib';
 import { LRUCache } from 'lru-cache';
 import { tableCsv } from './csv.js';
 import { SEGMENT_ROW_FIELDS, type Snapshot } from '../report/shapes/index.js';
@@ -29,6 +30,13 @@ export interface RenderedTable {
   /** The body encoded once as UTF-8, so each response copies bytes instead of encoding 100 kB of text. */
   bytes: Buffer;
   entityTag: string;
+  /**
+   * The bytes gzip-compressed once, for clients that accept it (BI tools do): a 150 kB table
+   * leaves as about a tenth of that without compressing per request. A representation of its
+   * own, so it has its own entity tag.
+   */
+  gzipped: Buffer;
+  gzippedEntityTag: string;
 }
 
 const UTF8_BOM = '\uFEFF';
@@ -83,7 +91,9 @@ function renderSegmentTable(snapshot: Snapshot, format: TableFormat, options: Ta
     format === 'csv'
       ? `${options.bom ? UTF8_BOM : ''}${tableCsv(columns, rows)}`
       : JSON.stringify({ report_id: snapshot.report_id, snapshot_id: snapshot.snapshot_id, snapshot_created_at: snapshot.created_at, columns, segments: rows });
-  return { snapshotId: snapshot.snapshot_id, body, bytes: Buffer.from(body, 'utf8'), entityTag: entityTag(body) };
+  const bytes = Buffer.from(body, 'utf8');
+  const tag = entityTag(body);
+  return { snapshotId: snapshot.snapshot_id, body, bytes, entityTag: tag, gzipped: gzipSync(bytes), gzippedEntityTag: `${tag.slice(0, -1)}-gzip"` };
 }
 
 /** A small least-recently-used store of rendered tables, keyed by report, snapshot, format and options. */
