@@ -7,7 +7,8 @@
  *
  * Steps: 1. upload of the customers CSV and the contacts CSVs over HTTP; 2. a report refresh
  * over the stored rows (all one-way and two-way segments of age band, region and channel);
- * 3. the BI pull of the segments CSV under load (autocannon, 50 connections, loopback); 4. the
+ * 3. the BI pull of the segments CSV under load (autocannon, 50 connections, loopback, with a
+ * read key; the plain body unless --pull-encoding gzip); 4. the
  * floors (bench/floors.ts): a bare write of the same contacts into the service's own tables
  * (SQLite: a prepared INSERT per row; PostgreSQL: one COPY per file), still called bare INSERT,
  * and one bare GROUP BY of the finest cells over the same stored rows, on each engine, with
@@ -21,7 +22,8 @@
  *   npm run bench -- --sizes 100000 --engines postgres
  *
  * Options: --sizes a,b (contact rows; customers are a quarter), --runs N (default 3),
- * --pull-seconds N (default 10), --engines sqlite,postgres (default: sqlite, and postgres when
+ * --pull-seconds N (default 10), --pull-encoding gzip|identity (what the pull's Accept-Encoding
+ * asks for; default identity, as the figures before gzip was offered), --engines sqlite,postgres (default: sqlite, and postgres when
  * DATABASE_URL is a postgres:// URL), --python PATH (the interpreter for the analyst's script;
  * default python3, then /usr/bin/python3), --no-results (do not write RESULTS.md), --steps a,b
  * (any of upload, refresh, pull, floors, analyst; default all; the upload always runs, as the
@@ -38,12 +40,17 @@ import { writeBenchFiles, type BenchFiles } from './data.js';
 import { postgresBareGroupBySeconds, postgresBareInsertSeconds, sqliteBareGroupBySeconds, sqliteBareInsertSeconds } from './floors.js';
 import { cpuSeconds, median, residentMiB } from './process-readings.js';
 import { postFile, startServiceProcess, type RunningService } from '../test/support/service-process.js';
+import { createKey } from '../src/auth/keys.js';
+import { loadConfig } from '../src/config.js';
+import { openDatabase } from '../src/db/connect.js';
+import { migrateToLatest } from '../src/db/migrate.js';
 
 const { values: options } = parseArgs({
   options: {
     sizes: { type: 'string', default: '100000,1000000' },
     runs: { type: 'string', default: '3' },
     'pull-seconds': { type: 'string', default: '10' },
+    'pull-encoding': { type: 'string', default: 'identity' },
     engines: { type: 'string' },
     python: { type: 'string' },
     'no-results': { type: 'boolean', default: false },
@@ -66,6 +73,8 @@ const engines: Engine[] = (options.engines ?? (postgresUrl ? 'sqlite,postgres' :
 const sizes = options.sizes.split(',').map(Number);
 const runs = Math.max(1, Number(options.runs));
 const pullSeconds = Math.max(1, Number(options['pull-seconds']));
+const pullEncoding = options['pull-encoding'];
+if (pullEncoding !== 'gzip' && pullEncoding !== 'identity') throw new Error(`--pull-encoding: expected gzip or identity, got "${pullEncoding}"`);
 const CAMPAIGNS = 4;
 const ENGINE_NAMES: Record<Engine, string> = { sqlite: 'SQLite', postgres: 'PostgreSQL' };
 
@@ -124,14 +133,34 @@ class WholeRunPeak {
   }
 }
 
-async function uploadAll(service: RunningService, files: BenchFiles): Promise<{ customers: number; contacts: number; customersCpu: number; contactsCpu: number }> {
+/** The service runs with API keys on, as in production: one admin key for the uploads and refreshes, one read key for the BI pull. */
+interface BenchKeys {
+  admin: string;
+  read: string;
+}
+
+/** Issues the bench's keys on the workspace's database before the service starts, as `segrank keys create` would. */
+async function issueBenchKeys(workspace: Workspace): Promise<BenchKeys> {
+  const config = loadConfig({ ...process.env, ...workspace.env });
+  const database = await openDatabase(config.database);
+  try {
+    await migrateToLatest(database.db, config.database);
+    return { admin: (await createKey(database.db, 'admin', 'bench uploads')).key, read: (await createKey(database.db, 'read', 'bench pull')).key };
+  } finally {
+    await database.close();
+  }
+}
+
+const bearer = (key: string) => ({ authorization: `Bearer ${key}` });
+
+async function uploadAll(service: RunningService, files: BenchFiles, keys: BenchKeys): Promise<{ customers: number; contacts: number; customersCpu: number; contactsCpu: number }> {
   const cpuAtStart = cpuSeconds(service);
-  const customers = await postFile(`${service.url}/v1/customers`, files.customersCsv);
+  const customers = await postFile(`${service.url}/v1/customers`, files.customersCsv, 'text/csv', bearer(keys.admin));
   if (customers.status !== 201) throw new Error(`customers upload: ${customers.status} ${customers.body}`);
   const cpuAfterCustomers = cpuSeconds(service);
   let contacts = 0;
   for (const campaign of files.contactsCsvs) {
-    const upload = await postFile(`${service.url}/v1/campaigns/${campaign.campaignId}/contacts`, campaign.file);
+    const upload = await postFile(`${service.url}/v1/campaigns/${campaign.campaignId}/contacts`, campaign.file, 'text/csv', bearer(keys.admin));
     if (upload.status !== 201) throw new Error(`contacts upload: ${upload.status} ${upload.body}`);
     contacts += upload.seconds;
   }
@@ -144,14 +173,25 @@ async function json(response: Response): Promise<Record<string, unknown>> {
   return body;
 }
 
-async function pullUnderLoad(url: string): Promise<{ requestsPerSecond: number; p50: number; p99: number; errors: number; non2xx: number }> {
-  const result = await autocannon({ url, connections: 50, duration: pullSeconds, headers: { accept: 'text/csv' } });
+/**
+ * The pull under load. Besides latency it reports the service's CPU time per request, which
+ * other work on a shared machine disturbs far less than latency: the service and autocannon
+ * share the machine's cores, so a loaded machine stretches every latency figure.
+ */
+async function pullUnderLoad(
+  service: RunningService,
+  url: string,
+  readKey: string,
+): Promise<{ requestsPerSecond: number; p50: number; p99: number; errors: number; non2xx: number; serviceCpuMsPerRequest: number }> {
+  const cpuAtStart = cpuSeconds(service);
+  const result = await autocannon({ url, connections: 50, duration: pullSeconds, headers: { accept: 'text/csv', 'accept-encoding': pullEncoding, ...bearer(readKey) } });
   return {
     requestsPerSecond: result.requests.average,
     p50: result.latency.p50,
     p99: result.latency.p99,
     errors: result.errors + result.timeouts,
     non2xx: result.non2xx,
+    serviceCpuMsPerRequest: ((cpuSeconds(service) - cpuAtStart) * 1000) / Math.max(1, result.requests.total),
   };
 }
 
@@ -177,16 +217,17 @@ async function benchSize(engine: Engine, files: BenchFiles): Promise<SizeResult>
   const customerTimes: number[] = [];
   const contactTimes: number[] = [];
   const uploadPeaks: number[] = [];
-  let kept: { workspace: Workspace; service: RunningService } | null = null;
+  let kept: { workspace: Workspace; service: RunningService; keys: BenchKeys } | null = null;
   for (let run = 1; run <= runs; run++) {
     const workspace = newWorkspace(engine, String(contacts));
+    const keys = await issueBenchKeys(workspace);
     // The pull measures what the service can serve, so the per-key rate limit (6000 a minute by
     // default, which 50 connections pass within seconds) is off; so is the event-loop check,
     // which on a loaded machine answered a refresh 503 because the refresh before it held the
     // loop past 2 s (SQLite, 1,000,000 contacts, load average 10 on 2 cores).
-    const service = await startServiceProcess({ ...workspace.env, LOG_LEVEL: 'warn', RATE_LIMIT_PER_KEY: '0', RATE_LIMIT_PER_ADDRESS: '0', MAX_EVENT_LOOP_DELAY_MS: '0' });
+    const service = await startServiceProcess({ ...workspace.env, AUTH_MODE: 'keys', LOG_LEVEL: 'warn', RATE_LIMIT_PER_KEY: '0', RATE_LIMIT_PER_ADDRESS: '0', MAX_EVENT_LOOP_DELAY_MS: '0' });
     const started = performance.now();
-    const times = await uploadAll(service, files);
+    const times = await uploadAll(service, files, keys);
     const total = (performance.now() - started) / 1000;
     uploadTimes.push(total);
     customerTimes.push(times.customers);
@@ -196,13 +237,13 @@ async function benchSize(engine: Engine, files: BenchFiles): Promise<SizeResult>
       `upload run ${run}: ${seconds(total)} (customers ${seconds(times.customers)}, contacts ${seconds(times.contacts)}), ` +
         `service CPU ${seconds(times.customersCpu)} + ${seconds(times.contactsCpu)}, peak RSS ${service.peakRssMiB().toFixed(0)} MiB`,
     );
-    if (run === runs) kept = { workspace, service };
+    if (run === runs) kept = { workspace, service, keys };
     else {
       await service.stop();
       await workspace.cleanup();
     }
   }
-  const { workspace, service } = kept as { workspace: Workspace; service: RunningService };
+  const { workspace, service, keys } = kept as { workspace: Workspace; service: RunningService; keys: BenchKeys };
   const peak = new WholeRunPeak(service);
   try {
     let refresh: SizeResult['refresh'] = null;
@@ -211,7 +252,7 @@ async function benchSize(engine: Engine, files: BenchFiles): Promise<SizeResult>
       const report = await json(
         await fetch(`${service.url}/v1/reports`, {
           method: 'POST',
-          headers: { 'content-type': 'application/json' },
+          headers: { 'content-type': 'application/json', ...bearer(keys.admin) },
           body: JSON.stringify({ name: 'bench', source: { campaign_ids: files.contactsCsvs.map((campaign) => campaign.campaignId) }, dimensions: ['age_band', 'region', 'channel'] }),
         }),
       );
@@ -225,7 +266,7 @@ async function benchSize(engine: Engine, files: BenchFiles): Promise<SizeResult>
         const before = residentMiB(service);
         peak.resetForStep();
         const started = performance.now();
-        const snapshot = await json(await fetch(`${service.url}/v1/reports/${reportId}/refresh`, { method: 'POST' }));
+        const snapshot = await json(await fetch(`${service.url}/v1/reports/${reportId}/refresh`, { method: 'POST', headers: bearer(keys.admin) }));
         refreshTimes.push((performance.now() - started) / 1000);
         serverTimes.push(Number(snapshot['duration_ms']));
         growth.push(service.peakRssMiB() - before);
@@ -235,8 +276,8 @@ async function benchSize(engine: Engine, files: BenchFiles): Promise<SizeResult>
         console.log(`refresh: median ${seconds(refresh.seconds)} end to end, ${refresh.serverMs.toFixed(0)} ms in the service, peak memory growth ${refresh.peakGrowthMiB.toFixed(0)} MiB`);
       }
       if (steps.has('pull')) {
-        pull = await pullUnderLoad(`${service.url}/v1/reports/${reportId}/segments?format=csv`);
-        console.log(`BI pull (50 connections, ${pullSeconds} s): ${Math.round(pull.requestsPerSecond)} requests/s, p50 ${pull.p50} ms, p99 ${pull.p99} ms, errors ${pull.errors}, non-2xx ${pull.non2xx}`);
+        pull = await pullUnderLoad(service, `${service.url}/v1/reports/${reportId}/segments?format=csv`, keys.read);
+        console.log(`BI pull (50 connections, ${pullSeconds} s, read key, Accept-Encoding: ${pullEncoding}): ${Math.round(pull.requestsPerSecond)} requests/s, p50 ${pull.p50} ms, p99 ${pull.p99} ms, errors ${pull.errors}, non-2xx ${pull.non2xx}, service CPU ${pull.serviceCpuMsPerRequest.toFixed(3)} ms a request`);
       }
     }
     const wholeRunPeakMiB = Math.max(peak.read(), ...uploadPeaks);

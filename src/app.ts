@@ -4,6 +4,7 @@
  */
 import accepts from '@fastify/accepts';
 import Fastify, { type FastifyInstance } from 'fastify';
+import { KeyVerifier } from './auth/key-verifier.js';
 import type { Config } from './config.js';
 import type { DatabaseHandle } from './db/connect.js';
 import { registerAuth } from './http/auth.js';
@@ -92,7 +93,14 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
       progressEveryRows: deps.config.ingestProgressEveryRows,
     },
   };
-  const tables = new SegmentTableCache();
+  const tables = new SegmentTableCache(64, deps.config.sharedStateCacheMs);
+  // A request that may have written (a refresh, an erasure, a deleted report) makes the next
+  // segment table read the database again; it runs before the answer leaves, so the client
+  // that made the change sees it on its next request.
+  app.addHook('onSend', async (request, _reply, payload) => {
+    if (request.method !== 'GET' && request.method !== 'HEAD' && request.method !== 'OPTIONS') tables.versions.forgetAll();
+    return payload;
+  });
   const charts = createChartCache();
   app.addHook('onClose', async () => {
     tables.clear();
@@ -104,7 +112,7 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
   const rateLimits = await registerRateLimits(app, deps.config);
   registerCrossSiteCheck(app, { allowedOrigins: deps.config.corsOrigins });
   registerAuth(app, {
-    db: deps.database.readDb,
+    keys: new KeyVerifier(deps.database.readDb, deps.config.sharedStateCacheMs),
     mode: deps.config.authMode,
     ...(rateLimits ? { onKeyRefused: (request) => rateLimits.failedAuthentication(request) } : {}),
   });

@@ -46,6 +46,15 @@ export interface Config {
    * machine only — refused unless the service listens on a loopback address.
    */
   authMode: 'keys' | 'open';
+  /**
+   * How long, in milliseconds, this process may answer from memory what is stored in the
+   * database and can change elsewhere (another service process on the same PostgreSQL
+   * database, the command line, the schedule): whether an API key is valid, and which snapshot
+   * of a report the segment table serves (latest, redacted, or gone with its report). Changes
+   * made through this process's own API are seen by the next request; 0 reads the database
+   * on every request.
+   */
+  sharedStateCacheMs: number;
   /** Requests per window per API key (every non-public route in open mode counts as one key); 0 turns the limit off. */
   rateLimitPerKey: number;
   /**
@@ -130,6 +139,7 @@ export function loadConfig(env: Environment = process.env): Config {
     scheduleEnabled: readBoolean(env, 'SCHEDULE_ENABLED', true),
     shutdownGraceMs: readInteger(env, 'SHUTDOWN_GRACE_MS', 10_000, { min: 0, max: 600_000 }),
     authMode: readAuthMode(env, host),
+    sharedStateCacheMs: readInteger(env, 'SHARED_STATE_CACHE_MS', 1000, { min: 0, max: 60_000 }),
     rateLimitPerKey: readInteger(env, 'RATE_LIMIT_PER_KEY', 6000, { min: 0, max: 10_000_000 }),
     rateLimitPerAddress: readInteger(env, 'RATE_LIMIT_PER_ADDRESS', 600, { min: 0, max: 10_000_000 }),
     rateLimitWindowSeconds: readInteger(env, 'RATE_LIMIT_WINDOW_SECONDS', 60, { min: 1, max: 86_400 }),

@@ -59,16 +59,37 @@ export async function revokeKey(db: Kysely<Database>, keyIdOrKey: string, now: D
   return Number(result.numUpdatedRows) > 0;
 }
 
-/** The role of a presented key, or null when it is malformed, unknown, revoked or wrong. */
-export async function verifyKey(db: Kysely<Database>, presented: string): Promise<{ keyId: string; role: Role } | null> {
+/** A key's stored row as verification needs it. */
+export interface StoredKey {
+  role: string;
+  secret_sha256: string;
+  revoked_at: string | null;
+}
+
+/** The stored row of a key id, or undefined when there is none. */
+export async function readStoredKey(db: Kysely<Database>, keyId: string): Promise<StoredKey | undefined> {
+  return db.selectFrom('api_keys').select(['role', 'secret_sha256', 'revoked_at']).where('key_id', '=', keyId).executeTakeFirst();
+}
+
+/** The key id and secret of a well-formed key, or null. */
+export function splitKey(presented: string): { keyId: string; secret: string } | null {
   const match = KEY_PATTERN.exec(presented);
-  if (!match) return null;
-  const [, keyId, secret] = match as unknown as [string, string, string];
-  const stored = await db.selectFrom('api_keys').select(['role', 'secret_sha256', 'revoked_at']).where('key_id', '=', keyId).executeTakeFirst();
+  return match ? { keyId: match[1] as string, secret: match[2] as string } : null;
+}
+
+/** The role the stored row grants to this secret, or null when it is unknown, revoked or the secret is wrong. */
+export function roleGranted(keyId: string, stored: StoredKey | undefined, secret: string): { keyId: string; role: Role } | null {
   const expected = Buffer.from(stored?.secret_sha256 ?? '0'.repeat(64), 'hex');
   const actual = Buffer.from(sha256(secret), 'hex');
   // Compare even when the id is unknown, so timing does not tell which ids exist.
   const secretMatches = timingSafeEqual(expected, actual);
   if (!stored || !secretMatches || stored.revoked_at !== null || !isRole(stored.role)) return null;
   return { keyId, role: stored.role };
+}
+
+/** The role of a presented key, or null when it is malformed, unknown, revoked or wrong. */
+export async function verifyKey(db: Kysely<Database>, presented: string): Promise<{ keyId: string; role: Role } | null> {
+  const parts = splitKey(presented);
+  if (!parts) return null;
+  return roleGranted(parts.keyId, await readStoredKey(db, parts.keyId), parts.secret);
 }

@@ -4,9 +4,8 @@
  * registered route is listed. Admin keys are accepted everywhere.
  */
 import type { FastifyInstance, FastifyRequest } from 'fastify';
-import type { Kysely } from 'kysely';
-import { verifyKey, type Role } from '../auth/keys.js';
-import type { Database } from '../db/tables.js';
+import type { KeyVerifier } from '../auth/key-verifier.js';
+import type { Role } from '../auth/keys.js';
 import { sendProblem } from './errors.js';
 import { Problem } from './problems.js';
 
@@ -80,7 +79,7 @@ export function presentedKey(header: string | undefined): string | null {
 }
 
 export interface AuthOptions {
-  db: Kysely<Database>;
+  keys: KeyVerifier;
   mode: 'keys' | 'open';
   /** Told of every refused key; a problem it returns (429) is answered instead of 401. */
   onKeyRefused?: (request: FastifyRequest) => Promise<Problem | null>;
@@ -113,7 +112,7 @@ export function registerAuth(app: FastifyInstance, options: AuthOptions): void {
         new Problem('unauthorized', 'Basic credentials are accepted only when reading the report page and the data it links to; send the key as "Authorization: Bearer <key>"'),
       );
     }
-    const verified = await verifyKey(options.db, presented);
+    const verified = await options.keys.verify(presented);
     if (!verified) {
       const limited = await options.onKeyRefused?.(request);
       if (limited) return sendProblem(reply, request, limited);

@@ -37,7 +37,8 @@ function matchesIfNoneMatch(header: string | undefined, tag: string): boolean {
 
 /** Sends `body` with a strong entity tag over its exact bytes (RFC 9110 §8.8.3), or 304 when the client has it. */
 function sendWithEntityTag(request: FastifyRequest, reply: FastifyReply, body: string | Buffer, contentType: string, tag: string = entityTag(body)): FastifyReply {
-  reply.header('etag', tag).header('cache-control', 'private, no-cache').header('vary', 'Accept');
+  reply.header('etag', tag).header('cache-control', 'private, no-cache');
+  if (!reply.hasHeader('vary')) reply.header('vary', 'Accept');
   if (matchesIfNoneMatch(request.headers['if-none-match'], tag)) return reply.code(304).send();
   return reply.code(200).type(contentType).send(body);
 }
@@ -153,6 +154,11 @@ export const reportRoutes: FastifyPluginAsync<ReportRouteOptions> = async (app, 
       const table = await segmentTable(deps, tables, reportId, snapshotId, representation, { bom: bom === '1', holdoutColumns: holdoutColumns === '1' });
       if (table === undefined) throw new SnapshotNotFoundError(reportId, snapshotId);
       if (representation === 'csv') reply.header('content-disposition', `attachment; filename="segments-${table.snapshotId}.csv"`);
+      reply.header('vary', 'Accept, Accept-Encoding');
+      if (request.accepts().encoding(['identity', 'gzip']) === 'gzip') {
+        reply.header('content-encoding', 'gzip');
+        return sendWithEntityTag(request, reply, table.gzipped, TABLE_MEDIA_TYPES[representation], table.gzippedEntityTag);
+      }
       return sendWithEntityTag(request, reply, table.bytes, TABLE_MEDIA_TYPES[representation], table.entityTag);
     },
   );

@@ -1,3 +1,4 @@
+import { gunzipSync } from 'node:zlib';
 import { parse } from 'csv-parse/sync';
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
 import { segmentTableColumns, tableCsv } from '../../src/present/index.js';
@@ -172,6 +173,26 @@ describe.each(TEST_DIALECTS)('the ranked segment table for BI tools (%s)', (dial
     expect(weak.statusCode).toBe(304);
     const stale = await context.app.inject({ method: 'GET', url, headers: { 'if-none-match': csvTag } });
     expect(stale.statusCode).toBe(200);
+  });
+
+  test('a client accepting gzip gets the same table gzip-compressed, under its own ETag', async () => {
+    const url = `/v1/reports/${reportId}/segments?format=csv`;
+    const plain = await context.app.inject({ method: 'GET', url });
+    const compressed = await context.app.inject({ method: 'GET', url, headers: { 'accept-encoding': 'gzip, deflate, br' } });
+    expect(plain.headers['content-encoding']).toBeUndefined();
+    expect(compressed.statusCode).toBe(200);
+    expect(compressed.headers['content-encoding']).toBe('gzip');
+    expect(compressed.headers.vary).toBe('Accept, Accept-Encoding');
+    expect(compressed.headers['content-type']).toBe(plain.headers['content-type']);
+    expect(gunzipSync(compressed.rawPayload).equals(plain.rawPayload)).toBe(true);
+    expect(compressed.rawPayload.length).toBeLessThan(plain.rawPayload.length);
+    const gzipTag = compressed.headers.etag as string;
+    expect(gzipTag).toMatch(/^"[^"]+"$/);
+    expect(gzipTag).not.toBe(plain.headers.etag);
+    const notModified = await context.app.inject({ method: 'GET', url, headers: { 'accept-encoding': 'gzip', 'if-none-match': gzipTag } });
+    expect(notModified.statusCode).toBe(304);
+    // gzip refused by q=0 leaves the body as it is.
+    expect((await context.app.inject({ method: 'GET', url, headers: { 'accept-encoding': 'gzip;q=0' } })).headers['content-encoding']).toBeUndefined();
   });
 
   test('the ETag changes when a new snapshot becomes the latest', async () => {

@@ -1,7 +1,15 @@
+import { gzipSync } from 'node:zlib';
 import { describe, expect, it } from 'vitest';
 import { SegmentTableCache, entityTag, type RenderedTable } from '../../src/present/index.js';
 
-const table = (snapshotId: string): RenderedTable => ({ snapshotId, body: `body of ${snapshotId}`, bytes: Buffer.from(`body of ${snapshotId}`), entityTag: entityTag(`body of ${snapshotId}`) });
+const table = (snapshotId: string): RenderedTable => ({
+  snapshotId,
+  body: `body of ${snapshotId}`,
+  bytes: Buffer.from(`body of ${snapshotId}`),
+  entityTag: entityTag(`body of ${snapshotId}`),
+  gzipped: gzipSync(`body of ${snapshotId}`),
+  gzippedEntityTag: `"gzip of ${snapshotId}"`,
+});
 
 describe('SegmentTableCache', () => {
   it('returns a stored table for the same report, snapshot and format only', () => {

@@ -85,11 +85,11 @@ export async function postStream(url: string, body: AsyncIterable<string | Uint8
   return { status: response.status, body: await response.text() };
 }
 
-export async function postFile(url: string, file: string, contentType = 'text/csv'): Promise<{ status: number; body: string; seconds: number }> {
+export async function postFile(url: string, file: string, contentType = 'text/csv', headers: Record<string, string> = {}): Promise<{ status: number; body: string; seconds: number }> {
   const started = performance.now();
   const response = await fetch(url, {
     method: 'POST',
-    headers: { 'content-type': contentType, 'content-length': String(fs.statSync(file).size) },
+    headers: { ...headers, 'content-type': contentType, 'content-length': String(fs.statSync(file).size) },
     body: fs.createReadStream(file) as unknown as ReadableStream,
     duplex: 'half',
   } as RequestInit);
