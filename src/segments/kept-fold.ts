@@ -16,6 +16,7 @@
  * (age bin, value), as many as the two value queries returned. The rows themselves are not kept.
  */
 import { binIndex, requireIntegerAxis, type AgeBinValueCount, type GridAxis } from './age-value-grid.js';
+import { countByBucketAndValue } from './bucket-value-counts.js';
 import { foldCellGroups, type CellAggregate, type CellAggregates, type GroupSums } from './cells.js';
 import { plausibleAgeOf, type AggregationRequest } from './population.js';
 import { exactTotals, shiftsFromTotals, type Shifts } from './shifted-sums.js';
@@ -244,7 +245,8 @@ export class KeptCountsFold {
     const { sums, positionOf } = groupSumsOf(groups);
     const { aggregates: population, cellOfGroup: cellOfPosition } = armAggregates(sums, request);
     const holdout = this.splitArms ? armAggregates(groupSumsOf(this.holdoutArm.groups).sums, request).aggregates : null;
-    const { length: rowCount, groups: rowGroups, values: rowValues, units: rowUnits } = this.rows;
+    const rows = this.rows;
+    const { length: rowCount, groups: rowGroups, values: rowValues, units: rowUnits } = rows;
     // The value metric's units: every unit per unit, the converted ones per conversion.
     const counted = groups.map((group) => request.valueBasis === 'per_unit' || group.converted);
     const cellOf = groups.map((_group, index) => cellOfPosition[positionOf[index] as number] as number);
@@ -268,15 +270,14 @@ export class KeptCountsFold {
       },
       valueCountsByAgeBin(ageAxis) {
         if (ageAxis !== null) requireIntegerAxis('age', ageAxis);
-        const binOf = groups.map((group) => {
+        // Buckets: the axis' bins, then the units of no plausible age (ageBin null).
+        const unknownBucket = ageAxis === null ? 0 : ageAxis.bins;
+        const bucketOfGroup = Int32Array.from(groups, (group, index) => {
+          if (!(counted[index] as boolean)) return -1;
           const age = plausibleAgeOfStored(group.storedAge);
-          return age === null || ageAxis === null ? null : binIndex(age, ageAxis);
+          return age === null || ageAxis === null ? unknownBucket : binIndex(age, ageAxis);
         });
-        const perBin = new Map<number | null, Map<number, number>>();
-        countRows(rowCount, rowGroups, rowValues, rowUnits, (group) => (counted[group] ? countsOf(perBin, binOf[group] as number | null) : null));
-        const counts: AgeBinValueCount[] = [];
-        for (const [ageBin, values] of perBin) for (const [valueCents, count] of values) counts.push({ ageBin, valueCents, count });
-        return counts;
+        return countByBucketAndValue(rows, bucketOfGroup, unknownBucket + 1).map(({ bucket, valueCents, count }) => ({ ageBin: bucket === unknownBucket ? null : bucket, valueCents, count }));
       },
     };
   }

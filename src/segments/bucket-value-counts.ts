@@ -1,0 +1,90 @@
+/**
+ * Units counted per (bucket, value) over rows kept column by column (kept-fold.ts), e.g. per
+ * age bin and value. The distinct values are indexed once and the counts kept in one flat typed
+ * array of buckets × distinct values, so a million contacts' rows make no map entries and no
+ * garbage besides the two arrays; past `denseLimit` entries (many buckets and many values) the
+ * counts go to one map per bucket instead. Units are whole numbers, so either way gives the same
+ * sums; the entries come bucket by bucket, values ascending within a bucket.
+ */
+
+/** The rows to count: row r is in group `groups[r]`, worth `values[r]` cents, `units[r]` units. */
+export interface RowColumnsView {
+  length: number;
+  groups: Int32Array;
+  values: Float64Array;
+  units: Float64Array;
+}
+
+/** One counted (bucket, value): its units. */
+export interface BucketValueCount {
+  bucket: number;
+  valueCents: number;
+  count: number;
+}
+
+/** Most entries of the flat array (8 bytes each, and 1 byte to mark it used) before maps are used. */
+export const DENSE_COUNTS_LIMIT = 1 << 21;
+
+/** The distinct values of the rows, ascending, and for each row the index of its value among them. */
+function indexValues(rows: RowColumnsView): { distinct: Float64Array; indexOfRow: Int32Array } {
+  const indexOfValue = new Map<number, number>();
+  const indexOfRow = new Int32Array(rows.length);
+  for (let row = 0; row < rows.length; row++) {
+    const value = rows.values[row] as number;
+    let index = indexOfValue.get(value);
+    if (index === undefined) indexOfValue.set(value, (index = indexOfValue.size));
+    indexOfRow[row] = index;
+  }
+  const distinct = new Float64Array(indexOfValue.size);
+  for (const [value, index] of indexOfValue) distinct[index] = value;
+  // Renumbered in ascending order of value.
+  const order = new Int32Array(distinct.length).map((_, index) => index).sort((left, right) => (distinct[left] as number) - (distinct[right] as number));
+  const rank = new Int32Array(distinct.length);
+  const sorted = new Float64Array(distinct.length);
+  order.forEach((index, position) => {
+    rank[index] = position;
+    sorted[position] = distinct[index] as number;
+  });
+  for (let row = 0; row < rows.length; row++) indexOfRow[row] = rank[indexOfRow[row] as number] as number;
+  return { distinct: sorted, indexOfRow };
+}
+
+/**
+ * The units of the rows per bucket and value, each (bucket, value) with a row once.
+ * `bucketOfGroup[g]`: the bucket (0 … bucketCount − 1) of group g's rows, or −1 to leave them out.
+ */
+export function countByBucketAndValue(rows: RowColumnsView, bucketOfGroup: Int32Array, bucketCount: number, denseLimit = DENSE_COUNTS_LIMIT): BucketValueCount[] {
+  const { distinct, indexOfRow } = indexValues(rows);
+  const width = distinct.length;
+  const counts: BucketValueCount[] = [];
+  if (bucketCount * width <= denseLimit) {
+    const sums = new Float64Array(bucketCount * width);
+    const used = new Uint8Array(bucketCount * width);
+    for (let row = 0; row < rows.length; row++) {
+      const bucket = bucketOfGroup[rows.groups[row] as number] as number;
+      if (bucket < 0) continue;
+      const slot = bucket * width + (indexOfRow[row] as number);
+      sums[slot] = (sums[slot] as number) + (rows.units[row] as number);
+      used[slot] = 1;
+    }
+    for (let bucket = 0; bucket < bucketCount; bucket++) {
+      for (let index = 0; index < width; index++) {
+        const slot = bucket * width + index;
+        if (used[slot] === 1) counts.push({ bucket, valueCents: distinct[index] as number, count: sums[slot] as number });
+      }
+    }
+    return counts;
+  }
+  const perBucket = Array.from({ length: bucketCount }, () => new Map<number, number>());
+  for (let row = 0; row < rows.length; row++) {
+    const bucket = bucketOfGroup[rows.groups[row] as number] as number;
+    if (bucket < 0) continue;
+    const values = perBucket[bucket] as Map<number, number>;
+    const index = indexOfRow[row] as number;
+    values.set(index, (values.get(index) ?? 0) + (rows.units[row] as number));
+  }
+  perBucket.forEach((values, bucket) => {
+    for (const index of [...values.keys()].sort((left, right) => left - right)) counts.push({ bucket, valueCents: distinct[index] as number, count: values.get(index) as number });
+  });
+  return counts;
+}
