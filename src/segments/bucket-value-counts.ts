@@ -49,42 +49,123 @@ function indexValues(rows: RowColumnsView): { distinct: Float64Array; indexOfRow
   return { distinct: sorted, indexOfRow };
 }
 
+/** The units of each bucket, summed per bin of the value (`binOfValue`, 0 … valueBins − 1), for the buckets before `firstSkipped`. */
+export interface BucketBinCount {
+  bucket: number;
+  valueBin: number;
+  count: number;
+}
+
+/** A (bucket, value) table's figures: every entry, the totals per value, or the entries binned by value. */
+export interface BucketValueTable {
+  /** Each (bucket, value) with a row once, bucket by bucket, values ascending. */
+  entries(): BucketValueCount[];
+  /** The units of each value over every bucket, values ascending (as summing `entries()` per value). */
+  valueTotals(): Array<{ valueCents: number; count: number }>;
+  /** The units of buckets 0 … `bucketsKept` − 1 per bucket and value bin, by bucket then bin (as summing `entries()` so). */
+  binnedByValue(bucketsKept: number, binOfValue: (valueCents: number) => number, valueBins: number): BucketBinCount[];
+}
+
+/** Sums per (bucket, value) from entries, for the tables kept in maps. */
+function tableOfEntries(entries: BucketValueCount[]): BucketValueTable {
+  return {
+    entries: () => entries,
+    valueTotals() {
+      const totals = new Map<number, number>();
+      for (const { valueCents, count } of entries) totals.set(valueCents, (totals.get(valueCents) ?? 0) + count);
+      return [...totals].map(([valueCents, count]) => ({ valueCents, count })).sort((left, right) => left.valueCents - right.valueCents);
+    },
+    binnedByValue(bucketsKept, binOfValue) {
+      const cells = new Map<string, BucketBinCount>();
+      for (const { bucket, valueCents, count } of entries) {
+        if (bucket >= bucketsKept) continue;
+        const valueBin = binOfValue(valueCents);
+        const key = `${bucket}|${valueBin}`;
+        const cell = cells.get(key);
+        if (cell) cell.count += count;
+        else cells.set(key, { bucket, valueBin, count });
+      }
+      return [...cells.values()].sort((left, right) => left.bucket - right.bucket || left.valueBin - right.valueBin);
+    },
+  };
+}
+
 /**
- * The units of the rows per bucket and value, each (bucket, value) with a row once.
+ * The units of the rows per bucket and value.
  * `bucketOfGroup[g]`: the bucket (0 … bucketCount − 1) of group g's rows, or −1 to leave them out.
  */
-export function countByBucketAndValue(rows: RowColumnsView, bucketOfGroup: Int32Array, bucketCount: number, denseLimit = DENSE_COUNTS_LIMIT): BucketValueCount[] {
+export function countByBucketAndValue(rows: RowColumnsView, bucketOfGroup: Int32Array, bucketCount: number, denseLimit = DENSE_COUNTS_LIMIT): BucketValueTable {
   const { distinct, indexOfRow } = indexValues(rows);
   const width = distinct.length;
-  const counts: BucketValueCount[] = [];
-  if (bucketCount * width <= denseLimit) {
-    const sums = new Float64Array(bucketCount * width);
-    const used = new Uint8Array(bucketCount * width);
+  if (bucketCount * width > denseLimit) {
+    const perBucket = Array.from({ length: bucketCount }, () => new Map<number, number>());
     for (let row = 0; row < rows.length; row++) {
       const bucket = bucketOfGroup[rows.groups[row] as number] as number;
       if (bucket < 0) continue;
-      const slot = bucket * width + (indexOfRow[row] as number);
-      sums[slot] = (sums[slot] as number) + (rows.units[row] as number);
-      used[slot] = 1;
+      const values = perBucket[bucket] as Map<number, number>;
+      const index = indexOfRow[row] as number;
+      values.set(index, (values.get(index) ?? 0) + (rows.units[row] as number));
     }
-    for (let bucket = 0; bucket < bucketCount; bucket++) {
-      for (let index = 0; index < width; index++) {
-        const slot = bucket * width + index;
-        if (used[slot] === 1) counts.push({ bucket, valueCents: distinct[index] as number, count: sums[slot] as number });
-      }
-    }
-    return counts;
+    const entries: BucketValueCount[] = [];
+    perBucket.forEach((values, bucket) => {
+      for (const index of [...values.keys()].sort((left, right) => left - right)) entries.push({ bucket, valueCents: distinct[index] as number, count: values.get(index) as number });
+    });
+    return tableOfEntries(entries);
   }
-  const perBucket = Array.from({ length: bucketCount }, () => new Map<number, number>());
+  const sums = new Float64Array(bucketCount * width);
+  const used = new Uint8Array(bucketCount * width);
   for (let row = 0; row < rows.length; row++) {
     const bucket = bucketOfGroup[rows.groups[row] as number] as number;
     if (bucket < 0) continue;
-    const values = perBucket[bucket] as Map<number, number>;
-    const index = indexOfRow[row] as number;
-    values.set(index, (values.get(index) ?? 0) + (rows.units[row] as number));
+    const slot = bucket * width + (indexOfRow[row] as number);
+    sums[slot] = (sums[slot] as number) + (rows.units[row] as number);
+    used[slot] = 1;
   }
-  perBucket.forEach((values, bucket) => {
-    for (const index of [...values.keys()].sort((left, right) => left - right)) counts.push({ bucket, valueCents: distinct[index] as number, count: values.get(index) as number });
-  });
-  return counts;
+  return {
+    entries() {
+      const entries: BucketValueCount[] = [];
+      for (let bucket = 0; bucket < bucketCount; bucket++) {
+        for (let index = 0; index < width; index++) {
+          const slot = bucket * width + index;
+          if (used[slot] === 1) entries.push({ bucket, valueCents: distinct[index] as number, count: sums[slot] as number });
+        }
+      }
+      return entries;
+    },
+    valueTotals() {
+      const totals: Array<{ valueCents: number; count: number }> = [];
+      for (let index = 0; index < width; index++) {
+        let count = 0;
+        let seen = false;
+        for (let bucket = 0; bucket < bucketCount; bucket++) {
+          const slot = bucket * width + index;
+          if (used[slot] === 1) {
+            seen = true;
+            count += sums[slot] as number;
+          }
+        }
+        if (seen) totals.push({ valueCents: distinct[index] as number, count });
+      }
+      return totals;
+    },
+    binnedByValue(bucketsKept, binOfValue, valueBins) {
+      const binOfIndex = Int32Array.from(distinct, (valueCents) => binOfValue(valueCents));
+      const binned: BucketBinCount[] = [];
+      const binSums = new Float64Array(valueBins);
+      const binUsed = new Uint8Array(valueBins);
+      for (let bucket = 0; bucket < Math.min(bucketsKept, bucketCount); bucket++) {
+        binSums.fill(0);
+        binUsed.fill(0);
+        for (let index = 0; index < width; index++) {
+          const slot = bucket * width + index;
+          if (used[slot] !== 1) continue;
+          const bin = binOfIndex[index] as number;
+          binSums[bin] = (binSums[bin] as number) + (sums[slot] as number);
+          binUsed[bin] = 1;
+        }
+        for (let bin = 0; bin < valueBins; bin++) if (binUsed[bin] === 1) binned.push({ bucket, valueBin: bin, count: binSums[bin] as number });
+      }
+      return binned;
+    },
+  };
 }

@@ -15,7 +15,7 @@
  * one object per group, and for the value counts one entry per distinct (cell, value) and
  * (age bin, value), as many as the two value queries returned. The rows themselves are not kept.
  */
-import { binIndex, requireIntegerAxis, type AgeBinValueCount, type GridAxis } from './age-value-grid.js';
+import { binIndex, requireIntegerAxis, type AgeBinValueCount, type GridAxis, type ValuesByAge } from './age-value-grid.js';
 import { countByBucketAndValue } from './bucket-value-counts.js';
 import { foldCellGroups, type CellAggregate, type CellAggregates, type GroupSums } from './cells.js';
 import { plausibleAgeOf, type AggregationRequest } from './population.js';
@@ -178,6 +178,11 @@ export interface KeptAggregates {
    * @throws Error when the axis does not have whole-number bounds
    */
   valueCountsByAgeBin(ageAxis: GridAxis | null): AgeBinValueCount[];
+  /**
+   * As `valuesByAgeOf(this.valueCountsByAgeBin(ageAxis))`, without an entry per age bin and value.
+   * @throws Error when the axis does not have whole-number bounds
+   */
+  valuesByAge(ageAxis: GridAxis | null): ValuesByAge;
 }
 
 /** The counts kept under `key` in `maps`, made empty when missing. */
@@ -250,6 +255,17 @@ export class KeptCountsFold {
     // The value metric's units: every unit per unit, the converted ones per conversion.
     const counted = groups.map((group) => request.valueBasis === 'per_unit' || group.converted);
     const cellOf = groups.map((_group, index) => cellOfPosition[positionOf[index] as number] as number);
+    // The value metric's units per age bin (the axis' bins, then no plausible age) and value.
+    const ageValueTable = (ageAxis: GridAxis | null) => {
+      if (ageAxis !== null) requireIntegerAxis('age', ageAxis);
+      const unknownBucket = ageAxis === null ? 0 : ageAxis.bins;
+      const bucketOfGroup = Int32Array.from(groups, (group, index) => {
+        if (!(counted[index] as boolean)) return -1;
+        const age = plausibleAgeOfStored(group.storedAge);
+        return age === null || ageAxis === null ? unknownBucket : binIndex(age, ageAxis);
+      });
+      return { table: countByBucketAndValue(rows, bucketOfGroup, unknownBucket + 1), unknownBucket };
+    };
     return {
       population,
       holdout,
@@ -269,15 +285,19 @@ export class KeptCountsFold {
         return counts;
       },
       valueCountsByAgeBin(ageAxis) {
-        if (ageAxis !== null) requireIntegerAxis('age', ageAxis);
-        // Buckets: the axis' bins, then the units of no plausible age (ageBin null).
-        const unknownBucket = ageAxis === null ? 0 : ageAxis.bins;
-        const bucketOfGroup = Int32Array.from(groups, (group, index) => {
-          if (!(counted[index] as boolean)) return -1;
-          const age = plausibleAgeOfStored(group.storedAge);
-          return age === null || ageAxis === null ? unknownBucket : binIndex(age, ageAxis);
-        });
-        return countByBucketAndValue(rows, bucketOfGroup, unknownBucket + 1).map(({ bucket, valueCents, count }) => ({ ageBin: bucket === unknownBucket ? null : bucket, valueCents, count }));
+        const { table, unknownBucket } = ageValueTable(ageAxis);
+        return table.entries().map(({ bucket, valueCents, count }) => ({ ageBin: bucket === unknownBucket ? null : bucket, valueCents, count }));
+      },
+      valuesByAge(ageAxis) {
+        const { table, unknownBucket } = ageValueTable(ageAxis);
+        return {
+          wholeValueCounts: table.valueTotals(),
+          gridCounts(axes) {
+            requireIntegerAxis('value', axes.valueCents);
+            const binned = table.binnedByValue(unknownBucket, (valueCents) => binIndex(valueCents, axes.valueCents), axes.valueCents.bins);
+            return binned.map(({ bucket, valueBin, count }) => ({ ageBin: bucket, valueBin, count }));
+          },
+        };
       },
     };
   }

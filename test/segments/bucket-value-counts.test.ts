@@ -32,16 +32,34 @@ describe('units per bucket and value', () => {
     { bucket: 1, valueCents: 500, count: 6 },
   ];
 
-  test('sums the units of each (bucket, value), bucket by bucket, values ascending, leaving out the groups without a bucket', () => {
-    expect(countByBucketAndValue(rows, bucketOfGroup, 2)).toEqual(expected);
+  const totals = [
+    { valueCents: 0, count: 7 },
+    { valueCents: 12, count: 1 },
+    { valueCents: 500, count: 10 },
+    { valueCents: 99_999_999_999_999, count: 1 },
+  ];
+  // Values up to 100 in bin 0, the rest in bin 1.
+  const binOfValue = (valueCents: number) => (valueCents <= 100 ? 0 : 1);
+
+  // The flat array (the default limit) and the maps (a limit of 3 entries, below 2 buckets × 4 values).
+  test.each([undefined, 3])('sums the units of each (bucket, value), per value and per value bin, leaving out the groups without a bucket (limit %s)', (limit) => {
+    const table = countByBucketAndValue(rows, bucketOfGroup, 2, limit);
+    expect(table.entries()).toEqual(expected);
+    expect(table.valueTotals()).toEqual(totals);
+    expect(table.binnedByValue(2, binOfValue, 2)).toEqual([
+      { bucket: 0, valueBin: 1, count: 5 },
+      { bucket: 1, valueBin: 0, count: 8 },
+      { bucket: 1, valueBin: 1, count: 6 },
+    ]);
+    // Only the buckets before the one given, as the grid leaves out the units of no known age.
+    expect(table.binnedByValue(1, binOfValue, 2)).toEqual([{ bucket: 0, valueBin: 1, count: 5 }]);
   });
 
-  test('gives the same counts past the limit of the flat array, through maps', () => {
-    expect(countByBucketAndValue(rows, bucketOfGroup, 2, 3)).toEqual(expected);
-  });
-
-  test('gives nothing for no rows or no bucket', () => {
-    expect(countByBucketAndValue(rowsOf([]), bucketOfGroup, 2)).toEqual([]);
-    expect(countByBucketAndValue(rows, Int32Array.from([-1, -1, -1, -1]), 2)).toEqual([]);
+  test.each([undefined, 0])('gives nothing for no rows or no bucket (limit %s)', (limit) => {
+    for (const table of [countByBucketAndValue(rowsOf([]), bucketOfGroup, 2, limit), countByBucketAndValue(rows, Int32Array.from([-1, -1, -1, -1]), 2, limit)]) {
+      expect(table.entries()).toEqual([]);
+      expect(table.valueTotals()).toEqual([]);
+      expect(table.binnedByValue(2, binOfValue, 2)).toEqual([]);
+    }
   });
 });
