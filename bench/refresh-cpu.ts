@@ -44,7 +44,8 @@ async function runSeries(file: string, root: string, refreshes: number): Promise
   const { createSnapshotBuilder } = await load<typeof import('../src/report/snapshot/build-pool.js')>('src/report/snapshot/build-pool.ts');
   const { openDatabase } = await load<typeof import('../src/db/connect.js')>('src/db/connect.ts');
   const { sql } = await import('kysely');
-  const config = loadConfig({});
+  // The service's settings from the environment (HEAP_GROWING_PERCENT among them), as the service reads them.
+  const config = loadConfig(process.env);
   limitHeapGrowth(config.heapGrowingPercent);
   const handle = await openDatabase({ dialect: 'sqlite', file });
   const report = (await sql<{ report_id: string; name: string; definition: string }>`select report_id, name, definition from reports order by created_at limit 1`.execute(handle.readDb)).rows[0];
