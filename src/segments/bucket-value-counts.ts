@@ -23,7 +23,7 @@ export interface BucketValueCount {
 }
 
 /** Most entries of the flat array (8 bytes each, and 1 byte to mark it used) before maps are used. */
-export const DENSE_COUNTS_LIMIT = 1 << 21;
+const DENSE_COUNTS_LIMIT = 1 << 21;
 
 /** The distinct values of the rows, ascending, and for each row the index of its value among them. */
 function indexValues(rows: RowColumnsView): { distinct: Float64Array; indexOfRow: Int32Array } {
