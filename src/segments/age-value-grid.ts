@@ -136,6 +136,19 @@ export function valueCountsOf(counts: readonly AgeBinValueCount[]): PopulationVa
   return [...byValue].map(([valueCents, count]) => ({ valueCents, count })).sort((left, right) => left.valueCents - right.valueCents);
 }
 
+/** What a report takes from its value counts per age bin: the counts per value, and the grid's cells once its axes are known. */
+export interface ValuesByAge {
+  /** As `valueCountsOf`. */
+  wholeValueCounts: PopulationValueCount[];
+  /** As `gridCountsOf`. @throws Error when the value axis does not have whole-number bounds */
+  gridCounts(axes: AgeValueGridAxes): AgeValueBinCount[];
+}
+
+/** `valueCountsOf` and `gridCountsOf` of `valueCountsByAgeBin`'s rows. */
+export function valuesByAgeOf(counts: readonly AgeBinValueCount[]): ValuesByAge {
+  return { wholeValueCounts: valueCountsOf(counts), gridCounts: (axes) => gridCountsOf(counts, axes) };
+}
+
 /**
  * The occupied cells of the age × value grid from `valueCountsByAgeBin`'s rows (binned on
  * `axes.age`), the values binned on `axes.valueCents`; units of unknown age are left out.

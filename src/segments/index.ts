@@ -13,8 +13,8 @@
  * - `sourceQuality`: data-quality counts the cells do not show;
  * - `rollUp`: cells → total, one-way and two-way segments.
  */
-export { binIndex, gridCountsOf, valueCountsByAgeBin, valueCountsOf } from './age-value-grid.js';
-export type { AgeValueBinCount, AgeValueGridAxes, GridAxis, PopulationValueCount } from './age-value-grid.js';
+export { binIndex, gridCountsOf, valueCountsByAgeBin, valueCountsOf, valuesByAgeOf } from './age-value-grid.js';
+export type { AgeValueBinCount, AgeValueGridAxes, GridAxis, PopulationValueCount, ValuesByAge } from './age-value-grid.js';
 
 export { cellAggregates, emptyCell, shiftsAndCellAggregates } from './cells.js';
 export type { AgeCount, CampaignCellCount, CellAggregate } from './cells.js';

@@ -15,7 +15,8 @@
  * one object per group, and for the value counts one entry per distinct (cell, value) and
  * (age bin, value), as many as the two value queries returned. The rows themselves are not kept.
  */
-import { binIndex, requireIntegerAxis, type AgeBinValueCount, type GridAxis } from './age-value-grid.js';
+import { binIndex, requireIntegerAxis, type AgeBinValueCount, type GridAxis, type ValuesByAge } from './age-value-grid.js';
+import { countByBucketAndValue } from './bucket-value-counts.js';
 import { foldCellGroups, type CellAggregate, type CellAggregates, type GroupSums } from './cells.js';
 import { plausibleAgeOf, type AggregationRequest } from './population.js';
 import { exactTotals, shiftsFromTotals, type Shifts } from './shifted-sums.js';
@@ -177,6 +178,11 @@ export interface KeptAggregates {
    * @throws Error when the axis does not have whole-number bounds
    */
   valueCountsByAgeBin(ageAxis: GridAxis | null): AgeBinValueCount[];
+  /**
+   * As `valuesByAgeOf(this.valueCountsByAgeBin(ageAxis))`, without an entry per age bin and value.
+   * @throws Error when the axis does not have whole-number bounds
+   */
+  valuesByAge(ageAxis: GridAxis | null): ValuesByAge;
 }
 
 /** The counts kept under `key` in `maps`, made empty when missing. */
@@ -244,10 +250,22 @@ export class KeptCountsFold {
     const { sums, positionOf } = groupSumsOf(groups);
     const { aggregates: population, cellOfGroup: cellOfPosition } = armAggregates(sums, request);
     const holdout = this.splitArms ? armAggregates(groupSumsOf(this.holdoutArm.groups).sums, request).aggregates : null;
-    const { length: rowCount, groups: rowGroups, values: rowValues, units: rowUnits } = this.rows;
+    const rows = this.rows;
+    const { length: rowCount, groups: rowGroups, values: rowValues, units: rowUnits } = rows;
     // The value metric's units: every unit per unit, the converted ones per conversion.
     const counted = groups.map((group) => request.valueBasis === 'per_unit' || group.converted);
     const cellOf = groups.map((_group, index) => cellOfPosition[positionOf[index] as number] as number);
+    // The value metric's units per age bin (the axis' bins, then no plausible age) and value.
+    const ageValueTable = (ageAxis: GridAxis | null) => {
+      if (ageAxis !== null) requireIntegerAxis('age', ageAxis);
+      const unknownBucket = ageAxis === null ? 0 : ageAxis.bins;
+      const bucketOfGroup = Int32Array.from(groups, (group, index) => {
+        if (!(counted[index] as boolean)) return -1;
+        const age = plausibleAgeOfStored(group.storedAge);
+        return age === null || ageAxis === null ? unknownBucket : binIndex(age, ageAxis);
+      });
+      return { table: countByBucketAndValue(rows, bucketOfGroup, unknownBucket + 1), unknownBucket };
+    };
     return {
       population,
       holdout,
@@ -267,16 +285,19 @@ export class KeptCountsFold {
         return counts;
       },
       valueCountsByAgeBin(ageAxis) {
-        if (ageAxis !== null) requireIntegerAxis('age', ageAxis);
-        const binOf = groups.map((group) => {
-          const age = plausibleAgeOfStored(group.storedAge);
-          return age === null || ageAxis === null ? null : binIndex(age, ageAxis);
-        });
-        const perBin = new Map<number | null, Map<number, number>>();
-        countRows(rowCount, rowGroups, rowValues, rowUnits, (group) => (counted[group] ? countsOf(perBin, binOf[group] as number | null) : null));
-        const counts: AgeBinValueCount[] = [];
-        for (const [ageBin, values] of perBin) for (const [valueCents, count] of values) counts.push({ ageBin, valueCents, count });
-        return counts;
+        const { table, unknownBucket } = ageValueTable(ageAxis);
+        return table.entries().map(({ bucket, valueCents, count }) => ({ ageBin: bucket === unknownBucket ? null : bucket, valueCents, count }));
+      },
+      valuesByAge(ageAxis) {
+        const { table, unknownBucket } = ageValueTable(ageAxis);
+        return {
+          wholeValueCounts: table.valueTotals(),
+          gridCounts(axes) {
+            requireIntegerAxis('value', axes.valueCents);
+            const binned = table.binnedByValue(unknownBucket, (valueCents) => binIndex(valueCents, axes.valueCents), axes.valueCents.bins);
+            return binned.map(({ bucket, valueBin, count }) => ({ ageBin: bucket, valueBin, count }));
+          },
+        };
       },
     };
   }

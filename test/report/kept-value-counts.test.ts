@@ -18,6 +18,7 @@ import {
   keptCountAggregates,
   shiftsAndCellAggregates,
   valueCountsByAgeBin,
+  valuesByAgeOf,
   valueDistribution,
   type AggregationRequest,
   type GridAxis,
@@ -249,6 +250,16 @@ describe.each(TEST_DIALECTS)('the kept rows folded in code on %s', (dialect) => 
         expect(mergedCounts(kept.valueCountsByAgeBin(axis), (entry) => JSON.stringify([entry.ageBin, entry.valueCents]))).toEqual(
           mergedCounts(expected, (entry) => JSON.stringify([entry.ageBin, entry.valueCents])),
         );
+        // The counts per value and the grid's cells, as the refresh takes them, without the entries above.
+        const folded = kept.valuesByAge(axis);
+        const queriedValues = valuesByAgeOf(expected);
+        expect(folded.wholeValueCounts).toEqual(queriedValues.wholeValueCounts);
+        expect(folded.wholeValueCounts.length).toBeGreaterThan(0);
+        for (const gridAxes of [{ age: axis ?? { low: 0, high: 1, bins: 1 }, valueCents: { low: 0, high: 100_000, bins: 9 } }, { age: axis ?? { low: 0, high: 1, bins: 1 }, valueCents: { low: 0, high: 0, bins: 1 } }]) {
+          expect(folded.gridCounts(gridAxes)).toEqual(queriedValues.gridCounts(gridAxes));
+          if (axis !== null) expect(folded.gridCounts(gridAxes).length).toBeGreaterThan(0);
+        }
+        expect(() => folded.gridCounts({ age: { low: 0, high: 1, bins: 1 }, valueCents: { low: 0.5, high: 10, bins: 2 } })).toThrow(/value axis/);
       }
     });
   });

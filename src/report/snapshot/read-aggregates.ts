@@ -13,13 +13,12 @@ import { YIELD_AFTER_EACH_QUERY } from '../../db/yield-after-query.js';
 import {
   campaignPopulationTable,
   explainOverflow,
-  gridCountsOf,
   holdoutContacts,
   keptCountAggregates,
   shiftsAndCellAggregates,
   sourceQuality,
   valueCountsByAgeBin,
-  valueCountsOf,
+  valuesByAgeOf,
   valueDistribution,
   type AggregationRequest,
   type CellAggregate,
@@ -136,10 +135,10 @@ export async function readReportAggregates(readDb: Kysely<Database>, reportId: s
     const scope = valueDistributionScope(cells, definition);
     const valueCounts = kept ? kept.valueCounts(scope) : await valueDistribution(trx, request, scope, cells);
     const ageAxis = ageGridAxis(ageCounts);
-    const valuesByAgeBin = kept ? kept.valueCountsByAgeBin(ageAxis) : await valueCountsByAgeBin(trx, request, ageAxis, unconvertedByAge);
-    const wholeValueCounts = valueCountsOf(valuesByAgeBin);
+    const valuesByAge = kept ? kept.valuesByAge(ageAxis) : valuesByAgeOf(await valueCountsByAgeBin(trx, request, ageAxis, unconvertedByAge));
+    const wholeValueCounts = valuesByAge.wholeValueCounts;
     const gridAxes = ageValueGridAxes(ageCounts, wholeValueCounts);
-    const ageValueGrid = gridAxes === null ? null : { axes: gridAxes, counts: gridCountsOf(valuesByAgeBin, gridAxes) };
+    const ageValueGrid = gridAxes === null ? null : { axes: gridAxes, counts: valuesByAge.gridCounts(gridAxes) };
     const quality = await sourceQuality(trx, source);
     let previousWindow: PreviousWindow | null = null;
     if (source.kind === 'sales') {
