@@ -80,6 +80,11 @@ export interface Config {
   /** Longest a snapshot build (on a SQLite file, with its read) may take in a worker before the worker is replaced and the refresh fails, in milliseconds. */
   refreshBuildTimeoutMs: number;
   /**
+   * Milliseconds a snapshot build worker may wait for its next refresh before it is stopped and
+   * its memory (its own heap, compiled modules and SQLite connection) freed; 0 keeps it running.
+   */
+  refreshWorkerIdleMs: number;
+  /**
    * How far, in percent, V8's heap may grow past what its last full collection kept before it
    * collects again (src/heap-growth.ts); 0 leaves V8's own factor.
    */
@@ -104,6 +109,13 @@ export const DEFAULT_DATABASE_POOL_SIZE = 10;
 
 /** See src/heap-growth.ts and bench/RESULTS.md for what it was measured to cost and save. */
 const DEFAULT_HEAP_GROWING_PERCENT = 50;
+
+/**
+ * A minute: refreshes that follow one another (a schedule's reports, a user's retries) share one
+ * worker, and a service that refreshes weekly does not hold it for the week. Starting a worker
+ * again costs about a third of a second; see bench/RESULTS.md.
+ */
+const DEFAULT_REFRESH_WORKER_IDLE_MS = 60_000;
 
 const DEFAULT_SQLITE_FILE = path.join('data', 'segrank.sqlite');
 
@@ -142,6 +154,7 @@ export function loadConfig(env: Environment = process.env): Config {
     maxLabelsPerDimension: readInteger(env, 'MAX_LABELS_PER_DIMENSION', DEFAULT_MAX_LABELS_PER_DIMENSION, { min: 2, max: 100_000 }),
     refreshWorkers: readInteger(env, 'REFRESH_WORKERS', 1, { min: 0, max: 16 }),
     refreshBuildTimeoutMs: readInteger(env, 'REFRESH_BUILD_TIMEOUT_MS', 120_000, { min: 1000, max: 3_600_000 }),
+    refreshWorkerIdleMs: readInteger(env, 'REFRESH_WORKER_IDLE_MS', DEFAULT_REFRESH_WORKER_IDLE_MS, { min: 0, max: 86_400_000 }),
     heapGrowingPercent: readInteger(env, 'HEAP_GROWING_PERCENT', DEFAULT_HEAP_GROWING_PERCENT, { min: 0, max: 1000 }),
   };
 }
