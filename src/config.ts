@@ -7,7 +7,12 @@ import os from 'node:os';
 import path from 'node:path';
 
 export type DatabaseSettings =
-  | { dialect: 'sqlite'; file: string }
+  | {
+      dialect: 'sqlite';
+      file: string;
+      /** Page cache of each read-only connection (the service's reader, a build worker's), in MiB; DEFAULT_SQLITE_READ_CACHE_MIB when absent. */
+      readCacheMiB?: number;
+    }
   | {
       dialect: 'postgres';
       connectionString: string;
@@ -117,6 +122,15 @@ const DEFAULT_HEAP_GROWING_PERCENT = 50;
  */
 const DEFAULT_REFRESH_WORKER_IDLE_MS = 60_000;
 
+/**
+ * SQLite's own default. A campaign refresh reads the kept counts once, front to back, and the BI
+ * pull one snapshot, so a larger cache on a read-only connection only holds pages read once:
+ * 32 MiB per connection cost up to 64 MiB of resident memory (bench/RESULTS.md). A report
+ * grouped in the database over a million rows (an attribute or sales report) sorts in
+ * memory with a larger cache and may want one.
+ */
+export const DEFAULT_SQLITE_READ_CACHE_MIB = 2;
+
 const DEFAULT_SQLITE_FILE = path.join('data', 'segrank.sqlite');
 
 /** The database `npm run demo` uses when DATABASE_URL is not set; removed and rebuilt at each demo start. */
@@ -130,7 +144,10 @@ export function loadConfig(env: Environment = process.env): Config {
   return {
     host,
     port: readInteger(env, 'PORT', 3000, { min: 0, max: 65_535 }),
-    database: parseDatabaseUrl(env['DATABASE_URL'], env['DATABASE_SCHEMA'], readInteger(env, 'DATABASE_POOL_SIZE', DEFAULT_DATABASE_POOL_SIZE, { min: 1, max: 1000 })),
+    database: withReadCache(
+      parseDatabaseUrl(env['DATABASE_URL'], env['DATABASE_SCHEMA'], readInteger(env, 'DATABASE_POOL_SIZE', DEFAULT_DATABASE_POOL_SIZE, { min: 1, max: 1000 })),
+      readInteger(env, 'SQLITE_READ_CACHE_MIB', DEFAULT_SQLITE_READ_CACHE_MIB, { min: 1, max: 4096 }),
+    ),
     logLevel: readChoice(env, 'LOG_LEVEL', LOG_LEVELS, 'info'),
     maxUploadBytes: readInteger(env, 'MAX_UPLOAD_BYTES', 256 * 1024 * 1024, { min: 1024, max: 4 * 1024 ** 3 }),
     maxUploadRows: readInteger(env, 'MAX_UPLOAD_ROWS', 2_000_000, { min: 1, max: 100_000_000 }),
@@ -157,6 +174,10 @@ export function loadConfig(env: Environment = process.env): Config {
     refreshWorkerIdleMs: readInteger(env, 'REFRESH_WORKER_IDLE_MS', DEFAULT_REFRESH_WORKER_IDLE_MS, { min: 0, max: 86_400_000 }),
     heapGrowingPercent: readInteger(env, 'HEAP_GROWING_PERCENT', DEFAULT_HEAP_GROWING_PERCENT, { min: 0, max: 1000 }),
   };
+}
+
+function withReadCache(settings: DatabaseSettings, readCacheMiB: number): DatabaseSettings {
+  return settings.dialect === 'sqlite' ? { ...settings, readCacheMiB } : settings;
 }
 
 function readOrigins(env: Environment, name: string): string[] {

@@ -102,6 +102,7 @@ describe('snapshots built on a worker thread', () => {
           onMainThread.build(job),
           (onWorker.readAndBuild as NonNullable<SnapshotBuilder['readAndBuild']>)({
             databaseFile,
+            readCacheMiB: 2,
             input: { identity: job.input.identity, definition: job.input.definition, publicationThreshold: job.input.publicationThreshold as number },
             maxLabelsPerDimension: 100,
             elapsedBeforeReadMs: 0,
