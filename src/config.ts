@@ -117,8 +117,9 @@ const DEFAULT_HEAP_GROWING_PERCENT = 50;
 
 /**
  * A minute: refreshes that follow one another (a schedule's reports, a user's retries) share one
- * worker, and a service that refreshes weekly does not hold it for the week. Starting a worker
- * again costs about a third of a second; see bench/RESULTS.md.
+ * worker, and a service that refreshes weekly does not hold its 140 MiB for the week. The
+ * refresh that starts a new worker waits for it: 3.4–5.6 s run from source through tsx,
+ * 1.1–1.4 s compiled, on a loaded 2-core machine (bench/RESULTS.md).
  */
 const DEFAULT_REFRESH_WORKER_IDLE_MS = 60_000;
 

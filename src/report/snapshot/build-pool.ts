@@ -181,8 +181,8 @@ class WorkerPool implements SnapshotBuilder {
 
   /**
    * Stops a worker that waited too long for a task: its heap, its compiled modules and its
-   * SQLite connection are held outside the main heap (about 100 MiB after a refresh of a
-   * million contacts), and the next task starts a new worker.
+   * SQLite connection are held outside the main heap (about 140 MiB after a refresh of a
+   * million contacts, run from source), and the next task starts a new worker.
    */
   private stopIdle(slot: Slot): void {
     slot.idleTimer = null;
