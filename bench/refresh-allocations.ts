@@ -14,6 +14,7 @@ import path from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { parseArgs } from 'node:util';
 import { sql } from 'kysely';
+import { DEFAULT_SQLITE_READ_CACHE_MIB } from '../src/config.js';
 
 const { values: options, positionals } = parseArgs({
   options: { root: { type: 'string' }, refreshes: { type: 'string', default: '4' }, top: { type: 'string', default: '15' } },
@@ -46,6 +47,7 @@ async function main(databaseFile: string): Promise<void> {
         publicationThreshold: 10,
       },
       maxLabelsPerDimension: 1000,
+      readCacheMiB: DEFAULT_SQLITE_READ_CACHE_MIB,
       elapsedBeforeReadMs: 0,
     });
   await refresh();

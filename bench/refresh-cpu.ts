@@ -18,6 +18,7 @@ import path from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { parseArgs } from 'node:util';
 import { median } from './process-readings.js';
+import { DEFAULT_SQLITE_READ_CACHE_MIB } from '../src/config.js';
 
 const { values: options, positionals } = parseArgs({
   options: {
@@ -65,6 +66,8 @@ async function runSeries(file: string, root: string, refreshes: number): Promise
         databaseFile: file,
         input: { identity, definition: JSON.parse(report.definition) as never, publicationThreshold: config.publicationThreshold },
         maxLabelsPerDimension: config.maxLabelsPerDimension,
+        // An earlier checkout's config has no read cache setting; this checkout's default stands in.
+        readCacheMiB: (config.database as { readCacheMiB?: number }).readCacheMiB ?? DEFAULT_SQLITE_READ_CACHE_MIB,
         elapsedBeforeReadMs: 0,
       });
       const used = process.cpuUsage(before);

@@ -71,7 +71,7 @@ export async function buildApp(deps: AppDependencies): Promise<FastifyInstance> 
 
   // Built once and shared by the plugins that need them.
   const ownBuilder = deps.snapshots === undefined;
-  const snapshots = deps.snapshots ?? createSnapshotBuilder({ workers: deps.config.refreshWorkers, timeoutMs: deps.config.refreshBuildTimeoutMs, logger: deps.logger });
+  const snapshots = deps.snapshots ?? createSnapshotBuilder({ workers: deps.config.refreshWorkers, timeoutMs: deps.config.refreshBuildTimeoutMs, idleTimeoutMs: deps.config.refreshWorkerIdleMs, logger: deps.logger });
   const reports = reportDependencies(
     deps.database,
     deps.logger,

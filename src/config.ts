@@ -7,7 +7,12 @@ import os from 'node:os';
 import path from 'node:path';
 
 export type DatabaseSettings =
-  | { dialect: 'sqlite'; file: string }
+  | {
+      dialect: 'sqlite';
+      file: string;
+      /** Page cache of each read-only connection (the service's reader, a build worker's), in MiB; DEFAULT_SQLITE_READ_CACHE_MIB when absent. */
+      readCacheMiB?: number;
+    }
   | {
       dialect: 'postgres';
       connectionString: string;
@@ -89,6 +94,11 @@ export interface Config {
   /** Longest a snapshot build (on a SQLite file, with its read) may take in a worker before the worker is replaced and the refresh fails, in milliseconds. */
   refreshBuildTimeoutMs: number;
   /**
+   * Milliseconds a snapshot build worker may wait for its next refresh before it is stopped and
+   * its memory (its own heap, compiled modules and SQLite connection) freed; 0 keeps it running.
+   */
+  refreshWorkerIdleMs: number;
+  /**
    * How far, in percent, V8's heap may grow past what its last full collection kept before it
    * collects again (src/heap-growth.ts); 0 leaves V8's own factor.
    */
@@ -114,6 +124,23 @@ export const DEFAULT_DATABASE_POOL_SIZE = 10;
 /** See src/heap-growth.ts and bench/RESULTS.md for what it was measured to cost and save. */
 const DEFAULT_HEAP_GROWING_PERCENT = 50;
 
+/**
+ * A minute: refreshes that follow one another (a schedule's reports, a user's retries) share one
+ * worker, and a service that refreshes weekly does not hold its 140 MiB for the week. The
+ * refresh that starts a new worker waits for it: 3.4–5.6 s run from source through tsx,
+ * 1.1–1.4 s compiled, on a loaded 2-core machine (bench/RESULTS.md).
+ */
+const DEFAULT_REFRESH_WORKER_IDLE_MS = 60_000;
+
+/**
+ * SQLite's own default. A campaign refresh reads the kept counts once, front to back, and the BI
+ * pull one snapshot, so a larger cache on a read-only connection only holds pages read once:
+ * 32 MiB per connection cost up to 64 MiB of resident memory (bench/RESULTS.md). A report
+ * grouped in the database over a million rows (an attribute or sales report) sorts in
+ * memory with a larger cache and may want one.
+ */
+export const DEFAULT_SQLITE_READ_CACHE_MIB = 2;
+
 const DEFAULT_SQLITE_FILE = path.join('data', 'segrank.sqlite');
 
 /** The database `npm run demo` uses when DATABASE_URL is not set; removed and rebuilt at each demo start. */
@@ -127,7 +154,10 @@ export function loadConfig(env: Environment = process.env): Config {
   return {
     host,
     port: readInteger(env, 'PORT', 3000, { min: 0, max: 65_535 }),
-    database: parseDatabaseUrl(env['DATABASE_URL'], env['DATABASE_SCHEMA'], readInteger(env, 'DATABASE_POOL_SIZE', DEFAULT_DATABASE_POOL_SIZE, { min: 1, max: 1000 })),
+    database: withReadCache(
+      parseDatabaseUrl(env['DATABASE_URL'], env['DATABASE_SCHEMA'], readInteger(env, 'DATABASE_POOL_SIZE', DEFAULT_DATABASE_POOL_SIZE, { min: 1, max: 1000 })),
+      readInteger(env, 'SQLITE_READ_CACHE_MIB', DEFAULT_SQLITE_READ_CACHE_MIB, { min: 1, max: 4096 }),
+    ),
     logLevel: readChoice(env, 'LOG_LEVEL', LOG_LEVELS, 'info'),
     maxUploadBytes: readInteger(env, 'MAX_UPLOAD_BYTES', 256 * 1024 * 1024, { min: 1024, max: 4 * 1024 ** 3 }),
     maxUploadRows: readInteger(env, 'MAX_UPLOAD_ROWS', 2_000_000, { min: 1, max: 100_000_000 }),
@@ -152,8 +182,13 @@ export function loadConfig(env: Environment = process.env): Config {
     maxLabelsPerDimension: readInteger(env, 'MAX_LABELS_PER_DIMENSION', DEFAULT_MAX_LABELS_PER_DIMENSION, { min: 2, max: 100_000 }),
     refreshWorkers: readInteger(env, 'REFRESH_WORKERS', 1, { min: 0, max: 16 }),
     refreshBuildTimeoutMs: readInteger(env, 'REFRESH_BUILD_TIMEOUT_MS', 120_000, { min: 1000, max: 3_600_000 }),
+    refreshWorkerIdleMs: readInteger(env, 'REFRESH_WORKER_IDLE_MS', DEFAULT_REFRESH_WORKER_IDLE_MS, { min: 0, max: 86_400_000 }),
     heapGrowingPercent: readInteger(env, 'HEAP_GROWING_PERCENT', DEFAULT_HEAP_GROWING_PERCENT, { min: 0, max: 1000 }),
   };
+}
+
+function withReadCache(settings: DatabaseSettings, readCacheMiB: number): DatabaseSettings {
+  return settings.dialect === 'sqlite' ? { ...settings, readCacheMiB } : settings;
 }
 
 function readOrigins(env: Environment, name: string): string[] {

@@ -23,7 +23,7 @@ export async function withMigratedDatabase<T>(config: Config, run: (database: Da
 
 export async function withReportDependencies<T>(config: Config, run: (deps: ReportDependencies) => Promise<T>): Promise<T> {
   return withMigratedDatabase(config, async (database, logger) => {
-    const snapshots = createSnapshotBuilder({ workers: config.refreshWorkers, timeoutMs: config.refreshBuildTimeoutMs, logger });
+    const snapshots = createSnapshotBuilder({ workers: config.refreshWorkers, timeoutMs: config.refreshBuildTimeoutMs, idleTimeoutMs: config.refreshWorkerIdleMs, logger });
     try {
       return await run(
         reportDependencies(

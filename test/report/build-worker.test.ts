@@ -2,6 +2,7 @@
  * Snapshots built on a worker thread: the same snapshot as on the main thread, the same errors,
  * an event loop left free for other requests meanwhile, and a crashed or hung worker replaced.
  */
+import type { Worker } from 'node:worker_threads';
 import pino from 'pino';
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
 import { buildApp } from '../../src/app.js';
@@ -101,6 +102,7 @@ describe('snapshots built on a worker thread', () => {
           onMainThread.build(job),
           (onWorker.readAndBuild as NonNullable<SnapshotBuilder['readAndBuild']>)({
             databaseFile,
+            readCacheMiB: 2,
             input: { identity: job.input.identity, definition: job.input.definition, publicationThreshold: job.input.publicationThreshold as number },
             maxLabelsPerDimension: 100,
             elapsedBeforeReadMs: 0,
@@ -236,6 +238,53 @@ describe('a snapshot build worker that fails', () => {
       await app.close();
       await pool.close();
       await database.destroy();
+    }
+  });
+});
+
+describe('an idle snapshot build worker', () => {
+  test('is stopped after the idle time without a warning, and the next build starts a new one that builds the same snapshot', { timeout: 120_000 }, async () => {
+    const logs = captureLogs('warn');
+    const pool = createSnapshotBuilder({ workers: 1, timeoutMs: 60_000, idleTimeoutMs: 300, logger: logs.logger });
+    const started: Worker[] = [];
+    const onWorker = (worker: Worker) => started.push(worker);
+    process.on('worker', onWorker);
+    const testApp = await createTestApp('sqlite', REPORT_TEST_SETTINGS, today);
+    try {
+      await loadDemoData(testApp.app, generateDemoData());
+      const jobs: SnapshotBuildJob[] = [];
+      await refreshReport(dependencies(testApp, recording(createSnapshotBuilder({ workers: 0, timeoutMs: 1000, logger: silent }), jobs)), (await createReport(testApp.app, DEMO_REPORT)).report_id, 'manual');
+      const job = jobs[0] as SnapshotBuildJob;
+
+      const first = await pool.build(job);
+      expect(started).toHaveLength(1);
+      const firstWorker = started[0] as Worker;
+      await new Promise((resolve) => firstWorker.once('exit', resolve));
+
+      const second = await pool.build(job);
+      expect(started).toHaveLength(2);
+      expect(withoutTiming(second.body)).toEqual(withoutTiming(first.body));
+      expect(logs.lines).toEqual([]);
+    } finally {
+      process.off('worker', onWorker);
+      await pool.close();
+      await testApp.close();
+    }
+  });
+
+  test('is kept between builds when the idle time is 0', { timeout: 120_000 }, async () => {
+    const pool = createSnapshotBuilder({ workers: 1, timeoutMs: 60_000, idleTimeoutMs: 0, logger: silent });
+    const started: Worker[] = [];
+    const onWorker = (worker: Worker) => started.push(worker);
+    process.on('worker', onWorker);
+    try {
+      await pool.renumber('{"sequence":1}', 2);
+      await new Promise((resolve) => setTimeout(resolve, 500));
+      await pool.renumber('{"sequence":1}', 3);
+      expect(started).toHaveLength(1);
+    } finally {
+      process.off('worker', onWorker);
+      await pool.close();
     }
   });
 });

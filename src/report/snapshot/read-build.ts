@@ -15,6 +15,8 @@ import { readReportAggregates, type ReportAggregates } from './read-aggregates.j
 export interface SnapshotReadJob {
   /** The SQLite database file the service has open. */
   databaseFile: string;
+  /** Page cache of the worker's connection, in MiB: the service reader's (SQLITE_READ_CACHE_MIB). */
+  readCacheMiB: number;
   /** Who the snapshot is and how it is built; the aggregates are read by the job. */
   input: Omit<SnapshotBuildJob['input'], keyof ReportAggregates>;
   /** Most distinct labels a dimension of a report may have. */
@@ -31,10 +33,10 @@ export interface ReadAndBuiltSnapshot extends BuiltSnapshot {
 // One connection, to the file of the last job: a service has one database; tests open many, one after another.
 let reader: { file: string; db: Kysely<Database> } | null = null;
 
-async function readerOf(file: string): Promise<Kysely<Database>> {
+async function readerOf(file: string, cacheMiB: number): Promise<Kysely<Database>> {
   if (reader?.file === file) return reader.db;
   const previous = reader;
-  reader = { file, db: openSqliteReader(file) };
+  reader = { file, db: openSqliteReader(file, cacheMiB) };
   if (previous !== null) await previous.db.destroy();
   return reader.db;
 }
@@ -45,7 +47,7 @@ async function readerOf(file: string): Promise<Kysely<Database>> {
  */
 export async function runSnapshotReadAndBuild(job: SnapshotReadJob): Promise<ReadAndBuiltSnapshot> {
   const readStarted = performance.now();
-  const db = await readerOf(job.databaseFile);
+  const db = await readerOf(job.databaseFile, job.readCacheMiB);
   const { reportId } = job.input.identity;
   const aggregates = await readReportAggregates(db, reportId, job.input.definition, {
     dialect: 'sqlite',

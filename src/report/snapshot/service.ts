@@ -148,9 +148,12 @@ export async function getReport(deps: ReportDependencies, reportId: string): Pro
 }
 
 /** The SQLite file behind `readDb`, which a build worker can open too; null on PostgreSQL and for an in-memory database. */
-function workerReadableFile(readDb: Kysely<Database>): string | null {
+function workerReadableFile(readDb: Kysely<Database>): { file: string; cacheMiB: number } | null {
   const connection = sqliteConnectionOf(readDb);
-  return connection === null || connection.memory ? null : connection.name;
+  if (connection === null || connection.memory) return null;
+  // The worker's connection gets the page cache the service's reader was opened with (negative: KiB).
+  const cacheKiB = -Number(connection.pragma('cache_size', { simple: true }));
+  return { file: connection.name, cacheMiB: Math.max(1, Math.round(cacheKiB / 1024)) };
 }
 
 // One refresh at a time per report in this process, so each snapshot compares with the one before it.
@@ -196,14 +199,15 @@ async function computeAndStore(deps: ReportDependencies, reportId: string, trigg
   const snapshotId = randomUUID();
   let sequence = await repository.nextSnapshotSequence(deps.db, reportId);
   const identity = { snapshotId, reportId, reportName: row.name, sequence, createdAt: deps.now().toISOString(), trigger };
-  const databaseFile = workerReadableFile(deps.readDb);
+  const workerReadable = workerReadableFile(deps.readDb);
   let built: BuiltSnapshot;
   let queriesDone: number;
-  if (deps.snapshots.readAndBuild !== undefined && databaseFile !== null) {
+  if (deps.snapshots.readAndBuild !== undefined && workerReadable !== null) {
     // On SQLite the worker reads the aggregates on its own connection, so neither the event
     // loop nor the service's read connection waits for the refresh's reads.
     const readAndBuilt = await deps.snapshots.readAndBuild({
-      databaseFile,
+      databaseFile: workerReadable.file,
+      readCacheMiB: workerReadable.cacheMiB,
       input: { identity, definition, publicationThreshold: deps.publicationThreshold },
       maxLabelsPerDimension: deps.maxLabelsPerDimension,
       elapsedBeforeReadMs: performance.now() - started,
