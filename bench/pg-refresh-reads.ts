@@ -70,7 +70,7 @@ try {
         await timed('holdout contacts', () => holdoutContacts(trx, source));
         await timed('label bounds', () => labelCountBounds(trx, request, 1000));
         await timed('kept rows read and folded', () => keptCountAggregates(trx, null, request, false));
-        await timed('source quality', () => sourceQuality(trx, source));
+        await timed('source quality', () => sourceQuality(trx, source, 'postgres'));
       });
     if (run > 0) readings.push(times);
   }

@@ -115,7 +115,7 @@ try {
         await timed('value distribution', () => valueDistribution(trx, request, 'all', cells));
         await timed('values by age bin', () => valueCountsByAgeBin(trx, request, ageGridAxis(ageCounts), unconvertedByAge));
       }
-      await timed('source quality', () => sourceQuality(trx, request.source));
+      await timed('source quality', () => sourceQuality(trx, request.source, 'sqlite'));
       return times;
     });
   };

@@ -349,9 +349,36 @@ describe.each(TEST_DIALECTS)('aggregation in the database (%s)', (dialect) => {
   });
 
   test('data quality counts customers outside the population and rejected rows of the ingests involved', async () => {
-    const quality = await sourceQuality(database.handle.db, request.source);
+    const quality = await sourceQuality(database.handle.db, request.source, dialect);
     expect(quality.customersOutsidePopulation).toBe(0);
     expect(quality.rejectedRows).toEqual([]);
+  });
+
+  test('customers outside a population of several campaigns are those contacted in none of them, each customer counted once', async () => {
+    const overlap = await createTestDatabase(dialect);
+    try {
+      await seedCampaign(overlap, UNITS, 'spring');
+      const db = overlap.handle.db;
+      // Two spring customers contacted again in summer, and one customer contacted in summer only.
+      const summerOnly = { ...(UNITS[0] as Unit), customer_id: 'summer-only' };
+      await db
+        .insertInto('customers')
+        .values([summerOnly, { ...summerOnly, customer_id: 'never-contacted-1' }, { ...summerOnly, customer_id: 'never-contacted-2' }].map((unit) => ({ customer_id: unit.customer_id, birth_date: unit.birth_date, region: unit.region, channel: unit.channel, customer_type: 'individual' as const, created_at: NOW, updated_at: NOW, last_ingest_id: null })))
+        .execute();
+      await db.insertInto('campaigns').values({ campaign_id: 'summer', created_at: NOW }).execute();
+      const summerContacts = [UNITS[0] as Unit, UNITS[1] as Unit, summerOnly];
+      await db
+        .insertInto('campaign_contacts')
+        .values(summerContacts.map((unit) => ({ campaign_id: 'summer', customer_id: unit.customer_id, contacted_at: '2026-07-01', converted: 0, revenue_cents: 0, age_at_contact: unit.age_at_contact, region: unit.region, channel: unit.channel, customer_type: 'individual' as const, holdout: 0, last_ingest_id: null })))
+        .execute();
+      const outside = async (campaignIds: string[]) => (await sourceQuality(db, { kind: 'campaigns', campaignIds }, dialect)).customersOutsidePopulation;
+      const stored = UNITS.length + 3;
+      expect(await outside(['spring'])).toBe(stored - UNITS.length);
+      expect(await outside(['summer'])).toBe(stored - 3);
+      expect(await outside(['spring', 'summer'])).toBe(2);
+    } finally {
+      await overlap.destroy();
+    }
   });
 });
 
@@ -412,7 +439,7 @@ describe.each(TEST_DIALECTS)('a sales window population (%s)', (dialect) => {
   });
 
   test('customers without any sale are counted for data quality', async () => {
-    const quality = await sourceQuality(database.handle.db, { kind: 'sales', from: '2026-01-01', to: '2026-03-31' });
+    const quality = await sourceQuality(database.handle.db, { kind: 'sales', from: '2026-01-01', to: '2026-03-31' }, dialect);
     expect(quality.customersWithoutAnySale).toBe(1);
   });
 });

@@ -139,7 +139,7 @@ export async function readReportAggregates(readDb: Kysely<Database>, reportId: s
     const wholeValueCounts = valuesByAge.wholeValueCounts;
     const gridAxes = ageValueGridAxes(ageCounts, wholeValueCounts);
     const ageValueGrid = gridAxes === null ? null : { axes: gridAxes, counts: valuesByAge.gridCounts(gridAxes) };
-    const quality = await sourceQuality(trx, source);
+    const quality = await sourceQuality(trx, source, options.dialect);
     let previousWindow: PreviousWindow | null = null;
     if (source.kind === 'sales') {
       const window = precedingWindow(source.from, source.to);
