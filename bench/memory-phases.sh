@@ -41,11 +41,4 @@ sleep "${SETTLE_SECONDS:-0}"
 phase settled
 kill -TERM $pid; wait $pid || true
 if [ -n "${SHOW_LOG:-}" ]; then cat "$work/log.txt"; fi
-python3 - "$work/memory.jsonl" <<'PY'
-import json, sys
-rows = [json.loads(line) for line in open(sys.argv[1])]
-top = max(rows, key=lambda row: row['rss'])
-mib = lambda value: value / 1048576
-print('at the sampled peak: RSS %.0f MiB = V8 heap %.0f (used %.0f) + external %.0f + other %.0f' % (
-    mib(top['rss']), mib(top['heapTotal']), mib(top['heapUsed']), mib(top['external']), mib(top['rss'] - top['heapTotal'] - top['external'])))
-PY
+python3 "$here/memory-breakdown.py" "$work/memory.jsonl"

@@ -12,13 +12,11 @@
 import fs from 'node:fs';
 import path from 'node:path';
 import { parseArgs } from 'node:util';
-import pino from 'pino';
-import { buildApp } from '../src/app.js';
-import { loadConfig } from '../src/config.js';
 import { openDatabase } from '../src/db/connect.js';
 import { migrateToLatest } from '../src/db/migrate.js';
 import { holdoutContacts, keptCountAggregates, labelCountBounds, sourceQuality, type AggregationRequest } from '../src/segments/index.js';
 import { writeBenchFiles } from './data.js';
+import { inProcessApp } from './in-process-app.js';
 import { median } from './process-readings.js';
 
 const { values: options } = parseArgs({
@@ -37,9 +35,7 @@ try {
   const files = writeBenchFiles(path.resolve('bench/out'), { customers: contacts / 4, campaigns: CAMPAIGNS, contactsPerCampaign: Math.round(contacts / CAMPAIGNS), seed: 11 });
   const stored = await database.db.selectFrom('campaign_contacts').select((eb) => eb.fn.countAll<number>().as('rows')).executeTakeFirstOrThrow();
   if (Number(stored.rows) === 0) {
-    const config = { ...loadConfig({}), database: settings, scheduleEnabled: false, authMode: 'open' as const, maxEventLoopDelayMs: 0, maxUploadBytes: 1024 * 1024 * 1024, maxUploadRows: 10_000_000 };
-    const app = await buildApp({ config, database, logger: pino({ level: 'silent' }) });
-    await app.ready();
+    const app = await inProcessApp(database, settings);
     const post = async (route: string, file: string) => {
       const response = await app.inject({ method: 'POST', url: route, headers: { 'content-type': 'text/csv' }, payload: fs.readFileSync(file) });
       if (response.statusCode !== 201) throw new Error(`${route}: ${response.statusCode} ${response.body}`);

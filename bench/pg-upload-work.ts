@@ -12,12 +12,10 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { parseArgs } from 'node:util';
 import pg from 'pg';
-import pino from 'pino';
-import { buildApp } from '../src/app.js';
-import { loadConfig } from '../src/config.js';
 import { openDatabase } from '../src/db/connect.js';
 import { migrateToLatest } from '../src/db/migrate.js';
 import { writeBenchFiles } from './data.js';
+import { inProcessApp } from './in-process-app.js';
 
 const { values: options } = parseArgs({ options: { contacts: { type: 'string', default: '250000' } } });
 const url = process.env['DATABASE_URL'];
@@ -52,9 +50,7 @@ function serverCpuSince(before: Map<number, number>, after: Map<number, number>)
 const database = await openDatabase(settings);
 try {
   await migrateToLatest(database.db, settings);
-  const config = { ...loadConfig({}), database: settings, scheduleEnabled: false, authMode: 'open' as const, maxEventLoopDelayMs: 0, maxUploadBytes: 1024 * 1024 * 1024, maxUploadRows: 10_000_000 };
-  const app = await buildApp({ config, database, logger: pino({ level: 'silent' }) });
-  await app.ready();
+  const app = await inProcessApp(database, settings);
   const files = writeBenchFiles(path.resolve('bench/out'), { customers: contacts / 4, campaigns: 4, contactsPerCampaign: Math.round(contacts / 4), seed: 11 });
   const uploads = [{ route: '/v1/customers', file: files.customersCsv }, ...files.contactsCsvs.map((campaign) => ({ route: `/v1/campaigns/${campaign.campaignId}/contacts`, file: campaign.file }))];
   const totals = { wall: 0, service: 0, server: 0 };

@@ -14,9 +14,6 @@ import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { parseArgs } from 'node:util';
-import pino from 'pino';
-import { buildApp } from '../src/app.js';
-import { loadConfig } from '../src/config.js';
 import { openDatabase } from '../src/db/connect.js';
 import { migrateToLatest } from '../src/db/migrate.js';
 import { isDeepStrictEqual } from 'node:util';
@@ -34,6 +31,7 @@ import {
   type CampaignPopulationTable,
 } from '../src/segments/index.js';
 import { writeBenchFiles } from './data.js';
+import { inProcessApp } from './in-process-app.js';
 import { median } from './process-readings.js';
 
 const { values: options } = parseArgs({ options: { contacts: { type: 'string', default: '100000' }, runs: { type: 'string', default: '7' } } });
@@ -46,9 +44,7 @@ const settings = { dialect: 'sqlite' as const, file: path.join(directory, 'bench
 const database = await openDatabase(settings);
 try {
   await migrateToLatest(database.db, settings);
-  const config = { ...loadConfig({}), database: settings, scheduleEnabled: false, authMode: 'open' as const, maxEventLoopDelayMs: 0, maxUploadBytes: 1024 * 1024 * 1024, maxUploadRows: 10_000_000 };
-  const app = await buildApp({ config, database, logger: pino({ level: 'silent' }) });
-  await app.ready();
+  const app = await inProcessApp(database, settings);
   const files = writeBenchFiles(path.resolve('bench/out'), { customers: contacts / 4, campaigns: CAMPAIGNS, contactsPerCampaign: Math.round(contacts / CAMPAIGNS), seed: 11 });
   const post = async (url: string, file: string) => {
     const response = await app.inject({ method: 'POST', url, headers: { 'content-type': 'text/csv' }, payload: fs.readFileSync(file) });

@@ -30,11 +30,4 @@ done
 peak=$(awk '/VmHWM/ {print int($2 / 1024)}' "/proc/$pid/status")
 echo "$line; peak RSS $peak MiB; load $(cut -d' ' -f1-3 /proc/loadavg)"
 kill -TERM $pid; wait $pid || true
-python3 - "$work/memory.jsonl" <<'PY'
-import json, sys
-rows = [json.loads(line) for line in open(sys.argv[1])]
-top = max(rows, key=lambda row: row['rss'])
-mib = lambda value: value / 1048576
-print('at the sampled peak: RSS %.0f MiB = V8 heap %.0f (used %.0f) + external %.0f + other %.0f' % (
-    mib(top['rss']), mib(top['heapTotal']), mib(top['heapUsed']), mib(top['external']), mib(top['rss'] - top['heapTotal'] - top['external'])))
-PY
+python3 "$(dirname "$sampler")/memory-breakdown.py" "$work/memory.jsonl"
