@@ -23,7 +23,6 @@ import { subtractContactsOfCustomers } from '../aggregates/customer-contacts.js'
 import type { Executor } from '../db/executor.js';
 import { copyRows } from '../db/pg-copy.js';
 import { prepared } from '../db/prepared.js';
-import { UploadKeyRegister } from './upload-keys.js';
 import type { CampaignContactsTable, CustomersTable, Database, IngestsTable, RejectedRowsTable, SalesTable } from '../db/tables.js';
 
 /** Where the per-row statements of one upload run. */
@@ -105,28 +104,6 @@ export async function hasStoredRows(db: Executor, kind: 'customers' | 'sales' | 
       if (campaignId === null) throw new Error('a contacts lookup needs its campaign id');
       return (await db.selectFrom('campaign_contacts').select('customer_id').where('campaign_id', '=', campaignId).limit(1).executeTakeFirst()) !== undefined;
   }
-}
-
-/**
- * The keys one upload has accepted so far, each with the line it came on, so that a key the
- * upload repeats is refused naming the line of its first occurrence.
- */
-export interface UploadKeys {
-  /** Records `key` as seen on `line` and returns null, or returns the line it was first seen on. */
-  firstSeenOn(key: string, line: number): number | null;
-  /** Forgets every key (at the end of the upload). */
-  clear(): void;
-}
-
-/**
- * The register of an upload's keys, on either engine: compact typed arrays in memory
- * (`UploadKeyRegister`, src/ingest/upload-keys.ts). It takes nothing from the database, so a
- * rolled-back upload leaves nothing behind. Throws nothing.
- *
- * @example const keys = await openUploadKeys(store); keys.firstSeenOn('C1', 2) // → null; keys.firstSeenOn('C1', 9) // → 2
- */
-export async function openUploadKeys(_store: UploadStore): Promise<UploadKeys> {
-  return Promise.resolve(new UploadKeyRegister());
 }
 
 export interface StoredCustomer {

@@ -21,6 +21,7 @@ import { LabelNotes } from './label-notes.js';
 import { DEFAULT_PARSE_LIMITS, MalformedBodyError, parseRecords, type CsvDelimiter, type ParsedRecord, type UploadFormat } from './parse.js';
 import type { Receipt } from './receipt.js';
 import * as repository from './repository.js';
+import { UploadKeyRegister } from './upload-keys.js';
 import type { RowError } from './row-checks.js';
 import type { SnapshotRedaction } from './erasure.js';
 
@@ -171,7 +172,8 @@ async function storeUpload(deps: IngestDependencies, request: UploadRequest, spo
     if (request.campaignId !== null) await repository.ensureCampaign(trx, request.campaignId, receivedAt);
     const batchRows = store.sqlite === null ? BATCH_ROWS.postgres : BATCH_ROWS.sqlite;
     const mayExist = await repository.hasStoredRows(trx, request.kind, request.campaignId);
-    const seenKeys = await repository.openUploadKeys(store);
+    // The upload's keys with the line of each one's first occurrence, held in memory only.
+    const seenKeys = new UploadKeyRegister();
     const problems: RowProblem[] = [];
     const rejectedRows: RejectedRowsTable[] = [];
     const totals = { rows: 0, inserted: 0, updated: 0, unchanged: 0, rejected: 0, holdout: 0 };
