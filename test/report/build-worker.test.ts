@@ -52,6 +52,14 @@ function dependencies(testApp: TestApp, snapshots: SnapshotBuilder): ReportDepen
   return reportDependencies(testApp.database.handle, silent, today, { publicationThreshold: testApp.config.publicationThreshold, maxLabelsPerDimension: 100 }, snapshots);
 }
 
+/** The build job of a refresh of the demo report over the demo data, recorded on the main thread. */
+async function demoBuildJob(testApp: TestApp): Promise<SnapshotBuildJob> {
+  await loadDemoData(testApp.app, generateDemoData());
+  const jobs: SnapshotBuildJob[] = [];
+  await refreshReport(dependencies(testApp, recording(createSnapshotBuilder({ workers: 0, timeoutMs: 1000, logger: silent }), jobs)), (await createReport(testApp.app, DEMO_REPORT)).report_id, 'manual');
+  return jobs[0] as SnapshotBuildJob;
+}
+
 describe('snapshots built on a worker thread', () => {
   let testApp: TestApp;
   const reportIds: string[] = [];
@@ -196,10 +204,7 @@ describe('a snapshot build worker that fails', () => {
     const pool = createSnapshotBuilder({ workers: 1, timeoutMs: 8000, logger: logs.logger, workerEntry: FAILING_WORKER });
     const testApp = await createTestApp('sqlite', REPORT_TEST_SETTINGS, today);
     try {
-      await loadDemoData(testApp.app, generateDemoData());
-      const jobs: SnapshotBuildJob[] = [];
-      await refreshReport(dependencies(testApp, recording(createSnapshotBuilder({ workers: 0, timeoutMs: 1000, logger: silent }), jobs)), (await createReport(testApp.app, DEMO_REPORT)).report_id, 'manual');
-      const job = jobs[0] as SnapshotBuildJob;
+      const job = await demoBuildJob(testApp);
       const named = (reportName: string): SnapshotBuildJob => ({ ...job, input: { ...job.input, identity: { ...job.input.identity, reportName } } });
 
       await expect(pool.build(job)).resolves.toMatchObject({ summary: { snapshot_id: job.input.identity.snapshotId } });
@@ -251,10 +256,7 @@ describe('an idle snapshot build worker', () => {
     process.on('worker', onWorker);
     const testApp = await createTestApp('sqlite', REPORT_TEST_SETTINGS, today);
     try {
-      await loadDemoData(testApp.app, generateDemoData());
-      const jobs: SnapshotBuildJob[] = [];
-      await refreshReport(dependencies(testApp, recording(createSnapshotBuilder({ workers: 0, timeoutMs: 1000, logger: silent }), jobs)), (await createReport(testApp.app, DEMO_REPORT)).report_id, 'manual');
-      const job = jobs[0] as SnapshotBuildJob;
+      const job = await demoBuildJob(testApp);
 
       const first = await pool.build(job);
       expect(started).toHaveLength(1);
